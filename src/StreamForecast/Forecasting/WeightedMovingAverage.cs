@@ -1,0 +1,312 @@
+using System.Collections.Immutable;
+using System.Globalization;
+using StreamForecast.Internal;
+
+namespace StreamForecast.Forecasting;
+
+/// <summary>The order in which weights are given to <see cref="WeightedMovingAverageOptions"/>.</summary>
+public enum WeightOrder
+{
+    /// <summary>The first weight applies to the most recent period (the default, as usually printed: 3, 2, 1).</summary>
+    MostRecentFirst = 0,
+
+    /// <summary>The first weight applies to the oldest period in the window.</summary>
+    OldestFirst = 1,
+}
+
+/// <summary>
+/// Options for the weighted moving-average forecast: F(t) = Σ wᵢ·y(t−i) / Σ wᵢ over the n periods before t,
+/// with caller-given weights (integers or fractions: the division by their sum makes both work).
+/// </summary>
+/// <remarks>
+/// Immutable and thread-safe. Validated at construction. Weights proportional to n, n−1, …, 1 (most recent
+/// heaviest) are recognised and run in O(1) per update; any other weights cost one O(n) vectorised dot product.
+/// </remarks>
+public sealed record WeightedMovingAverageOptions : ForecasterOptions
+{
+    private readonly ImmutableArray<double> _weights;
+
+    /// <summary>Creates weighted moving-average options.</summary>
+    /// <param name="weights">
+    /// One weight per period in the window, 1 to 1,000,000 of them: finite, non-negative, not all zero.
+    /// </param>
+    /// <param name="order">Which end of the window the first weight applies to; by default the most recent period.</param>
+    /// <exception cref="ArgumentOutOfRangeException">A weight is negative or not finite, or there are no or too many weights.</exception>
+    /// <exception cref="ArgumentException">All weights are zero.</exception>
+    public WeightedMovingAverageOptions(ReadOnlySpan<double> weights, WeightOrder order = WeightOrder.MostRecentFirst)
+    {
+        if (weights.Length is < 1 or > MovingAverageOptions.MaxLength)
+        {
+            ThrowHelper.ThrowOutOfRange(nameof(weights), weights.Length, "give between 1 and 1,000,000 weights, one per period in the window");
+        }
+
+        if (order is not (WeightOrder.MostRecentFirst or WeightOrder.OldestFirst))
+        {
+            ThrowHelper.ThrowOutOfRange(nameof(order), order, "the order must be MostRecentFirst or OldestFirst");
+        }
+
+        double total = 0;
+        for (int i = 0; i < weights.Length; i++)
+        {
+            double w = weights[i];
+            if (!double.IsFinite(w) || w < 0)
+            {
+                ThrowHelper.ThrowOutOfRange(nameof(weights), w, string.Create(CultureInfo.InvariantCulture, $"weight {i + 1} must be finite and non-negative"));
+            }
+
+            total += w;
+        }
+
+        if (!(total > 0))
+        {
+            ThrowHelper.ThrowArgument(nameof(weights), "The weights must not all be zero: the forecast divides by their sum.");
+        }
+
+        var builder = ImmutableArray.CreateBuilder<double>(weights.Length);
+        for (int i = 0; i < weights.Length; i++)
+        {
+            builder.Add(order == WeightOrder.MostRecentFirst ? weights[i] : weights[weights.Length - 1 - i]);
+        }
+
+        _weights = builder.MoveToImmutable();
+        IsLinear = DetectLinear(_weights.AsSpan());
+    }
+
+    /// <summary>The weights, most recent period first, as given (not normalised).</summary>
+    public ImmutableArray<double> Weights => _weights;
+
+    /// <summary>The window length n (the number of weights).</summary>
+    public int Length => _weights.Length;
+
+    /// <summary>Whether the weights are proportional to n, n−1, …, 1 with the most recent heaviest (the O(1) path).</summary>
+    public bool IsLinear { get; }
+
+    /// <inheritdoc/>
+    public override string MethodName =>
+        string.Create(CultureInfo.InvariantCulture, $"WMA({string.Join('/', _weights)})");
+
+    /// <inheritdoc/>
+    public override Forecaster CreateForecaster() => new WeightedMovingAverage(this);
+
+    /// <summary>Equal when the weights are equal element by element.</summary>
+    /// <param name="other">The other options.</param>
+    /// <returns>Whether both describe the same forecast.</returns>
+    public bool Equals(WeightedMovingAverageOptions? other) =>
+        other is not null && _weights.AsSpan().SequenceEqual(other._weights.AsSpan());
+
+    /// <inheritdoc/>
+    public override int GetHashCode()
+    {
+        var hash = default(HashCode);
+        foreach (double w in _weights)
+        {
+            hash.Add(w);
+        }
+
+        return hash.ToHashCode();
+    }
+
+    private static bool DetectLinear(ReadOnlySpan<double> mostRecentFirst)
+    {
+        int n = mostRecentFirst.Length;
+        double scale = mostRecentFirst[0] / n;
+        for (int i = 0; i < n; i++)
+        {
+            double expected = scale * (n - i);
+            if (Math.Abs(mostRecentFirst[i] - expected) > 1e-12 * Math.Abs(expected))
+            {
+                return false;
+            }
+        }
+
+        return true;
+    }
+}
+
+/// <summary>The weighted moving-average forecast of one series. Create it from <see cref="WeightedMovingAverageOptions"/>.</summary>
+/// <remarks>
+/// <para><b>Cost.</b> Linearly decaying weights (n, n−1, …, 1): O(1) per update. With S the window sum and W the
+/// weighted sum, a new actual x gives W ← W − S + n·x (every weight drops by one; the oldest reaches zero) and
+/// S ← S + x − oldest, both compensated (Neumaier) and re-seeded from the window once per n updates, so the
+/// error is bounded by one window's rounding however long the series runs. Other weights: one O(n) dot product per
+/// update, vectorised for long windows. Allocation-free after creation.</para>
+/// <para><b>Warm-up.</b> Warm after n actuals. <b>Horizon:</b> flat forecast, error variance ratio 1.</para>
+/// <para><b>Thread safety.</b> Not thread-safe; one owner per series.</para>
+/// </remarks>
+public sealed class WeightedMovingAverage : Forecaster
+{
+    private readonly WeightedMovingAverageOptions _options;
+    private readonly double[] _chronologicalWeights; // oldest first
+    private readonly double _weightSum;
+    private readonly bool _linear;
+    private RingWindow _window;
+    private CompensatedSum _sum;      // linear path: S
+    private CompensatedSum _weighted; // linear path: W with integer weights 1 (oldest) … n (newest)
+    private double _forecast;         // arbitrary path: cached once warm
+
+    /// <summary>Creates an empty forecaster.</summary>
+    /// <param name="options">Validated options.</param>
+    /// <exception cref="ArgumentNullException"><paramref name="options"/> is null.</exception>
+    public WeightedMovingAverage(WeightedMovingAverageOptions options)
+    {
+        ArgumentNullException.ThrowIfNull(options);
+        _options = options;
+        int n = options.Length;
+        _window = new RingWindow(n);
+        _linear = options.IsLinear;
+        _chronologicalWeights = new double[n];
+        double total = 0;
+        for (int i = 0; i < n; i++)
+        {
+            _chronologicalWeights[i] = options.Weights[n - 1 - i];
+            total += options.Weights[i];
+        }
+
+        _weightSum = _linear ? n * (n + 1) / 2.0 : total;
+    }
+
+    /// <inheritdoc/>
+    public override ForecasterOptions Options => _options;
+
+    /// <inheritdoc/>
+    public override bool IsWarm => _window.IsFull;
+
+    private protected override void UpdateCore(double actual)
+    {
+        if (_linear)
+        {
+            double previousSum = _sum.Value;
+            double evicted = _window.Push(actual);
+            if (_window.NextIndex == 0)
+            {
+                Reseed();
+            }
+            else
+            {
+                _weighted.Add(-previousSum);
+                _weighted.Add(_window.Length * actual);
+                _sum.Add(actual);
+                _sum.Add(-evicted);
+            }
+        }
+        else
+        {
+            _window.Push(actual);
+            if (_window.IsFull)
+            {
+                _forecast = WeightedSum(_window, _chronologicalWeights) / _weightSum;
+            }
+        }
+    }
+
+    private protected override double ForecastCore(int horizon) => _linear ? _weighted.Value / _weightSum : _forecast;
+
+    private protected override double HorizonVarianceRatioCore(int horizon) => 1.0;
+
+    private protected override void ResetCore()
+    {
+        _window.Clear();
+        _sum = default;
+        _weighted = default;
+        _forecast = 0;
+    }
+
+    // Layout: raw ring (n); linear path adds S (2 numbers) and W (2 numbers).
+    private protected override int CoreStateLength => _window.Length + (_linear ? 4 : 0);
+
+    private protected override void ExportCore(Span<double> destination)
+    {
+        int n = _window.Length;
+        _window.CopyRawTo(destination);
+        if (_linear)
+        {
+            _sum.CopyTo(destination.Slice(n, 2));
+            _weighted.CopyTo(destination.Slice(n + 2, 2));
+        }
+    }
+
+    private protected override string? ValidateCore(ReadOnlySpan<double> state, long count)
+    {
+        int n = _window.Length;
+        ReadOnlySpan<double> raw = state[..n];
+        if (!RingWindow.RawFits(raw, count))
+        {
+            return "slots not yet filled must be zero";
+        }
+
+        if (!_linear)
+        {
+            return null;
+        }
+
+        var probe = new RingWindow(n);
+        probe.LoadRaw(raw, count);
+        ReadOnlySpan<double> sums = state.Slice(n, 4);
+        bool sumAgrees = CompensatedSum.Agrees(sums[..2], raw);
+        double weighted = LinearWeightedSum(probe, out double magnitude);
+        double stored = sums[2] + sums[3];
+        return sumAgrees && Math.Abs(stored - weighted) <= (1e-9 * magnitude) + double.Epsilon
+            ? null
+            : "the running sums do not match the window";
+    }
+
+    private protected override void ImportCore(ReadOnlySpan<double> state, long count)
+    {
+        int n = _window.Length;
+        _window.LoadRaw(state[..n], count);
+        if (_linear)
+        {
+            _sum.LoadFrom(state.Slice(n, 2));
+            _weighted.LoadFrom(state.Slice(n + 2, 2));
+        }
+        else
+        {
+            _forecast = _window.IsFull ? WeightedSum(_window, _chronologicalWeights) / _weightSum : 0;
+        }
+    }
+
+    private void Reseed()
+    {
+        _sum.Reset(_window.Raw);
+        _weighted = default;
+        ReadOnlySpan<double> older = _window.Older;
+        ReadOnlySpan<double> newer = _window.Newer;
+        int k = 1;
+        for (int i = 0; i < older.Length; i++, k++)
+        {
+            _weighted.Add(k * older[i]);
+        }
+
+        for (int i = 0; i < newer.Length; i++, k++)
+        {
+            _weighted.Add(k * newer[i]);
+        }
+    }
+
+    private static double LinearWeightedSum(RingWindow window, out double magnitude)
+    {
+        var sum = default(CompensatedSum);
+        magnitude = 0;
+        int k = window.Length - window.Filled + 1; // while filling, the oldest value has weight n − filled + 1
+        foreach (double x in window.Older)
+        {
+            sum.Add(k * x);
+            magnitude += k++ * Math.Abs(x);
+        }
+
+        foreach (double x in window.Newer)
+        {
+            sum.Add(k * x);
+            magnitude += k++ * Math.Abs(x);
+        }
+
+        return sum.Value;
+    }
+
+    private static double WeightedSum(RingWindow window, double[] chronologicalWeights)
+    {
+        ReadOnlySpan<double> older = window.Older;
+        ReadOnlySpan<double> weights = chronologicalWeights;
+        return VectorMath.Dot(older, weights[..older.Length]) + VectorMath.Dot(window.Newer, weights[older.Length..]);
+    }
+}
