@@ -1,0 +1,189 @@
+using System.Globalization;
+using StreamForecast.Forecasting;
+using StreamForecast.Internal;
+
+namespace StreamForecast.Tracking;
+
+/// <summary>What one period step of a <see cref="TrackedForecaster"/> did.</summary>
+/// <param name="Actual">The period's actual.</param>
+/// <param name="Forecast">The forecast that was made for the period; NaN when the forecaster was not warm yet.</param>
+/// <param name="Error">The period's error (sign: see <see cref="ErrorTracker"/>); NaN when the period was not scored.</param>
+/// <remarks>An immutable value; safe to share across threads.</remarks>
+public readonly record struct PeriodScore(double Actual, double Forecast, double Error)
+{
+    /// <summary>Whether the period had a forecast and was scored.</summary>
+    public bool IsScored => !double.IsNaN(Forecast);
+}
+
+/// <summary>
+/// One series' forecaster and error tracker stepped together: each actual first scores the forecast that was made for
+/// its period, then updates the forecaster.
+/// </summary>
+/// <remarks>
+/// <para><b>Why here.</b> This type lives in <c>StreamForecast.Tracking</c> because it depends on both layers while
+/// the forecasting operators know nothing of tracking; keeping it out of <c>StreamForecast.Forecasting</c> keeps that
+/// dependency one-way.</para>
+/// <para><b>One step.</b> <see cref="Update"/> validates the actual, takes the one-step forecast made before the
+/// actual was known (if the forecaster is warm), updates the forecaster (which checks the method's domain before
+/// changing anything) and only then records the error, or records the actual as unscored when there was no forecast.
+/// A forecast is always scored against the actual of the period it was made for, never against a later revision.
+/// A rejected actual leaves both states exactly as they were.</para>
+/// <para><b>Ownership.</b> The pair is created and owned here. <see cref="Forecaster"/> and <see cref="Tracker"/> are
+/// exposed for reading; updating either directly puts them out of step.</para>
+/// <para><b>Cost.</b> The forecaster's update cost plus O(1); allocation-free. <b>Thread safety:</b> not thread-safe;
+/// one owner per series.</para>
+/// </remarks>
+public sealed class TrackedForecaster
+{
+    private readonly Forecaster _forecaster;
+    private readonly ErrorTracker _tracker;
+
+    /// <summary>Creates an empty forecaster and tracker for one series.</summary>
+    /// <param name="forecasterOptions">The forecasting method.</param>
+    /// <param name="trackerOptions">The error-tracking settings; <see cref="ErrorTrackerOptions.Default"/> when null.</param>
+    /// <exception cref="ArgumentNullException"><paramref name="forecasterOptions"/> is null.</exception>
+    public TrackedForecaster(ForecasterOptions forecasterOptions, ErrorTrackerOptions? trackerOptions = null)
+    {
+        ArgumentNullException.ThrowIfNull(forecasterOptions);
+        _forecaster = forecasterOptions.CreateForecaster();
+        _tracker = (trackerOptions ?? ErrorTrackerOptions.Default).CreateTracker();
+    }
+
+    /// <summary>The forecaster, for reading (forecasts, warm-up, horizon variance ratios).</summary>
+    public Forecaster Forecaster => _forecaster;
+
+    /// <summary>The error tracker, for reading the statistics.</summary>
+    public ErrorTracker Tracker => _tracker;
+
+    /// <summary>The number of periods stepped (the forecaster's <see cref="Forecaster.Count"/>).</summary>
+    public long Count => _forecaster.Count;
+
+    /// <summary>The error of the last scored period (sign: see <see cref="ErrorTracker"/>); NaN before the first.</summary>
+    public double LastError => _tracker.LastError;
+
+    /// <summary>Steps one period: scores the forecast made for it (if any), then updates the forecaster.</summary>
+    /// <param name="actual">The period's actual; must be finite and inside the method's domain.</param>
+    /// <returns>The actual, the forecast that was scored and the error; forecast and error are NaN when the forecaster was not warm.</returns>
+    /// <exception cref="ArgumentOutOfRangeException">
+    /// <paramref name="actual"/> is NaN, infinite, outside the method's domain, or would make a statistic overflow.
+    /// Neither the forecaster nor the tracker changes.
+    /// </exception>
+    /// <remarks>Allocation-free; the forecaster's update cost plus O(1). Not thread-safe.</remarks>
+    public PeriodScore Update(double actual)
+    {
+        if (!double.IsFinite(actual))
+        {
+            ThrowHelper.ThrowNonFiniteActual(actual);
+        }
+
+        // The forecast for this period was fixed before its actual arrived: read it before the update.
+        bool scored = _forecaster.TryForecast(1, out double forecast);
+        ErrorTracker.Staged staged;
+        if (scored)
+        {
+            _tracker.StageScored(actual, forecast, out staged);
+        }
+        else
+        {
+            _tracker.StageUnscored(actual, out staged);
+        }
+
+        _forecaster.Update(actual); // validates the method's domain before changing anything
+        _tracker.Commit(in staged);
+        return scored ? new PeriodScore(actual, forecast, staged.Error) : new PeriodScore(actual, double.NaN, double.NaN);
+    }
+
+    /// <summary>The forecast <paramref name="horizon"/> periods ahead with its prediction interval.</summary>
+    /// <param name="horizon">Periods ahead, 1 or more.</param>
+    /// <param name="z">The normal multiplier, for example <see cref="NormalMultiplier.Coverage95"/>; finite and above zero.</param>
+    /// <param name="forecast">The point forecast, or NaN when the result is <see langword="false"/>.</param>
+    /// <param name="interval">
+    /// forecast ± z·σ·√r with σ = <see cref="ErrorTracker.Sigma"/> and r the forecaster's
+    /// <see cref="Forecaster.HorizonVarianceRatio"/>; NaN bounds while σ is unknown or when the result is false.
+    /// </param>
+    /// <returns>Whether the forecaster is warm.</returns>
+    /// <exception cref="ArgumentOutOfRangeException"><paramref name="horizon"/> is below 1 or <paramref name="z"/> is not finite and positive.</exception>
+    /// <remarks>O(1), allocation-free. Does not change the state.</remarks>
+    public bool TryForecast(int horizon, double z, out double forecast, out PredictionInterval interval)
+    {
+        if (!(z > 0 && double.IsFinite(z)))
+        {
+            ThrowHelper.ThrowOutOfRange(nameof(z), z, "the normal multiplier z must be finite and above zero (1.96 for 95 %)");
+        }
+
+        if (!_forecaster.TryForecast(horizon, out forecast))
+        {
+            interval = new PredictionInterval(double.NaN, double.NaN);
+            return false;
+        }
+
+        interval = _tracker.GetPredictionInterval(forecast, _forecaster.HorizonVarianceRatio(horizon), z);
+        return true;
+    }
+
+    /// <summary>Forgets every period: both the forecaster and the tracker are as if just created.</summary>
+    public void Reset()
+    {
+        _forecaster.Reset();
+        _tracker.Reset();
+    }
+
+    /// <summary>How many numbers <see cref="ExportState(Span{double})"/> writes: the forecaster's state then the tracker's.</summary>
+    public int StateLength => _forecaster.StateLength + _tracker.StateLength;
+
+    /// <summary>Writes both states into <paramref name="destination"/>: the forecaster's first, then the tracker's.</summary>
+    /// <param name="destination">At least <see cref="StateLength"/> numbers long.</param>
+    /// <exception cref="ArgumentException"><paramref name="destination"/> is too short.</exception>
+    /// <remarks>Allocation-free.</remarks>
+    public void ExportState(Span<double> destination)
+    {
+        if (destination.Length < StateLength)
+        {
+            ThrowHelper.ThrowArgument(nameof(destination), string.Create(CultureInfo.InvariantCulture, $"The destination holds {destination.Length} numbers; the state needs {StateLength}."));
+        }
+
+        int split = _forecaster.StateLength;
+        _forecaster.ExportState(destination[..split]);
+        _tracker.ExportState(destination.Slice(split, _tracker.StateLength));
+    }
+
+    /// <summary>Returns both states as a new array of <see cref="StateLength"/> numbers.</summary>
+    /// <returns>The exported state.</returns>
+    public double[] ExportState()
+    {
+        var state = new double[StateLength];
+        ExportState(state);
+        return state;
+    }
+
+    /// <summary>Replaces both states with ones exported from a tracked forecaster created from equal options.</summary>
+    /// <param name="state">Exactly <see cref="StateLength"/> numbers from <see cref="ExportState(Span{double})"/>.</param>
+    /// <exception cref="ArgumentException">
+    /// Either part is invalid (see <see cref="Forecaster.ImportState"/> and <see cref="ErrorTracker.ImportState"/>) or the
+    /// two parts disagree on the number of periods. Nothing is imported.
+    /// </exception>
+    public void ImportState(ReadOnlySpan<double> state)
+    {
+        if (state.Length != StateLength)
+        {
+            ThrowHelper.ThrowArgument(nameof(state), string.Create(CultureInfo.InvariantCulture, $"The state has {state.Length} numbers; a tracked {_forecaster.Options.MethodName} forecaster needs {StateLength}. Nothing was imported."));
+        }
+
+        int split = _forecaster.StateLength;
+        ReadOnlySpan<double> trackerState = state[split..];
+        string? problem = _tracker.Validate(trackerState);
+        if (problem is not null)
+        {
+            ErrorTracker.ThrowInvalidState(problem);
+        }
+
+        // Every period steps both: the forecaster's count (the first number of its state) equals the tracker's actual count.
+        if (state[0] != ErrorTracker.ActualCountOf(trackerState))
+        {
+            ThrowHelper.ThrowArgument(nameof(state), "The forecaster and tracker parts of the state disagree on the number of periods. Nothing was imported.");
+        }
+
+        _forecaster.ImportState(state[..split]); // validates its part and throws before changing anything
+        _tracker.ImportValidated(trackerState);
+    }
+}
