@@ -1,0 +1,469 @@
+using System.Diagnostics;
+using StreamForecast.Internal;
+
+namespace StreamForecast.Alerts;
+
+/// <summary>
+/// The mutable alert state of one series for one drift rule: it takes one <see cref="DriftInput"/> per scored period
+/// with <see cref="Evaluate"/> and returns what changed as a <see cref="DriftTransition"/>. Create one from a validated
+/// <see cref="DriftRuleOptions"/> with <see cref="DriftRuleOptions.CreateRule"/>.
+/// </summary>
+/// <remarks>
+/// <para><b>Episodes.</b> Each period the rule turns its input into evidence for under-forecasting and for
+/// over-forecasting (see the rule's documentation) and runs one state machine, the same for every rule:</para>
+/// <list type="bullet">
+/// <item><description><b>Raise.</b> With no open episode, once the warm-up is served, an episode opens when one side's evidence has
+/// reached <see cref="DriftRuleOptions.RaiseLevel"/> for <see cref="DriftRuleOptions.PeriodsToRaise"/> consecutive periods
+/// (if both sides qualify, the larger evidence wins). It gets the next episode id and is <see cref="DriftSeverity.Critical"/>
+/// at once if the evidence has also reached the escalation level for that many periods, else <see cref="DriftSeverity.Warning"/>.</description></item>
+/// <item><description><b>Escalate.</b> A Warning episode becomes Critical when its side's evidence has reached
+/// <see cref="DriftRuleOptions.EscalationLevel"/> for <see cref="DriftRuleOptions.PeriodsToRaise"/> consecutive periods. Severity never
+/// steps down while the episode is open.</description></item>
+/// <item><description><b>Clear.</b> The episode closes when its own side's evidence has been at or below
+/// <see cref="DriftRuleOptions.ClearLevel"/> for <see cref="DriftRuleOptions.PeriodsToClear"/> consecutive periods. Only the
+/// episode's side counts: evidence for the other direction below the raise level does not keep it open.</description></item>
+/// <item><description><b>Reverse.</b> If the other side's evidence meets the raise rule while the episode is open, the episode closes
+/// with <see cref="DriftCloseReason.DirectionReversed"/>. Only one transition is returned per call, so the new episode in
+/// the other direction is raised on the next period that still meets the raise rule (one period later when the
+/// evidence persists).</description></item>
+/// </list>
+/// <para>Levels are inclusive with a relative tolerance of 10⁻⁶ (<see cref="DriftRuleOptions.LevelTolerance"/>). While an
+/// episode stays open and unchanged, <see cref="Evaluate"/> returns <see cref="DriftTransitionKind.None"/>, so every
+/// returned transition is worth publishing once.</para>
+/// <para><b>Warm-up.</b> Raising is suppressed until <see cref="PeriodsObserved"/> reaches
+/// <see cref="DriftRuleOptions.WarmUpPeriods"/> (<see cref="IsWarm"/>). The statistic itself (the CUSUM sums, the
+/// consecutive-period counts) runs during the warm-up.</para>
+/// <para><b>Episode ids</b> are a per-rule sequence number: the first episode is 1, each raise adds 1. The counter is part
+/// of the exported state, so a rule restored from a snapshot continues the numbering; no clocks or random ids are used.
+/// <see cref="Acknowledge"/> and <see cref="Rebaseline"/> keep the counter; <see cref="Reset"/> restarts it.</para>
+/// <para><b>Bad input.</b> A field the rule reads that is NaN, infinite or out of its domain is rejected with
+/// <see cref="ArgumentOutOfRangeException"/> and the state is left exactly as it was.</para>
+/// <para><b>Cost.</b> <see cref="Evaluate"/> is O(1), allocation-free and returns a small struct.</para>
+/// <para><b>Snapshots.</b> <see cref="ExportState(Span{double})"/> writes the full state as <see cref="StateLength"/>
+/// plain numbers; <see cref="ImportState"/> validates and reads it back into a rule created from equal options. Continuing
+/// after an import gives identical transitions, episode ids included.</para>
+/// <para><b>Thread safety.</b> Not thread-safe: one owner (one thread or one reader loop at a time) evaluates and reads a
+/// rule. Different rules are independent.</para>
+/// </remarks>
+public abstract class DriftRule
+{
+    // Exported layout: periods, last episode id, direction (+1 under, −1 over, 0 none), severity (0, 1, 2),
+    // under run, over run, under escalation run, over escalation run, clear run, last under evidence, last over evidence;
+    // then the rule's own numbers.
+    private const int HeaderLength = 11;
+    private const double MaxWholeNumber = 9007199254740992; // 2^53: every whole number up to it is exact in a double
+
+    private readonly DriftRuleOptions _settings;
+    private long _periods;
+    private long _episodeSequence;
+    private int _direction;
+    private DriftSeverity _severity;
+    private int _underRun;
+    private int _overRun;
+    private int _underEscalationRun;
+    private int _overEscalationRun;
+    private int _clearRun;
+    private double _lastUnder;
+    private double _lastOver;
+
+    private protected DriftRule(DriftRuleOptions options)
+    {
+        ArgumentNullException.ThrowIfNull(options);
+        _settings = options;
+    }
+
+    /// <summary>The validated options this rule was created from.</summary>
+    public abstract DriftRuleOptions Options { get; }
+
+    /// <summary>Which rule this is.</summary>
+    public DriftRuleKind Kind => _settings.Kind;
+
+    /// <summary>
+    /// The periods evaluated since the rule was created, reset or restarted by <see cref="Acknowledge"/> or
+    /// <see cref="Rebaseline"/>. Rejected inputs do not count.
+    /// </summary>
+    public long PeriodsObserved => _periods;
+
+    /// <summary>Whether the warm-up is served: <see cref="PeriodsObserved"/> ≥ <see cref="DriftRuleOptions.WarmUpPeriods"/>, so the rule may raise.</summary>
+    public bool IsWarm => _periods >= _settings.WarmUpPeriods;
+
+    /// <summary>Whether an episode is open.</summary>
+    public bool IsOpen => _direction != 0;
+
+    /// <summary>The open episode's id, or 0 when no episode is open.</summary>
+    public long EpisodeId => _direction != 0 ? _episodeSequence : 0;
+
+    /// <summary>The id of the most recent episode, open or closed (0 before the first); the next episode gets this plus one.</summary>
+    public long LastEpisodeId => _episodeSequence;
+
+    /// <summary>The open episode's direction, or <see cref="DriftDirection.None"/>.</summary>
+    public DriftDirection Direction => ToDirection(_direction);
+
+    /// <summary>The open episode's severity, or <see cref="DriftSeverity.None"/>.</summary>
+    public DriftSeverity Severity => _severity;
+
+    /// <summary>Takes one scored period and returns what changed in the episode state.</summary>
+    /// <param name="input">The period's numbers; the rule reads only its own fields (see <see cref="DriftInput"/>).</param>
+    /// <returns>
+    /// The transition: <see cref="DriftTransitionKind.None"/> (the default value) when no episode opened, escalated or
+    /// closed in this period.
+    /// </returns>
+    /// <exception cref="ArgumentOutOfRangeException">
+    /// A field the rule reads is NaN, infinite or out of its domain. The state is unchanged.
+    /// </exception>
+    /// <remarks>O(1) and allocation-free. Not thread-safe.</remarks>
+    public DriftTransition Evaluate(in DriftInput input)
+    {
+        // The rule validates and updates its statistic; it throws before changing anything.
+        EvaluateCore(in input, out double under, out double over);
+        Debug.Assert(double.IsFinite(under) && double.IsFinite(over));
+
+        DriftRuleOptions o = _settings;
+        int cap = o.PeriodsToRaise;
+        _periods++;
+        _lastUnder = under;
+        _lastOver = over;
+        _underRun = under >= o.RaiseThreshold ? Math.Min(_underRun + 1, cap) : 0;
+        _overRun = over >= o.RaiseThreshold ? Math.Min(_overRun + 1, cap) : 0;
+        _underEscalationRun = under >= o.EscalationThreshold ? Math.Min(_underEscalationRun + 1, cap) : 0;
+        _overEscalationRun = over >= o.EscalationThreshold ? Math.Min(_overEscalationRun + 1, cap) : 0;
+
+        return _direction == 0 ? TryRaise() : FollowEpisode();
+    }
+
+    /// <summary>
+    /// Acknowledges the open episode: closes it and restarts the rule's statistic and warm-up. Does nothing when no
+    /// episode is open.
+    /// </summary>
+    /// <returns>
+    /// A <see cref="DriftTransitionKind.Cleared"/> transition with <see cref="DriftCloseReason.Acknowledged"/> when an episode
+    /// was open; otherwise <see cref="DriftTransitionKind.None"/> and the state is unchanged.
+    /// </returns>
+    /// <remarks>
+    /// Use it when someone has dealt with the cause, so the alert does not stay red. The rule forgets its own statistic
+    /// (the CUSUM sums, the consecutive-period counts) and serves the warm-up again; episode numbering continues.
+    /// The tracking-signal and Trigg rules read signals that live in the owner's error tracker: reset that tracker too,
+    /// or a signal still beyond the limit raises a new episode as soon as the warm-up is served. O(1).
+    /// </remarks>
+    public DriftTransition Acknowledge() => _direction == 0 ? default : Restart(DriftCloseReason.Acknowledged);
+
+    /// <summary>
+    /// Restarts the rule's statistic and warm-up, for example after the forecast method or its level was changed,
+    /// closing the open episode if there is one.
+    /// </summary>
+    /// <returns>
+    /// A <see cref="DriftTransitionKind.Cleared"/> transition with <see cref="DriftCloseReason.Rebaselined"/> when an episode
+    /// was open; otherwise <see cref="DriftTransitionKind.None"/>.
+    /// </returns>
+    /// <remarks>
+    /// Unlike <see cref="Acknowledge"/>, it always restarts. Episode numbering continues. As with <see cref="Acknowledge"/>,
+    /// reset the owner's error tracker too for the tracking-signal and Trigg rules. O(1).
+    /// </remarks>
+    public DriftTransition Rebaseline() => Restart(DriftCloseReason.Rebaselined);
+
+    /// <summary>
+    /// Forgets everything: the rule is as if just created from <see cref="Options"/>, episode numbering included. An open
+    /// episode is dropped without a transition.
+    /// </summary>
+    /// <remarks>
+    /// Meant for reusing a rule for a different series. In a live stream use <see cref="Rebaseline"/>, which publishes the
+    /// close and keeps episode ids unique.
+    /// </remarks>
+    public void Reset()
+    {
+        RestartStatistics();
+        _episodeSequence = 0;
+    }
+
+    /// <summary>How many numbers <see cref="ExportState(Span{double})"/> writes; fixed by the rule kind.</summary>
+    public int StateLength => HeaderLength + CoreStateLength;
+
+    /// <summary>Writes the full state into <paramref name="destination"/> as plain numbers.</summary>
+    /// <param name="destination">At least <see cref="StateLength"/> numbers long.</param>
+    /// <exception cref="ArgumentException"><paramref name="destination"/> is too short.</exception>
+    /// <remarks>Allocation-free. The layout is private to the rule and versioned with the library.</remarks>
+    public void ExportState(Span<double> destination)
+    {
+        if (destination.Length < StateLength)
+        {
+            ThrowHelper.ThrowArgument(nameof(destination), $"The destination holds {destination.Length} numbers; the state needs {StateLength}.");
+        }
+
+        destination[0] = _periods;
+        destination[1] = _episodeSequence;
+        destination[2] = _direction;
+        destination[3] = (int)_severity;
+        destination[4] = _underRun;
+        destination[5] = _overRun;
+        destination[6] = _underEscalationRun;
+        destination[7] = _overEscalationRun;
+        destination[8] = _clearRun;
+        destination[9] = _lastUnder;
+        destination[10] = _lastOver;
+        ExportCore(destination.Slice(HeaderLength, CoreStateLength));
+    }
+
+    /// <summary>Returns the full state as a new array of <see cref="StateLength"/> numbers.</summary>
+    /// <returns>The exported state.</returns>
+    public double[] ExportState()
+    {
+        var state = new double[StateLength];
+        ExportState(state);
+        return state;
+    }
+
+    /// <summary>Replaces the state with one exported from a rule created from equal options.</summary>
+    /// <param name="state">Exactly <see cref="StateLength"/> numbers from <see cref="ExportState(Span{double})"/>.</param>
+    /// <exception cref="ArgumentException">
+    /// The state has the wrong length, a non-finite number, or values this rule cannot hold (counts that are not whole
+    /// or out of range, an episode without an id or during the warm-up, counts that contradict the stored evidence).
+    /// Nothing is imported.
+    /// </exception>
+    public void ImportState(ReadOnlySpan<double> state)
+    {
+        string? problem = Validate(state);
+        if (problem is not null)
+        {
+            DriftThrowHelper.ThrowInvalidState(_settings.RuleName, problem);
+        }
+
+        _periods = (long)state[0];
+        _episodeSequence = (long)state[1];
+        _direction = (int)state[2];
+        _severity = (DriftSeverity)(int)state[3];
+        _underRun = (int)state[4];
+        _overRun = (int)state[5];
+        _underEscalationRun = (int)state[6];
+        _overEscalationRun = (int)state[7];
+        _clearRun = (int)state[8];
+        _lastUnder = state[9];
+        _lastOver = state[10];
+        ImportCore(state[HeaderLength..]);
+    }
+
+    /// <summary>
+    /// Validates the rule's fields of <paramref name="input"/> (throwing before any change), then updates the rule's
+    /// statistic and returns this period's evidence for under- and over-forecasting (finite).
+    /// </summary>
+    private protected abstract void EvaluateCore(in DriftInput input, out double underEvidence, out double overEvidence);
+
+    /// <summary>Clears the rule's own statistic.</summary>
+    private protected abstract void ResetCore();
+
+    /// <summary>The number of rule-specific state numbers.</summary>
+    private protected abstract int CoreStateLength { get; }
+
+    /// <summary>Writes the rule-specific state (exactly <see cref="CoreStateLength"/> numbers).</summary>
+    private protected abstract void ExportCore(Span<double> destination);
+
+    /// <summary>
+    /// Returns why the rule-specific <paramref name="core"/> (all finite, right length) cannot be imported together with
+    /// the last evidence, or null if it can. <paramref name="periods"/> is the imported period count.
+    /// </summary>
+    private protected abstract string? ValidateCore(ReadOnlySpan<double> core, double lastUnder, double lastOver, long periods);
+
+    /// <summary>Reads rule-specific state that <see cref="ValidateCore"/> accepted.</summary>
+    private protected abstract void ImportCore(ReadOnlySpan<double> core);
+
+    private static DriftDirection ToDirection(int direction) => direction switch
+    {
+        > 0 => DriftDirection.UnderForecast,
+        < 0 => DriftDirection.OverForecast,
+        _ => DriftDirection.None,
+    };
+
+    private DriftTransition TryRaise()
+    {
+        DriftRuleOptions o = _settings;
+        if (_periods < o.WarmUpPeriods)
+        {
+            return default;
+        }
+
+        bool under = _underRun >= o.PeriodsToRaise;
+        bool over = _overRun >= o.PeriodsToRaise;
+        if (!under && !over)
+        {
+            return default;
+        }
+
+        _direction = under && (!over || _lastUnder >= _lastOver) ? 1 : -1;
+        _episodeSequence++;
+        _clearRun = 0;
+        int escalationRun = _direction > 0 ? _underEscalationRun : _overEscalationRun;
+        _severity = escalationRun >= o.PeriodsToRaise ? DriftSeverity.Critical : DriftSeverity.Warning;
+        return Make(DriftTransitionKind.Raised, _direction * OwnEvidence(), _direction * o.RaiseLevel, DriftCloseReason.None);
+    }
+
+    private DriftTransition FollowEpisode()
+    {
+        DriftRuleOptions o = _settings;
+        int d = _direction;
+        if ((d > 0 ? _overRun : _underRun) >= o.PeriodsToRaise)
+        {
+            double opposite = d > 0 ? _lastOver : _lastUnder;
+            DriftTransition reversed = Make(DriftTransitionKind.Cleared, -d * opposite, -d * o.RaiseLevel, DriftCloseReason.DirectionReversed);
+            CloseEpisode();
+            return reversed;
+        }
+
+        double own = OwnEvidence();
+        if (own <= o.ClearThreshold)
+        {
+            _clearRun++;
+            if (_clearRun < o.PeriodsToClear)
+            {
+                return default;
+            }
+
+            DriftTransition cleared = Make(DriftTransitionKind.Cleared, d * own, d * o.ClearLevel, DriftCloseReason.SignalReturned);
+            CloseEpisode();
+            return cleared;
+        }
+
+        _clearRun = 0;
+        if (_severity == DriftSeverity.Warning && (d > 0 ? _underEscalationRun : _overEscalationRun) >= o.PeriodsToRaise)
+        {
+            _severity = DriftSeverity.Critical;
+            return Make(DriftTransitionKind.Escalated, d * own, d * o.EscalationLevel, DriftCloseReason.None);
+        }
+
+        return default;
+    }
+
+    private double OwnEvidence() => _direction > 0 ? _lastUnder : _lastOver;
+
+    private DriftTransition Make(DriftTransitionKind kind, double signal, double level, DriftCloseReason reason) =>
+        new(kind, _settings.Kind, _episodeSequence, ToDirection(_direction), _severity, signal, level, _periods, reason);
+
+    private void CloseEpisode()
+    {
+        _direction = 0;
+        _severity = DriftSeverity.None;
+        _clearRun = 0;
+    }
+
+    private DriftTransition Restart(DriftCloseReason reason)
+    {
+        DriftTransition closed = _direction == 0
+            ? default
+            : Make(DriftTransitionKind.Cleared, _direction * OwnEvidence(), _direction * _settings.ClearLevel, reason);
+        RestartStatistics();
+        return closed;
+    }
+
+    private void RestartStatistics()
+    {
+        _periods = 0;
+        _direction = 0;
+        _severity = DriftSeverity.None;
+        _underRun = 0;
+        _overRun = 0;
+        _underEscalationRun = 0;
+        _overEscalationRun = 0;
+        _clearRun = 0;
+        _lastUnder = 0;
+        _lastOver = 0;
+        ResetCore();
+    }
+
+    private string? Validate(ReadOnlySpan<double> state)
+    {
+        if (state.Length != StateLength)
+        {
+            return $"it has {state.Length} numbers, expected {StateLength}";
+        }
+
+        for (int i = 0; i < state.Length; i++)
+        {
+            if (!double.IsFinite(state[i]))
+            {
+                return $"number {i + 1} is not finite";
+            }
+        }
+
+        DriftRuleOptions o = _settings;
+        if (!IsWhole(state[0], MaxWholeNumber))
+        {
+            return "the period count must be a whole number ≥ 0";
+        }
+
+        if (!IsWhole(state[1], MaxWholeNumber))
+        {
+            return "the last episode id must be a whole number ≥ 0";
+        }
+
+        long periods = (long)state[0];
+        double direction = state[2];
+        double severity = state[3];
+        if (direction is not (-1 or 0 or 1))
+        {
+            return "the direction must be −1 (over-forecast), 0 (no episode) or 1 (under-forecast)";
+        }
+
+        if (direction == 0 ? severity != 0 : severity is not (1 or 2))
+        {
+            return "the severity must be 0 without an open episode and 1 or 2 with one";
+        }
+
+        int cap = o.PeriodsToRaise;
+        for (int i = 4; i <= 7; i++)
+        {
+            if (!IsWhole(state[i], Math.Min(cap, periods)))
+            {
+                return $"consecutive-period count {i - 3} must be a whole number between 0 and min(PeriodsToRaise, periods)";
+            }
+        }
+
+        if (!IsWhole(state[8], direction == 0 ? 0 : o.PeriodsToClear - 1))
+        {
+            return "the clear count must be 0 without an open episode and below PeriodsToClear with one";
+        }
+
+        double lastUnder = state[9];
+        double lastOver = state[10];
+        if (periods == 0 && (lastUnder != 0 || lastOver != 0))
+        {
+            return "the last evidence must be zero before any period";
+        }
+
+        bool underBeyond = periods > 0 && lastUnder >= o.RaiseThreshold;
+        bool overBeyond = periods > 0 && lastOver >= o.RaiseThreshold;
+        bool underEscalated = periods > 0 && lastUnder >= o.EscalationThreshold;
+        bool overEscalated = periods > 0 && lastOver >= o.EscalationThreshold;
+        if ((state[4] > 0) != underBeyond || (state[5] > 0) != overBeyond
+            || (state[6] > 0) != underEscalated || (state[7] > 0) != overEscalated)
+        {
+            return "the consecutive-period counts contradict the last evidence";
+        }
+
+        if (direction != 0)
+        {
+            if (state[1] < 1)
+            {
+                return "an open episode needs an episode id ≥ 1";
+            }
+
+            if (periods < Math.Max(1, o.WarmUpPeriods))
+            {
+                return "an episode cannot be open during the warm-up";
+            }
+
+            double own = direction > 0 ? lastUnder : lastOver;
+            double ownEscalationRun = direction > 0 ? state[6] : state[7];
+            if ((state[8] > 0) != (own <= o.ClearThreshold))
+            {
+                return "the clear count contradicts the last evidence";
+            }
+
+            if (severity == 1 && ownEscalationRun >= cap)
+            {
+                return "a Warning episode cannot have met the escalation rule";
+            }
+        }
+
+        return ValidateCore(state[HeaderLength..], lastUnder, lastOver, periods);
+    }
+
+    private static bool IsWhole(double value, double max) => value >= 0 && value <= max && value == Math.Floor(value);
+}

@@ -1,0 +1,157 @@
+using System.Globalization;
+using StreamForecast.Internal;
+
+namespace StreamForecast.Alerts;
+
+/// <summary>
+/// An immutable, validated description of a drift-alert rule: the levels it compares its signal with and the
+/// debouncing that keeps alerts from flapping. Each rule has its own sealed options record
+/// (<see cref="TrackingSignalRuleOptions"/>, <see cref="TriggSignalRuleOptions"/>, <see cref="CusumRuleOptions"/>),
+/// validated when it is constructed. Create the per-series state with <see cref="CreateRule"/>.
+/// </summary>
+/// <remarks>
+/// <para><b>Levels.</b> Every rule reduces a period to two numbers, its evidence for
+/// under-forecasting and for over-forecasting (for the tracking signal s these are s and −s; for the CUSUM the sums
+/// C⁺ and C⁻). An episode is raised when one side's evidence reaches <see cref="RaiseLevel"/>, escalated when it
+/// reaches <see cref="EscalationLevel"/>, and cleared when it falls back to <see cref="ClearLevel"/> or below:
+/// 0 ≤ <see cref="ClearLevel"/> &lt; <see cref="RaiseLevel"/> ≤ <see cref="EscalationLevel"/>. The gap between the
+/// clear and raise levels is the hysteresis that stops an alert flapping at the limit.</para>
+/// <para><b>Inclusive limits with a tolerance.</b> A value reaches a level L when it is at or beyond it, or short of
+/// it by no more than one part in a million: x ≥ L·(1 − <see cref="LevelTolerance"/>). A value is at or below a clear
+/// level C when x ≤ C·(1 + <see cref="LevelTolerance"/>). So a tracking signal that is −4 in exact arithmetic but
+/// lands at −3.9999999 in floating point reaches the ±4 limit. Signals move in steps many orders of magnitude larger
+/// than this tolerance, so it changes nothing else.</para>
+/// <para><b>Debouncing.</b> Alerts are suppressed until the rule has evaluated <see cref="WarmUpPeriods"/> periods;
+/// raising (and escalating) needs <see cref="PeriodsToRaise"/> consecutive periods at or beyond the level on the same
+/// side; clearing needs <see cref="PeriodsToClear"/> consecutive periods at or below the clear level.</para>
+/// <para>Options are immutable and safe to share across threads and series.</para>
+/// </remarks>
+public abstract record DriftRuleOptions
+{
+    /// <summary>The relative tolerance of the inclusive level rule (10⁻⁶); see the remarks on <see cref="DriftRuleOptions"/>.</summary>
+    public const double LevelTolerance = 1e-6;
+
+    /// <summary>The default <see cref="WarmUpPeriods"/>: 8 (library default).</summary>
+    public const int DefaultWarmUpPeriods = 8;
+
+    /// <summary>The default <see cref="PeriodsToRaise"/>: 1.</summary>
+    public const int DefaultPeriodsToRaise = 1;
+
+    /// <summary>The default <see cref="PeriodsToClear"/>: 2 (library default).</summary>
+    public const int DefaultPeriodsToClear = 2;
+
+    /// <summary>The largest <see cref="WarmUpPeriods"/> accepted.</summary>
+    public const int MaxWarmUpPeriods = 1_000_000;
+
+    /// <summary>The largest <see cref="PeriodsToRaise"/> and <see cref="PeriodsToClear"/> accepted.</summary>
+    public const int MaxDebouncePeriods = 10_000;
+
+    private protected DriftRuleOptions(
+        string raiseLevelName,
+        double raiseLevel,
+        double clearLevel,
+        double escalationLevel,
+        double maxLevel,
+        int warmUpPeriods,
+        int periodsToRaise,
+        int periodsToClear)
+    {
+        if (!(raiseLevel > 0) || raiseLevel > maxLevel || !double.IsFinite(raiseLevel))
+        {
+            ThrowHelper.ThrowOutOfRange(raiseLevelName, raiseLevel, string.Create(CultureInfo.InvariantCulture,
+                $"the raise level must be a finite number above 0 and at most {maxLevel}"));
+        }
+
+        if (!(clearLevel >= 0) || !(clearLevel < raiseLevel))
+        {
+            ThrowHelper.ThrowOutOfRange(nameof(clearLevel), clearLevel, string.Create(CultureInfo.InvariantCulture,
+                $"the clear level must be at least 0 and below the raise level {raiseLevel} (the gap is the hysteresis)"));
+        }
+
+        if (!(escalationLevel >= raiseLevel) || (escalationLevel > maxLevel && !double.IsPositiveInfinity(escalationLevel)))
+        {
+            ThrowHelper.ThrowOutOfRange(nameof(escalationLevel), escalationLevel, string.Create(CultureInfo.InvariantCulture,
+                $"the escalation level must be between the raise level {raiseLevel} and {maxLevel}, or +∞ to never escalate"));
+        }
+
+        if (warmUpPeriods is < 0 or > MaxWarmUpPeriods)
+        {
+            ThrowHelper.ThrowOutOfRange(nameof(warmUpPeriods), warmUpPeriods, "the warm-up must be between 0 and 1,000,000 periods");
+        }
+
+        if (periodsToRaise is < 1 or > MaxDebouncePeriods)
+        {
+            ThrowHelper.ThrowOutOfRange(nameof(periodsToRaise), periodsToRaise, "raising needs between 1 and 10,000 consecutive periods");
+        }
+
+        if (periodsToClear is < 1 or > MaxDebouncePeriods)
+        {
+            ThrowHelper.ThrowOutOfRange(nameof(periodsToClear), periodsToClear, "clearing needs between 1 and 10,000 consecutive periods");
+        }
+
+        RaiseLevel = raiseLevel;
+        ClearLevel = clearLevel;
+        EscalationLevel = escalationLevel;
+        WarmUpPeriods = warmUpPeriods;
+        PeriodsToRaise = periodsToRaise;
+        PeriodsToClear = periodsToClear;
+        RaiseThreshold = raiseLevel * (1 - LevelTolerance);
+        EscalationThreshold = escalationLevel * (1 - LevelTolerance);
+        ClearThreshold = clearLevel * (1 + LevelTolerance);
+    }
+
+    /// <summary>Which rule these options describe.</summary>
+    public abstract DriftRuleKind Kind { get; }
+
+    /// <summary>A short label for the rule and its levels, such as <c>TrackingSignal(±4; clear 3; critical 6)</c>, used in reports.</summary>
+    public abstract string RuleName { get; }
+
+    /// <summary>
+    /// The level at which an episode is raised: the tracking-signal limit, the Trigg limit, or the CUSUM decision
+    /// interval h. Greater than 0.
+    /// </summary>
+    public double RaiseLevel { get; }
+
+    /// <summary>The level at or below which an open episode's evidence counts towards clearing; 0 ≤ clear &lt; raise.</summary>
+    public double ClearLevel { get; }
+
+    /// <summary>The level at which an episode becomes <see cref="DriftSeverity.Critical"/>; at least the raise level, or +∞ for never.</summary>
+    public double EscalationLevel { get; }
+
+    /// <summary>
+    /// The periods a rule must have evaluated (since creation, <see cref="DriftRule.Reset"/>,
+    /// <see cref="DriftRule.Acknowledge"/> or <see cref="DriftRule.Rebaseline"/>, counting the current one) before it may
+    /// raise an episode; 0 or 1 means no suppression. Default <see cref="DefaultWarmUpPeriods"/>.
+    /// </summary>
+    public int WarmUpPeriods { get; }
+
+    /// <summary>
+    /// The consecutive periods one side's evidence must be at or beyond the raise level (and, to escalate, the
+    /// escalation level) before the rule acts. Default <see cref="DefaultPeriodsToRaise"/>.
+    /// </summary>
+    public int PeriodsToRaise { get; }
+
+    /// <summary>
+    /// The consecutive periods an open episode's evidence must be at or below the clear level before the episode
+    /// clears. Default <see cref="DefaultPeriodsToClear"/>.
+    /// </summary>
+    public int PeriodsToClear { get; }
+
+    /// <summary>RaiseLevel·(1 − tolerance): evidence at or above this reaches the raise level.</summary>
+    internal double RaiseThreshold { get; }
+
+    /// <summary>EscalationLevel·(1 − tolerance); +∞ when escalation is off.</summary>
+    internal double EscalationThreshold { get; }
+
+    /// <summary>ClearLevel·(1 + tolerance): evidence at or below this counts towards clearing.</summary>
+    internal double ClearThreshold { get; }
+
+    /// <summary>Creates a new rule for one series, with no open episode and the warm-up not yet served.</summary>
+    /// <returns>The rule.</returns>
+    /// <remarks>Allocates the rule once; evaluating allocates nothing afterwards.</remarks>
+    public abstract DriftRule CreateRule();
+
+    /// <summary>Formats a level for <see cref="RuleName"/>.</summary>
+    private protected static string Format(double value) =>
+        double.IsPositiveInfinity(value) ? "none" : value.ToString("G6", CultureInfo.InvariantCulture);
+}
