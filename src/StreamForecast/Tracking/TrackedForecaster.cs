@@ -93,6 +93,31 @@ public sealed class TrackedForecaster
         return scored ? new PeriodScore(actual, forecast, staged.Error) : new PeriodScore(actual, double.NaN, double.NaN);
     }
 
+    /// <summary>
+    /// Takes a period's actual without scoring it, for values that were filled in rather than observed (for example a
+    /// gap policy that carries the last actual forward): the forecaster moves on, no error is recorded, and the actual
+    /// still counts towards the MASE naive scale.
+    /// </summary>
+    /// <param name="actual">The period's (imputed) actual.</param>
+    /// <returns>A score with NaN forecast and error.</returns>
+    /// <exception cref="ArgumentOutOfRangeException">
+    /// <paramref name="actual"/> is NaN, infinite, outside the method's domain, or would make a statistic overflow.
+    /// Neither the forecaster nor the tracker changes.
+    /// </exception>
+    /// <remarks>Allocation-free; the forecaster's update cost plus O(1). Not thread-safe.</remarks>
+    public PeriodScore UpdateUnscored(double actual)
+    {
+        if (!double.IsFinite(actual))
+        {
+            ThrowHelper.ThrowNonFiniteActual(actual);
+        }
+
+        _tracker.StageUnscored(actual, out ErrorTracker.Staged staged);
+        _forecaster.Update(actual); // validates the method's domain before changing anything
+        _tracker.Commit(in staged);
+        return new PeriodScore(actual, double.NaN, double.NaN);
+    }
+
     /// <summary>The forecast <paramref name="horizon"/> periods ahead with its prediction interval.</summary>
     /// <param name="horizon">Periods ahead, 1 or more.</param>
     /// <param name="z">The normal multiplier, for example <see cref="NormalMultiplier.Coverage95"/>; finite and above zero.</param>
@@ -120,6 +145,13 @@ public sealed class TrackedForecaster
         interval = _tracker.GetPredictionInterval(forecast, _forecaster.HorizonVarianceRatio(horizon), z);
         return true;
     }
+
+    /// <summary>
+    /// Starts the error statistics afresh (RSFE, MAD, tracking and Trigg signals...) while the forecaster keeps its state:
+    /// the re-baseline after a person has acknowledged a drift and, where needed, changed the method or its inputs.
+    /// </summary>
+    /// <remarks>O(1) plus the tracker's buffers. Not thread-safe.</remarks>
+    public void ResetErrors() => _tracker.Reset();
 
     /// <summary>Forgets every period: both the forecaster and the tracker are as if just created.</summary>
     public void Reset()
@@ -160,7 +192,7 @@ public sealed class TrackedForecaster
     /// <param name="state">Exactly <see cref="StateLength"/> numbers from <see cref="ExportState(Span{double})"/>.</param>
     /// <exception cref="ArgumentException">
     /// Either part is invalid (see <see cref="Forecaster.ImportState"/> and <see cref="ErrorTracker.ImportState"/>) or the
-    /// two parts disagree on the number of periods. Nothing is imported.
+    /// tracker part has seen more periods than the forecaster part. Nothing is imported.
     /// </exception>
     public void ImportState(ReadOnlySpan<double> state)
     {
@@ -177,8 +209,9 @@ public sealed class TrackedForecaster
             ErrorTracker.ThrowInvalidState(problem);
         }
 
-        // Every period steps both: the forecaster's count (the first number of its state) equals the tracker's actual count.
-        if (state[0] != ErrorTracker.ActualCountOf(trackerState))
+        // Every period steps both, and only ResetErrors clears the tracker alone: the tracker has seen at most as many
+        // actuals as the forecaster (the first number of its state).
+        if (ErrorTracker.ActualCountOf(trackerState) > state[0])
         {
             ThrowHelper.ThrowArgument(nameof(state), "The forecaster and tracker parts of the state disagree on the number of periods. Nothing was imported.");
         }

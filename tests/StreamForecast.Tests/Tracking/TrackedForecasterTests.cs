@@ -171,6 +171,59 @@ public sealed class TrackedForecasterTests
     }
 
     [Fact]
+    public void UpdateUnscored_WarmForecaster_MovesForecasterWithoutScoring()
+    {
+        // An imputed actual moves the forecaster on but records no error (gap policies that carry values forward).
+        var tracked = new TrackedForecaster(new NaiveOptions());
+        tracked.Update(10);
+        tracked.Update(12);
+        long scored = tracked.Tracker.Count;
+        PeriodScore score = tracked.UpdateUnscored(12);
+        Assert.False(score.IsScored);
+        Assert.Equal(scored, tracked.Tracker.Count);
+        Assert.Equal(3, tracked.Tracker.ActualCount);
+        Assert.Equal(12, tracked.Forecaster.Forecast());
+
+        var copy = new TrackedForecaster(new NaiveOptions());
+        copy.ImportState(tracked.ExportState());
+        Assert.Equal(tracked.ExportState(), copy.ExportState());
+    }
+
+    [Fact]
+    public void ResetErrors_AfterUpdates_ClearsStatisticsKeepsForecastAndRoundTrips()
+    {
+        var tracked = new TrackedForecaster(new MovingAverageOptions(3));
+        foreach (double y in new double[] { 9, 8, 9, 12, 9, 12 })
+        {
+            tracked.Update(y);
+        }
+
+        double forecast = tracked.Forecaster.Forecast();
+        tracked.ResetErrors();
+        Assert.Equal(0, tracked.Tracker.Count);
+        Assert.Equal(0, tracked.Tracker.Rsfe);
+        Assert.Equal(forecast, tracked.Forecaster.Forecast());
+
+        var copy = new TrackedForecaster(new MovingAverageOptions(3));
+        copy.ImportState(tracked.ExportState());
+        tracked.Update(11);
+        copy.Update(11);
+        Assert.Equal(tracked.ExportState(), copy.ExportState());
+        Assert.Equal(1, copy.Tracker.Count);
+    }
+
+    [Fact]
+    public void UpdateUnscored_InvalidActual_ThrowsAndLeavesBothStatesUnchanged()
+    {
+        var tracked = new TrackedForecaster(new CrostonOptions());
+        tracked.Update(3);
+        double[] before = tracked.ExportState();
+        Assert.Throws<ArgumentOutOfRangeException>(() => tracked.UpdateUnscored(-1));
+        Assert.Throws<ArgumentOutOfRangeException>(() => tracked.UpdateUnscored(double.NaN));
+        Assert.Equal(before, tracked.ExportState());
+    }
+
+    [Fact]
     public void Update_ErrorWouldOverflow_ThrowsAndLeavesBothStatesUnchanged()
     {
         // The forecaster accepts 1.5e308 but the tracker cannot score it against −1.5e308: nothing changes in either.
