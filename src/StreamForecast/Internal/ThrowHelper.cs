@@ -17,6 +17,11 @@ internal static class ThrowHelper
             string.Create(CultureInfo.InvariantCulture, $"{paramName} = {value} is not allowed: {allowed}."));
 
     [DoesNotReturn]
+    public static void ThrowOutOfRange(string paramName, DateTimeOffset value, string allowed) =>
+        throw new ArgumentOutOfRangeException(paramName, value,
+            string.Create(CultureInfo.InvariantCulture, $"{paramName} = {value:O} is not allowed: {allowed}."));
+
+    [DoesNotReturn]
     public static void ThrowArgument(string paramName, string message) =>
         throw new ArgumentException(message, paramName);
 
