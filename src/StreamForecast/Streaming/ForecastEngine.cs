@@ -1,0 +1,552 @@
+using System.Diagnostics.Metrics;
+using System.Text;
+using StreamForecast.Internal;
+
+namespace StreamForecast.Streaming;
+
+/// <summary>
+/// The keyed streaming engine: it takes raw observations for many series, buckets them into periods by event time,
+/// closes periods as event time moves on, updates each series' forecaster, error statistics and drift rules, and
+/// publishes forecast updates and drift-alert transitions.
+/// </summary>
+/// <typeparam name="TKey">The series key type; equality comes from <see cref="ForecastEngineOptions{TKey}.KeyComparer"/>.</typeparam>
+/// <remarks>
+/// <para><b>Ownership.</b> Keys are hashed onto <see cref="ForecastEngineOptions{TKey}.Partitions"/> partitions. Each
+/// partition has one loop that alone owns its series, so series state needs no locks; per-key order is the post
+/// order. The outputs of a key do not depend on the partition count.</para>
+/// <para><b>Posting.</b> <see cref="TryPost"/> is a synchronous fast path; <see cref="PostAsync"/> waits for room;
+/// <see cref="PostBatchAsync"/> validates a whole batch before posting any of it. Bad observations (a non-finite
+/// quantity, an event time too far ahead of the clock) are refused at the call with an exception; the engine's state is
+/// untouched. What the engine does with late, duplicate and out-of-calendar observations is counted
+/// (<see cref="GetCounters"/>) and documented on <see cref="SeriesOptions"/>.</para>
+/// <para><b>Commands</b> (<see cref="AdvanceAsync"/>, <see cref="FlushAsync"/>, <see cref="AcknowledgeAsync"/>,
+/// <see cref="SnapshotAsync"/>) are queued behind everything posted before them and complete when every partition has
+/// carried them out.</para>
+/// <para><b>Publishing.</b> <see cref="Forecasts"/>, <see cref="Alerts"/> and <see cref="Faults"/> are push streams: each
+/// subscriber has its own bounded buffer and delivery loop, so a slow subscriber loses its own oldest items (counted)
+/// and a throwing subscriber is reported on <see cref="Faults"/> without ending anyone's stream. The pull readers
+/// (<see cref="ReadForecastsAsync"/>, <see cref="ReadAlertsAsync"/>) apply backpressure instead: while one is full,
+/// the partitions wait.</para>
+/// <para><b>Thread safety.</b> Every public member is thread-safe. A snapshot covers what was posted before the call
+/// when no post runs concurrently with it.</para>
+/// <para>Forecasts and alerts are advisory and need a person's judgement before stock or staff are changed.</para>
+/// </remarks>
+public sealed class ForecastEngine<TKey> : IAsyncDisposable
+    where TKey : notnull
+{
+    private readonly Partition<TKey>[] _partitions;
+    private readonly Publisher<ForecastUpdate<TKey>> _forecasts;
+    private readonly Publisher<DriftAlert<TKey>> _alerts;
+    private readonly Publisher<SeriesFault<TKey>> _faults;
+    private readonly Meter _meter;
+    private readonly ITimer _idleTimer;
+    private readonly TaskCompletionSource _completion = new(TaskCreationOptions.RunContinuationsAsynchronously);
+    private readonly Lock _completeGate = new();
+    private int _seriesCount;
+    private long _dropped;
+    private long _rejected;
+    private long _subscriberFaults;
+    private long _subscriberDrops;
+    private bool _completing;
+
+    /// <summary>Creates and starts an engine with no series.</summary>
+    /// <param name="options">Validated engine options.</param>
+    /// <exception cref="ArgumentNullException"><paramref name="options"/> is null.</exception>
+    public ForecastEngine(ForecastEngineOptions<TKey> options)
+        : this(options, null)
+    {
+    }
+
+    internal ForecastEngine(ForecastEngineOptions<TKey> options, List<SeriesState<TKey>>? restored)
+    {
+        ArgumentNullException.ThrowIfNull(options);
+        Options = options;
+        _forecasts = new Publisher<ForecastUpdate<TKey>>(options.Publishing, (_, _) => Interlocked.Increment(ref _subscriberDrops), OnSubscriberFault);
+        _alerts = new Publisher<DriftAlert<TKey>>(options.Publishing, (_, _) => Interlocked.Increment(ref _subscriberDrops), OnSubscriberFault);
+        _faults = new Publisher<SeriesFault<TKey>>(options.Publishing, (_, _) => Interlocked.Increment(ref _subscriberDrops), _ => Interlocked.Increment(ref _subscriberFaults));
+        _partitions = new Partition<TKey>[options.Partitions];
+        for (int i = 0; i < _partitions.Length; i++)
+        {
+            _partitions[i] = new Partition<TKey>(this, i);
+        }
+
+        if (restored is not null)
+        {
+            foreach (SeriesState<TKey> state in restored)
+            {
+                PartitionOf(state.Key).Adopt(state);
+            }
+
+            _seriesCount = restored.Count;
+        }
+
+        _meter = new Meter("StreamForecast.Engine");
+        CreateInstruments();
+        foreach (Partition<TKey> p in _partitions)
+        {
+            p.Start();
+        }
+
+        _ = Task.WhenAll(Array.ConvertAll(_partitions, p => p.Loop)).ContinueWith(
+            static (t, state) => ((ForecastEngine<TKey>)state!).FinishAsync(t),
+            this,
+            CancellationToken.None,
+            TaskContinuationOptions.ExecuteSynchronously,
+            TaskScheduler.Default);
+        _idleTimer = options.TimeProvider.CreateTimer(static s => ((ForecastEngine<TKey>)s!).RequestIdleCheck(), this, options.IdleCheckInterval, options.IdleCheckInterval);
+    }
+
+    /// <summary>The options the engine was created with.</summary>
+    public ForecastEngineOptions<TKey> Options { get; }
+
+    /// <summary>Forecast updates, one per closed period per series (plus restatements), as a push stream.</summary>
+    public IObservable<ForecastUpdate<TKey>> Forecasts => _forecasts;
+
+    /// <summary>Drift-alert transitions (raised, escalated, cleared) as a push stream.</summary>
+    public IObservable<DriftAlert<TKey>> Alerts => _alerts;
+
+    /// <summary>Per-series and per-subscriber faults; never OnError.</summary>
+    public IObservable<SeriesFault<TKey>> Faults => _faults;
+
+    /// <summary>Completes when the engine has drained its queues after <see cref="Complete"/> and every push subscriber has been told.</summary>
+    public Task Completion => _completion.Task;
+
+    /// <summary>The number of series held now.</summary>
+    public int SeriesCount => Volatile.Read(ref _seriesCount);
+
+    internal Publisher<ForecastUpdate<TKey>> ForecastPublisher => _forecasts;
+
+    internal Publisher<DriftAlert<TKey>> AlertPublisher => _alerts;
+
+    /// <summary>Reads forecast updates with backpressure: while this reader is full, the partitions wait.</summary>
+    /// <param name="cancellationToken">Ends the enumeration.</param>
+    /// <returns>The updates published after the call, in per-key order.</returns>
+    public IAsyncEnumerable<ForecastUpdate<TKey>> ReadForecastsAsync(CancellationToken cancellationToken = default) => _forecasts.ReadAllAsync(cancellationToken);
+
+    /// <summary>Reads drift-alert transitions with backpressure.</summary>
+    /// <param name="cancellationToken">Ends the enumeration.</param>
+    /// <returns>The transitions published after the call.</returns>
+    public IAsyncEnumerable<DriftAlert<TKey>> ReadAlertsAsync(CancellationToken cancellationToken = default) => _alerts.ReadAllAsync(cancellationToken);
+
+    /// <summary>Posts one observation without waiting.</summary>
+    /// <param name="observation">The observation.</param>
+    /// <returns>
+    /// <see langword="true"/> if it was queued; <see langword="false"/> if its partition's queue is full under
+    /// <see cref="IngestionFullMode.Wait"/>. Under <see cref="IngestionFullMode.DropNewest"/> a full queue drops it (counted,
+    /// <see cref="ForecastEngineOptions{TKey}.OnDropped"/> called) and the result is <see langword="false"/>.
+    /// </returns>
+    /// <exception cref="ArgumentOutOfRangeException">The quantity is not finite, or the time is too far ahead of the clock.</exception>
+    /// <exception cref="InvalidOperationException">The engine has been completed.</exception>
+    /// <remarks>O(1); no allocation. Thread-safe.</remarks>
+    public bool TryPost(in Observation<TKey> observation)
+    {
+        Validate(observation);
+        Partition<TKey> p = PartitionOf(observation.Key);
+        if (p.TryWrite(new Partition<TKey>.Message(MessageKind.Observation, observation, Options.TimeProvider.GetTimestamp(), default, null, null)))
+        {
+            return true;
+        }
+
+        ThrowIfCompleted();
+        if (Options.FullMode == IngestionFullMode.DropNewest)
+        {
+            Interlocked.Increment(ref _dropped);
+            Options.OnDropped?.Invoke(observation);
+        }
+
+        return false;
+    }
+
+    /// <summary>Posts one observation, waiting for room under <see cref="IngestionFullMode.Wait"/>.</summary>
+    /// <param name="observation">The observation.</param>
+    /// <param name="cancellationToken">Stops the wait; the observation is then not posted.</param>
+    /// <returns>A task that completes when the observation is queued (or dropped under <see cref="IngestionFullMode.DropNewest"/>).</returns>
+    /// <exception cref="ArgumentOutOfRangeException">The quantity is not finite, or the time is too far ahead of the clock.</exception>
+    /// <exception cref="InvalidOperationException">The engine has been completed.</exception>
+    public ValueTask PostAsync(Observation<TKey> observation, CancellationToken cancellationToken = default)
+    {
+        if (TryPost(observation) || Options.FullMode == IngestionFullMode.DropNewest)
+        {
+            return ValueTask.CompletedTask;
+        }
+
+        return WriteSlowAsync(observation, cancellationToken);
+    }
+
+    /// <summary>Validates every observation of a batch, then posts them in order.</summary>
+    /// <param name="batch">The observations.</param>
+    /// <param name="cancellationToken">Stops waiting for room; observations already queued stay queued.</param>
+    /// <returns>A task that completes when the whole batch is queued.</returns>
+    /// <exception cref="ArgumentOutOfRangeException">An observation is invalid; nothing of the batch was posted.</exception>
+    public async ValueTask PostBatchAsync(ReadOnlyMemory<Observation<TKey>> batch, CancellationToken cancellationToken = default)
+    {
+        for (int i = 0; i < batch.Length; i++)
+        {
+            try
+            {
+                Validate(batch.Span[i]);
+            }
+            catch (ArgumentOutOfRangeException ex)
+            {
+                throw new ArgumentOutOfRangeException(nameof(batch), $"Observation {i} of the batch is invalid; nothing was posted. {ex.Message}");
+            }
+        }
+
+        for (int i = 0; i < batch.Length; i++)
+        {
+            await PostAsync(batch.Span[i], cancellationToken).ConfigureAwait(false);
+        }
+    }
+
+    /// <summary>Closes, in every series, each period that ends at or before <paramref name="watermark"/>: the caller says no earlier events will come.</summary>
+    /// <param name="watermark">The event time every series has reached.</param>
+    /// <param name="cancellationToken">Stops waiting (the command may still run).</param>
+    /// <returns>A task that completes when every partition has done it.</returns>
+    public Task AdvanceAsync(DateTimeOffset watermark, CancellationToken cancellationToken = default) =>
+        BroadcastAsync(MessageKind.Advance, watermark, cancellationToken);
+
+    /// <summary>Closes every open period of every series, including the one holding its latest event (end of input).</summary>
+    /// <param name="cancellationToken">Stops waiting (the command may still run).</param>
+    /// <returns>A task that completes when every partition has done it.</returns>
+    public Task FlushAsync(CancellationToken cancellationToken = default) =>
+        BroadcastAsync(MessageKind.Flush, default, cancellationToken);
+
+    /// <summary>
+    /// A person has looked at the drift of <paramref name="key"/>: every rule's open episode is closed (published as
+    /// cleared, reason rebaselined) and the rules start a fresh warm-up. The error statistics are kept.
+    /// </summary>
+    /// <param name="key">The series.</param>
+    /// <param name="cancellationToken">Stops waiting.</param>
+    /// <returns>A task that completes when the series' partition has done it (nothing happens for an unknown key).</returns>
+    public Task AcknowledgeAsync(TKey key, CancellationToken cancellationToken = default)
+    {
+        var done = new TaskCompletionSource(TaskCreationOptions.RunContinuationsAsynchronously);
+        var message = new Partition<TKey>.Message(MessageKind.Acknowledge, new Observation<TKey>(key, default, 0), 0, default, done, null);
+        return SendAsync(PartitionOf(key), message, done, cancellationToken);
+    }
+
+    /// <summary>
+    /// Writes a snapshot of every series (forecaster, error statistics, drift rules, open periods, restatement window,
+    /// remembered event ids) with the caller's input position, in a versioned, checksummed format.
+    /// </summary>
+    /// <param name="destination">Where to write.</param>
+    /// <param name="keyCodec">How keys are written (see <see cref="SnapshotKeyCodecs"/>).</param>
+    /// <param name="inputPosition">Where in the caller's input this snapshot stands (for example a log offset), returned on restore.</param>
+    /// <param name="cancellationToken">Stops waiting.</param>
+    /// <returns>A task that completes when the snapshot is written.</returns>
+    public async Task SnapshotAsync(Stream destination, ISnapshotKeyCodec<TKey> keyCodec, long inputPosition, CancellationToken cancellationToken = default)
+    {
+        ArgumentNullException.ThrowIfNull(destination);
+        ArgumentNullException.ThrowIfNull(keyCodec);
+        var sections = new SnapshotSection<TKey>[_partitions.Length];
+        var waits = new Task[_partitions.Length];
+        for (int i = 0; i < _partitions.Length; i++)
+        {
+            sections[i] = new SnapshotSection<TKey>(keyCodec);
+            var done = new TaskCompletionSource(TaskCreationOptions.RunContinuationsAsynchronously);
+            waits[i] = SendAsync(_partitions[i], new Partition<TKey>.Message(MessageKind.Snapshot, default, 0, default, done, sections[i]), done, cancellationToken);
+        }
+
+        await Task.WhenAll(waits).ConfigureAwait(false);
+        var parts = new List<ReadOnlyMemory<byte>>(sections.Length + 1) { Encoding.UTF8.GetBytes(keyCodec.FormatName) };
+        foreach (SnapshotSection<TKey> s in sections)
+        {
+            parts.Add(s.Bytes);
+        }
+
+        await SnapshotFormat.WriteAsync(destination, inputPosition, parts, cancellationToken).ConfigureAwait(false);
+    }
+
+    /// <summary>The engine's counters, summed over partitions (each read without locks, so a sum may straddle an update).</summary>
+    /// <returns>The counters now.</returns>
+    public EngineCounters GetCounters()
+    {
+        long observations = 0, late = 0, restated = 0, duplicates = 0, closed = 0, gaps = 0, rejectedActuals = 0, raised = 0, escalated = 0, cleared = 0, evictions = 0, depth = 0;
+        foreach (Partition<TKey> p in _partitions)
+        {
+            SeriesCounters c = p.Counters;
+            observations += Volatile.Read(ref c.Observations);
+            late += Volatile.Read(ref c.Late);
+            restated += Volatile.Read(ref c.Restated);
+            duplicates += Volatile.Read(ref c.Duplicates);
+            closed += Volatile.Read(ref c.PeriodsClosed);
+            gaps += Volatile.Read(ref c.GapPeriods);
+            rejectedActuals += Volatile.Read(ref c.RejectedActuals);
+            raised += Volatile.Read(ref c.AlertsRaised);
+            escalated += Volatile.Read(ref c.AlertsEscalated);
+            cleared += Volatile.Read(ref c.AlertsCleared);
+            evictions += Volatile.Read(ref c.Evictions);
+            depth += p.QueueDepth;
+        }
+
+        return new EngineCounters(
+            observations, late, restated, duplicates, Interlocked.Read(ref _dropped), Interlocked.Read(ref _rejected), closed, gaps,
+            rejectedActuals, raised, escalated, cleared, evictions, SeriesCount, depth,
+            Interlocked.Read(ref _subscriberDrops), Interlocked.Read(ref _subscriberFaults));
+    }
+
+    /// <summary>Stops taking posts and commands; queued observations are still processed, then subscribers are completed.</summary>
+    public void Complete()
+    {
+        lock (_completeGate)
+        {
+            if (_completing)
+            {
+                return;
+            }
+
+            _completing = true;
+        }
+
+        _idleTimer.Dispose();
+        foreach (Partition<TKey> p in _partitions)
+        {
+            p.CompleteQueue();
+        }
+    }
+
+    /// <summary>Completes the engine, waits for the queues to drain and subscribers to be told, and releases the meter.</summary>
+    /// <returns>A task that completes when the engine has stopped.</returns>
+    public async ValueTask DisposeAsync()
+    {
+        Complete();
+        await Completion.ConfigureAwait(false);
+        _meter.Dispose();
+    }
+
+    internal void PublishFault(in SeriesFault<TKey> fault)
+    {
+        if (!_faults.IsCompleted)
+        {
+            _faults.TryPublish(fault);
+        }
+    }
+
+    internal void CountRejected() => Interlocked.Increment(ref _rejected);
+
+    internal bool TryReserveSeries()
+    {
+        if (Interlocked.Increment(ref _seriesCount) <= Options.MaxSeries)
+        {
+            return true;
+        }
+
+        Interlocked.Decrement(ref _seriesCount);
+        return false;
+    }
+
+    internal void ReleaseSeries() => Interlocked.Decrement(ref _seriesCount);
+
+    private void OnSubscriberFault(DeliveryFault fault)
+    {
+        Interlocked.Increment(ref _subscriberFaults);
+        PublishFault(new SeriesFault<TKey>(default!, 0, SeriesFaultKind.SubscriberFailed, $"Subscriber {fault.Subscription.Id} threw: {fault.Exception.Message}"));
+    }
+
+    private void Validate(in Observation<TKey> observation)
+    {
+        if (!double.IsFinite(observation.Quantity))
+        {
+            ThrowHelper.ThrowOutOfRange(nameof(observation), observation.Quantity, "the quantity must be a finite number; the observation was not posted");
+        }
+
+        if (Options.MaxEventTimeAhead != Timeout.InfiniteTimeSpan
+            && observation.Timestamp > Options.TimeProvider.GetUtcNow() + Options.MaxEventTimeAhead)
+        {
+            ThrowHelper.ThrowOutOfRange(nameof(observation), observation.Timestamp, "the event time is further ahead of the clock than the engine allows (MaxEventTimeAhead); the observation was not posted");
+        }
+    }
+
+    private Partition<TKey> PartitionOf(TKey key)
+    {
+        // Spread the key's hash before taking the partition, so poor hash codes still balance.
+        uint hash = (uint)Options.KeyComparer.GetHashCode(key) * 0x9E3779B1u;
+        return _partitions[(int)((ulong)hash * (ulong)_partitions.Length >> 32)];
+    }
+
+    private async ValueTask WriteSlowAsync(Observation<TKey> observation, CancellationToken cancellationToken)
+    {
+        Partition<TKey> p = PartitionOf(observation.Key);
+        try
+        {
+            await p.WriteAsync(new Partition<TKey>.Message(MessageKind.Observation, observation, Options.TimeProvider.GetTimestamp(), default, null, null), cancellationToken).ConfigureAwait(false);
+        }
+        catch (System.Threading.Channels.ChannelClosedException)
+        {
+            ThrowIfCompleted();
+            throw;
+        }
+    }
+
+    private Task BroadcastAsync(MessageKind kind, DateTimeOffset time, CancellationToken cancellationToken)
+    {
+        var waits = new Task[_partitions.Length];
+        for (int i = 0; i < _partitions.Length; i++)
+        {
+            var done = new TaskCompletionSource(TaskCreationOptions.RunContinuationsAsynchronously);
+            waits[i] = SendAsync(_partitions[i], new Partition<TKey>.Message(kind, default, 0, time, done, null), done, cancellationToken);
+        }
+
+        return Task.WhenAll(waits);
+    }
+
+    private async Task SendAsync(Partition<TKey> partition, Partition<TKey>.Message message, TaskCompletionSource done, CancellationToken cancellationToken)
+    {
+        try
+        {
+            await partition.WriteAsync(message, cancellationToken).ConfigureAwait(false);
+        }
+        catch (System.Threading.Channels.ChannelClosedException)
+        {
+            ThrowIfCompleted();
+            throw;
+        }
+
+        await done.Task.WaitAsync(cancellationToken).ConfigureAwait(false);
+    }
+
+    private void RequestIdleCheck()
+    {
+        long now = Options.TimeProvider.GetTimestamp();
+        foreach (Partition<TKey> p in _partitions)
+        {
+            // Best effort: a full queue skips this check; the next tick tries again.
+            p.TryWrite(new Partition<TKey>.Message(MessageKind.IdleCheck, default, now, default, null, null));
+        }
+    }
+
+    private void ThrowIfCompleted()
+    {
+        if (Volatile.Read(ref _completing))
+        {
+            throw new InvalidOperationException("The engine has been completed; it takes no more observations or commands.");
+        }
+    }
+
+    private async Task FinishAsync(Task loops)
+    {
+        _forecasts.Complete(loops.Exception);
+        _alerts.Complete(loops.Exception);
+        _faults.Complete(loops.Exception);
+        await Task.WhenAll(_forecasts.Completion, _alerts.Completion, _faults.Completion).ConfigureAwait(false);
+        _completion.TrySetResult();
+    }
+
+    private void CreateInstruments()
+    {
+        // Counters are read from the partitions' own tallies when a listener collects: nothing on the hot path.
+        // Tags never carry a series key.
+        _meter.CreateObservableCounter("streamforecast.observations", () => GetCounters().Observations, description: "Observations taken by the partitions.");
+        _meter.CreateObservableCounter("streamforecast.late", () => GetCounters().Late, description: "Late observations dropped (too late to restate).");
+        _meter.CreateObservableCounter("streamforecast.restated", () => GetCounters().Restated, description: "Late observations that restated a closed period.");
+        _meter.CreateObservableCounter("streamforecast.dropped", () => GetCounters().Dropped, description: "Observations dropped because a queue was full.");
+        _meter.CreateObservableCounter("streamforecast.duplicates", () => GetCounters().Duplicates, description: "Observations ignored as repeats of a remembered event id.");
+        _meter.CreateObservableCounter("streamforecast.rejected", () => GetCounters().Rejected, description: "Observations rejected inside the engine (outside the calendar, series limit reached).");
+        _meter.CreateObservableCounter("streamforecast.periods_closed", () => GetCounters().PeriodsClosed, description: "Periods closed across all series.");
+        _meter.CreateObservableCounter("streamforecast.evictions", () => GetCounters().Evictions, description: "Series removed after their quiet-period limit.");
+        _meter.CreateObservableCounter("streamforecast.alerts_raised", () => GetCounters().AlertsRaised, description: "Drift episodes raised.");
+        _meter.CreateObservableCounter("streamforecast.alerts_cleared", () => GetCounters().AlertsCleared, description: "Drift episodes cleared.");
+        _meter.CreateObservableUpDownCounter("streamforecast.active_series", () => (long)SeriesCount, description: "Series held now.");
+        _meter.CreateObservableUpDownCounter("streamforecast.queue_depth", () => GetCounters().QueueDepth, description: "Observations and commands waiting in the partition queues.");
+    }
+}
+
+/// <summary>Creates engines from snapshots (see <see cref="ForecastEngine{TKey}.SnapshotAsync"/>).</summary>
+public static class ForecastEngine
+{
+    /// <summary>
+    /// Reads a snapshot written by <see cref="ForecastEngine{TKey}.SnapshotAsync"/> and starts an engine holding its series. The whole
+    /// snapshot is checked (format, version, checksum, every series against the options resolved for its key) before the
+    /// engine is created: a corrupted or truncated snapshot is rejected, never half-loaded.
+    /// </summary>
+    /// <param name="source">Where to read.</param>
+    /// <typeparam name="TKey">The series key type.</typeparam>
+    /// <param name="options">The engine options; each key's series options must match those the snapshot was taken with.</param>
+    /// <param name="keyCodec">How keys were written.</param>
+    /// <param name="cancellationToken">Stops reading.</param>
+    /// <returns>The running engine and the input position stored in the snapshot (continue the input from there).</returns>
+    /// <exception cref="InvalidDataException">The snapshot is corrupted, truncated, of another version, or does not fit the options.</exception>
+    public static async Task<(ForecastEngine<TKey> Engine, long InputPosition)> RestoreAsync<TKey>(
+        Stream source, ForecastEngineOptions<TKey> options, ISnapshotKeyCodec<TKey> keyCodec, CancellationToken cancellationToken = default)
+        where TKey : notnull
+    {
+        ArgumentNullException.ThrowIfNull(source);
+        ArgumentNullException.ThrowIfNull(options);
+        ArgumentNullException.ThrowIfNull(keyCodec);
+        using var buffer = new MemoryStream();
+        await source.CopyToAsync(buffer, cancellationToken).ConfigureAwait(false);
+        buffer.Position = 0;
+        SnapshotContent content = SnapshotFormat.Read(buffer);
+        if (content.Sections.Count < 1 || Encoding.UTF8.GetString(content.Sections[0].Span) != keyCodec.FormatName)
+        {
+            throw new InvalidDataException($"The snapshot's keys were not written with the {keyCodec.FormatName} codec.");
+        }
+
+        var series = new List<SeriesState<TKey>>();
+        long arrival = options.TimeProvider.GetTimestamp();
+        var seen = new HashSet<TKey>(options.KeyComparer);
+        try
+        {
+            for (int i = 1; i < content.Sections.Count; i++)
+            {
+                SnapshotSection<TKey>.Read(content.Sections[i], keyCodec, options.Resolve, arrival, series);
+            }
+        }
+        catch (Exception ex) when (ex is EndOfStreamException or ArgumentException or FormatException or OverflowException)
+        {
+            throw new InvalidDataException("The snapshot's content does not fit: " + ex.Message, ex);
+        }
+
+        foreach (SeriesState<TKey> s in series)
+        {
+            if (!seen.Add(s.Key))
+            {
+                throw new InvalidDataException("The snapshot holds the same key twice.");
+            }
+        }
+
+        if (series.Count > options.MaxSeries)
+        {
+            throw new InvalidDataException($"The snapshot holds {series.Count} series, more than the limit of {options.MaxSeries}.");
+        }
+
+        return (new ForecastEngine<TKey>(options, series), content.InputPosition);
+    }
+}
+
+/// <summary>The engine's counters at one moment (see <see cref="ForecastEngine{TKey}.GetCounters"/>).</summary>
+/// <param name="Observations">Observations taken into a period (duplicates and rejections excluded).</param>
+/// <param name="Late">Observations for a closed period beyond the restatement horizon: dropped.</param>
+/// <param name="Restated">Late observations that restated a closed period.</param>
+/// <param name="Duplicates">Observations ignored as repeats of a remembered event id.</param>
+/// <param name="Dropped">Observations dropped at post because a queue was full (<see cref="IngestionFullMode.DropNewest"/>).</param>
+/// <param name="Rejected">Observations rejected inside the engine: time outside the calendar, series limit reached, options not resolvable.</param>
+/// <param name="PeriodsClosed">Periods closed across all series.</param>
+/// <param name="GapPeriods">Closed periods that had no observation.</param>
+/// <param name="RejectedActuals">Closed periods whose actual the method refused (for example negative demand).</param>
+/// <param name="AlertsRaised">Drift episodes raised.</param>
+/// <param name="AlertsEscalated">Drift episodes escalated.</param>
+/// <param name="AlertsCleared">Drift episodes cleared.</param>
+/// <param name="Evictions">Series evicted after their quiet-period limit.</param>
+/// <param name="ActiveSeries">Series held now.</param>
+/// <param name="QueueDepth">Items waiting in the partition queues.</param>
+/// <param name="SubscriberDrops">Items dropped from full push-subscriber buffers.</param>
+/// <param name="SubscriberFaults">Exceptions thrown by subscribers.</param>
+public readonly record struct EngineCounters(
+    long Observations,
+    long Late,
+    long Restated,
+    long Duplicates,
+    long Dropped,
+    long Rejected,
+    long PeriodsClosed,
+    long GapPeriods,
+    long RejectedActuals,
+    long AlertsRaised,
+    long AlertsEscalated,
+    long AlertsCleared,
+    long Evictions,
+    long ActiveSeries,
+    long QueueDepth,
+    long SubscriberDrops,
+    long SubscriberFaults);

@@ -1,0 +1,160 @@
+using System.Collections.Immutable;
+using StreamForecast.Alerts;
+using StreamForecast.Forecasting;
+using StreamForecast.Internal;
+using StreamForecast.Periods;
+using StreamForecast.Tracking;
+
+namespace StreamForecast.Streaming;
+
+/// <summary>What a closed period with no observations means for a series.</summary>
+public enum GapPolicy
+{
+    /// <summary>The series was live and nothing happened: the period's actual is 0 and it is scored (a shop that sold nothing).</summary>
+    Zero = 0,
+
+    /// <summary>No data exists for the period: the forecaster is not updated and no error is scored (a sensor that was offline).</summary>
+    Missing = 1,
+
+    /// <summary>The last actual is repeated into the forecaster but not scored (an imputation); missing until a first actual exists.</summary>
+    CarryForward = 2,
+}
+
+/// <summary>
+/// How the engine treats one series: the forecasting method, the period calendar, lateness and restatement, gaps,
+/// duplicates, error tracking and drift rules. Resolved once, when a series is first seen.
+/// </summary>
+/// <remarks>Immutable and thread-safe; validated at construction. Every parameter has a documented default.</remarks>
+public sealed record SeriesOptions
+{
+    /// <summary>The default number of remembered event ids per series.</summary>
+    public const int DefaultDuplicateWindow = 1024;
+
+    /// <summary>Creates series options.</summary>
+    /// <param name="method">The forecasting method.</param>
+    /// <param name="calendar">How event times map to periods.</param>
+    /// <param name="lateness">
+    /// How long after a period's end events may still arrive before it closes, and how many closed periods may be
+    /// restated by a late event (default: no lateness, no restatement: late events are dropped and counted).
+    /// </param>
+    /// <param name="gaps">What an empty period means (default <see cref="GapPolicy.Zero"/>).</param>
+    /// <param name="tracking">Error-tracking options (default <see cref="ErrorTrackerOptions.Default"/>).</param>
+    /// <param name="rules">Drift rules evaluated on each scored period (default: none).</param>
+    /// <param name="horizon">The further horizon h reported with each update besides the next period (default 1, 1 to 10,000).</param>
+    /// <param name="intervalMultiplier">The normal multiplier z of the prediction intervals (default 1.2816, an 80% interval; 0 to 10).</param>
+    /// <param name="idleTimeout">
+    /// After this much quiet (measured with the engine's <see cref="TimeProvider"/>), the series' periods up to its last
+    /// event time plus the quiet time, less the lateness, are closed (default: never).
+    /// </param>
+    /// <param name="duplicateWindow">How many event ids per series are remembered for de-duplication (default 1024, 0 to 1,000,000; 0 turns it off).</param>
+    /// <exception cref="ArgumentNullException"><paramref name="method"/> or <paramref name="calendar"/> is null.</exception>
+    /// <exception cref="ArgumentOutOfRangeException">A number is out of its stated range.</exception>
+    public SeriesOptions(
+        ForecasterOptions method,
+        PeriodCalendar calendar,
+        LatenessPolicy lateness = default,
+        GapPolicy gaps = GapPolicy.Zero,
+        ErrorTrackerOptions? tracking = null,
+        ImmutableArray<DriftRuleOptions> rules = default,
+        int horizon = 1,
+        double intervalMultiplier = NormalMultiplier.Coverage80,
+        TimeSpan? idleTimeout = null,
+        int duplicateWindow = DefaultDuplicateWindow)
+    {
+        ArgumentNullException.ThrowIfNull(method);
+        ArgumentNullException.ThrowIfNull(calendar);
+        if (gaps is not (GapPolicy.Zero or GapPolicy.Missing or GapPolicy.CarryForward))
+        {
+            ThrowHelper.ThrowOutOfRange(nameof(gaps), gaps, "the gap policy must be Zero, Missing or CarryForward");
+        }
+
+        if (horizon is < 1 or > 10_000)
+        {
+            ThrowHelper.ThrowOutOfRange(nameof(horizon), horizon, "the horizon must be between 1 and 10,000 periods");
+        }
+
+        if (!(intervalMultiplier >= 0 && intervalMultiplier <= 10))
+        {
+            ThrowHelper.ThrowOutOfRange(nameof(intervalMultiplier), intervalMultiplier, "the interval multiplier z must be between 0 and 10");
+        }
+
+        if (idleTimeout is { } idle && idle <= TimeSpan.Zero)
+        {
+            ThrowHelper.ThrowOutOfRange(nameof(idleTimeout), idle, "the idle timeout must be positive, or null for never");
+        }
+
+        if (duplicateWindow is < 0 or > 1_000_000)
+        {
+            ThrowHelper.ThrowOutOfRange(nameof(duplicateWindow), duplicateWindow, "the duplicate window must be between 0 and 1,000,000 event ids");
+        }
+
+        ImmutableArray<DriftRuleOptions> ruleList = rules.IsDefault ? [] : rules;
+        foreach (DriftRuleOptions rule in ruleList)
+        {
+            if (rule is null)
+            {
+                ThrowHelper.ThrowArgument(nameof(rules), "The drift rules must not contain null.");
+            }
+        }
+
+        Method = method;
+        Calendar = calendar;
+        Lateness = lateness;
+        Gaps = gaps;
+        Tracking = tracking ?? ErrorTrackerOptions.Default;
+        Rules = ruleList;
+        Horizon = horizon;
+        IntervalMultiplier = intervalMultiplier;
+        IdleTimeout = idleTimeout;
+        DuplicateWindow = duplicateWindow;
+    }
+
+    /// <summary>The forecasting method.</summary>
+    public ForecasterOptions Method { get; }
+
+    /// <summary>How event times map to periods.</summary>
+    public PeriodCalendar Calendar { get; }
+
+    /// <summary>Allowed lateness and restatement horizon.</summary>
+    public LatenessPolicy Lateness { get; }
+
+    /// <summary>What an empty period means.</summary>
+    public GapPolicy Gaps { get; }
+
+    /// <summary>Error-tracking options.</summary>
+    public ErrorTrackerOptions Tracking { get; }
+
+    /// <summary>Drift rules evaluated on each scored period, in order.</summary>
+    public ImmutableArray<DriftRuleOptions> Rules { get; }
+
+    /// <summary>The further horizon h reported with each update.</summary>
+    public int Horizon { get; }
+
+    /// <summary>The normal multiplier z of the prediction intervals.</summary>
+    public double IntervalMultiplier { get; }
+
+    /// <summary>The quiet time after which a series' periods are closed without new events; null for never.</summary>
+    public TimeSpan? IdleTimeout { get; }
+
+    /// <summary>How many event ids per series are remembered for de-duplication; 0 turns it off.</summary>
+    public int DuplicateWindow { get; }
+
+    /// <summary>Equal when every setting is equal (rules compared element by element).</summary>
+    /// <param name="other">The other options.</param>
+    /// <returns>Whether both describe the same treatment.</returns>
+    public bool Equals(SeriesOptions? other) =>
+        other is not null
+        && Method.Equals(other.Method)
+        && Calendar.Equals(other.Calendar)
+        && Lateness.Equals(other.Lateness)
+        && Gaps == other.Gaps
+        && Tracking.Equals(other.Tracking)
+        && Rules.SequenceEqual(other.Rules)
+        && Horizon == other.Horizon
+        && IntervalMultiplier.Equals(other.IntervalMultiplier)
+        && IdleTimeout == other.IdleTimeout
+        && DuplicateWindow == other.DuplicateWindow;
+
+    /// <inheritdoc/>
+    public override int GetHashCode() => HashCode.Combine(Method, Calendar, Lateness, Gaps, Tracking, Rules.Length, Horizon, IdleTimeout);
+}

@@ -1,0 +1,47 @@
+namespace StreamForecast.Streaming;
+
+/// <summary>
+/// One partition's part of an engine snapshot: its series, each as a key (written by the caller's codec) followed by
+/// the series state. Written on the partition's own loop, so it sees a consistent state.
+/// </summary>
+internal sealed class SnapshotSection<TKey>
+    where TKey : notnull
+{
+    private readonly ISnapshotKeyCodec<TKey> _codec;
+    private readonly SnapshotPayloadWriter _writer = new();
+
+    public SnapshotSection(ISnapshotKeyCodec<TKey> codec) => _codec = codec;
+
+    public ReadOnlyMemory<byte> Bytes => _writer.WrittenMemory;
+
+    public void Write(ICollection<SeriesState<TKey>> series)
+    {
+        _writer.WriteInt32(series.Count);
+        foreach (SeriesState<TKey> s in series)
+        {
+            _writer.WriteKey(_codec, s.Key);
+            s.Write(_writer);
+        }
+    }
+
+    /// <summary>Reads every series of one section, creating each from the options the engine resolves for its key.</summary>
+    public static void Read(ReadOnlyMemory<byte> bytes, ISnapshotKeyCodec<TKey> codec, Func<TKey, SeriesOptions> resolve, long arrival, List<SeriesState<TKey>> into)
+    {
+        var reader = new SnapshotPayloadReader(bytes);
+        int count = reader.ReadInt32();
+        if (count < 0 || count > reader.Remaining)
+        {
+            throw new InvalidDataException("The snapshot holds an impossible series count.");
+        }
+
+        for (int i = 0; i < count; i++)
+        {
+            TKey key = reader.ReadKey(codec);
+            var state = new SeriesState<TKey>(key, resolve(key), arrival);
+            state.Read(reader);
+            into.Add(state);
+        }
+
+        reader.EnsureAtEnd();
+    }
+}
