@@ -9,4 +9,14 @@ public abstract partial record ForecasterOptions
     /// <returns>Validated options.</returns>
     /// <exception cref="ArgumentOutOfRangeException"><paramref name="alpha"/> is not in (0, 1].</exception>
     public static ExponentialSmoothingOptions ExponentialSmoothing(double alpha, LevelStart start = default) => new(alpha, start);
+
+    /// <summary>Holt's linear trend method; the same as <c>new HoltOptions(levelWeight, trendWeight, damping, start)</c>.</summary>
+    /// <param name="levelWeight">The level weight α (NIST α, FPP α), in (0, 1].</param>
+    /// <param name="trendWeight">The trend weight (NIST γ, FPP β*), in [0, 1].</param>
+    /// <param name="damping">The damping φ, in (0, 1]; 1 (the default) means no damping.</param>
+    /// <param name="start">The start rule; the default is <see cref="HoltStart.FirstTwoActuals"/> (FPP 1st ed.).</param>
+    /// <returns>Validated options.</returns>
+    /// <exception cref="ArgumentOutOfRangeException">A weight or the damping is out of range.</exception>
+    public static HoltOptions Holt(double levelWeight, double trendWeight, double damping = 1.0, HoltStart start = default) =>
+        new(levelWeight, trendWeight, damping, start);
 }
