@@ -127,7 +127,7 @@ public abstract class ForecasterContractTests
         f.Reset();
         var fresh = Options.CreateForecaster();
         Assert.Equal(fresh.ExportState(), f.ExportState());
-        Assert.False(f.IsWarm);
+        Assert.Equal(WarmUpLength == 0, f.IsWarm); // a method with given start values is warm before any actual
         Assert.Equal(0, f.Count);
         foreach (double y in Sample)
         {

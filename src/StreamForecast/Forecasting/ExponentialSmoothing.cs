@@ -1,0 +1,226 @@
+using System.Diagnostics.CodeAnalysis;
+using System.Globalization;
+using StreamForecast.Internal;
+
+namespace StreamForecast.Forecasting;
+
+/// <summary>
+/// Options for single exponential smoothing: the level ℓ(t) = α·y(t) + (1−α)·ℓ(t−1) is the forecast for every
+/// period ahead.
+/// </summary>
+/// <remarks>
+/// <para>Sources: NIST/SEMATECH e-Handbook of Statistical Methods §6.4.3.1–6.4.3.2 (there S(t+1) = α·y(t) +
+/// (1−α)·S(t), S(t) being the forecast for period t); Hyndman &amp; Athanasopoulos, <i>Forecasting: Principles
+/// and Practice</i> (1st ed.) §7.1 (the level ℓ(t), forecast ŷ(t+h) = ℓ(t)). Both call the weight α.</para>
+/// <para>Immutable and thread-safe. Validated at construction.</para>
+/// </remarks>
+public sealed record ExponentialSmoothingOptions : ForecasterOptions
+{
+    /// <summary>Creates single exponential smoothing options.</summary>
+    /// <param name="alpha">The smoothing weight α given to the newest actual, in (0, 1]; 1 gives the naive forecast.</param>
+    /// <param name="start">How the first level is set; the default is <see cref="LevelStart.FirstActual"/> (NIST).</param>
+    /// <exception cref="ArgumentOutOfRangeException"><paramref name="alpha"/> is not in (0, 1] (or is NaN).</exception>
+    public ExponentialSmoothingOptions(double alpha, LevelStart start = default)
+    {
+        CheckAlpha(alpha, nameof(alpha));
+        Alpha = alpha;
+        Start = start;
+    }
+
+    /// <summary>The smoothing weight α in (0, 1].</summary>
+    public double Alpha { get; }
+
+    /// <summary>The start rule for the first level.</summary>
+    public LevelStart Start { get; }
+
+    /// <inheritdoc/>
+    public override string MethodName => Start.Kind == LevelStartKind.FirstActual
+        ? string.Create(CultureInfo.InvariantCulture, $"SES({Alpha})")
+        : string.Create(CultureInfo.InvariantCulture, $"SES({Alpha}, {Start})");
+
+    /// <inheritdoc/>
+    public override Forecaster CreateForecaster() => new ExponentialSmoothing(this);
+
+    /// <summary>
+    /// The α whose smoothing has the same average age of data as an <paramref name="length"/>-period moving
+    /// average: α = 2/(n+1) (common practice; both average ages are (n−1)/2 = (1−α)/α periods).
+    /// </summary>
+    /// <param name="length">The moving-average length n, 1 or more (1 gives α = 1).</param>
+    /// <returns>2/(n+1), in (0, 1].</returns>
+    /// <exception cref="ArgumentOutOfRangeException"><paramref name="length"/> is less than 1.</exception>
+    public static double AlphaForLength(int length)
+    {
+        if (length < 1)
+        {
+            ThrowHelper.ThrowOutOfRange(nameof(length), length, "the moving-average length must be 1 or more");
+        }
+
+        return 2.0 / (length + 1.0);
+    }
+
+    /// <summary>
+    /// The moving-average length with the same average age of data as smoothing with <paramref name="alpha"/>:
+    /// n = 2/α − 1 (common practice; the inverse of <see cref="AlphaForLength"/>, not necessarily a whole number).
+    /// </summary>
+    /// <param name="alpha">The smoothing weight, in (0, 1].</param>
+    /// <returns>2/α − 1, at least 1.</returns>
+    /// <exception cref="ArgumentOutOfRangeException"><paramref name="alpha"/> is not in (0, 1].</exception>
+    public static double EquivalentLength(double alpha)
+    {
+        CheckAlpha(alpha, nameof(alpha));
+        return (2.0 / alpha) - 1.0;
+    }
+
+    private static void CheckAlpha(double alpha, string paramName)
+    {
+        if (!(alpha > 0 && alpha <= 1))
+        {
+            ThrowHelper.ThrowOutOfRange(paramName, alpha, "the smoothing weight alpha must be greater than 0 and at most 1");
+        }
+    }
+}
+
+/// <summary>Single exponential smoothing of one series. Create it from <see cref="ExponentialSmoothingOptions"/>.</summary>
+/// <remarks>
+/// <para><b>Equations.</b> Once warm, each actual y(t) updates the level ℓ(t) = α·y(t) + (1−α)·ℓ(t−1); the forecast
+/// for every horizon is the current level (a flat forecast).</para>
+/// <para><b>Warm-up.</b> Set by <see cref="ExponentialSmoothingOptions.Start"/>: after the first actual
+/// (<see cref="LevelStart.FirstActual"/>, NIST), after k actuals (<see cref="LevelStart.MeanOfFirst"/>), or
+/// immediately (<see cref="LevelStart.Given"/>: <see cref="Forecaster.IsWarm"/> is true before any actual).</para>
+/// <para><b>Horizon variance.</b> Under the ETS(A,N,N) model (local level with additive errors; Hyndman et al.,
+/// from memory) the h-step error variance is σ²·[1 + (h−1)·α²].</para>
+/// <para><b>Cost.</b> O(1) and allocation-free per update and forecast. <b>Bad input:</b> NaN, infinities and
+/// an actual that would overflow the level are rejected and the state is unchanged.</para>
+/// <para><b>Thread safety.</b> Not thread-safe; one owner per series.</para>
+/// </remarks>
+public sealed class ExponentialSmoothing : Forecaster
+{
+    private readonly ExponentialSmoothingOptions _options;
+    private readonly double _alpha;
+    private readonly double _oneMinusAlpha;
+    private readonly int _warmUpLength;
+    private double _level;
+    private CompensatedSum _startSum; // the first k actuals while MeanOfFirst is warming up; zero afterwards
+
+    /// <summary>Creates an empty forecaster.</summary>
+    /// <param name="options">Validated options.</param>
+    /// <exception cref="ArgumentNullException"><paramref name="options"/> is null.</exception>
+    public ExponentialSmoothing(ExponentialSmoothingOptions options)
+    {
+        ArgumentNullException.ThrowIfNull(options);
+        _options = options;
+        _alpha = options.Alpha;
+        _oneMinusAlpha = 1.0 - options.Alpha;
+        _warmUpLength = options.Start.WarmUpLength;
+        _level = options.Start.Level ?? 0;
+    }
+
+    /// <inheritdoc/>
+    public override ForecasterOptions Options => _options;
+
+    /// <inheritdoc/>
+    public override bool IsWarm => Count >= _warmUpLength;
+
+    /// <summary>The current level ℓ(t), which is the forecast for every horizon.</summary>
+    /// <exception cref="InvalidOperationException">The forecaster is not warm yet.</exception>
+    public double Level
+    {
+        get
+        {
+            if (!IsWarm)
+            {
+                ThrowHelper.ThrowNotWarm(_options.MethodName);
+            }
+
+            return _level;
+        }
+    }
+
+    private protected override void UpdateCore(double actual)
+    {
+        long seen = Count;
+        if (seen >= _warmUpLength)
+        {
+            double level = (_alpha * actual) + (_oneMinusAlpha * _level);
+            if (!double.IsFinite(level))
+            {
+                ThrowOverflow(actual);
+            }
+
+            _level = level;
+            return;
+        }
+
+        // Averaging the first k actuals (k = 1 for FirstActual).
+        CompensatedSum sum = _startSum;
+        sum.Add(actual);
+        if (!double.IsFinite(sum.Value))
+        {
+            ThrowOverflow(actual);
+        }
+
+        if (seen + 1 == _warmUpLength)
+        {
+            _level = sum.Value / _warmUpLength;
+            _startSum = default;
+        }
+        else
+        {
+            _startSum = sum;
+        }
+    }
+
+    private protected override double ForecastCore(int horizon) => _level;
+
+    private protected override double HorizonVarianceRatioCore(int horizon) => 1.0 + ((horizon - 1.0) * _alpha * _alpha);
+
+    private protected override void ResetCore()
+    {
+        _level = _options.Start.Level ?? 0;
+        _startSum = default;
+    }
+
+    // Layout: level, then the two parts of the warm-up sum.
+    private protected override int CoreStateLength => 3;
+
+    private protected override void ExportCore(Span<double> destination)
+    {
+        destination[0] = _level;
+        _startSum.CopyTo(destination[1..]);
+    }
+
+    private protected override string? ValidateCore(ReadOnlySpan<double> state, long count)
+    {
+        if (count >= _warmUpLength)
+        {
+            if (state[1] != 0 || state[2] != 0)
+            {
+                return "the warm-up sum must be zero once the forecaster is warm";
+            }
+
+            if (count == 0 && _options.Start.Level is double given && state[0] != given)
+            {
+                return "before any actual the level must be the given starting level";
+            }
+
+            return null;
+        }
+
+        if (state[0] != 0)
+        {
+            return "the level must be zero while the first actuals are being averaged";
+        }
+
+        return count == 0 && (state[1] != 0 || state[2] != 0) ? "the warm-up sum must be zero before any actual" : null;
+    }
+
+    private protected override void ImportCore(ReadOnlySpan<double> state, long count)
+    {
+        _level = state[0];
+        _startSum.LoadFrom(state[1..]);
+    }
+
+    [DoesNotReturn]
+    private static void ThrowOverflow(double actual) =>
+        ThrowHelper.ThrowOutOfRange(nameof(actual), actual, "the actual is so large that the smoothed level would overflow; the state is unchanged");
+}

@@ -1,0 +1,342 @@
+using System.Diagnostics.CodeAnalysis;
+using System.Globalization;
+using StreamForecast.Internal;
+
+namespace StreamForecast.Forecasting;
+
+/// <summary>
+/// Options for Holt's linear trend method (double exponential smoothing), optionally with a damped trend:
+/// <para>ℓ(t) = α·y(t) + (1−α)·(ℓ(t−1) + φ·b(t−1))</para>
+/// <para>b(t) = β·(ℓ(t) − ℓ(t−1)) + (1−β)·φ·b(t−1)</para>
+/// <para>F(t+h) = ℓ(t) + (φ + φ² + … + φʰ)·b(t)</para>
+/// with α the level weight, β the trend weight and φ the damping (φ = 1: no damping, F(t+h) = ℓ(t) + h·b(t)).
+/// </summary>
+/// <remarks>
+/// <para><b>Letters in the sources.</b> The parameters are named in words because the letters differ:</para>
+/// <list type="bullet">
+/// <item><description>NIST/SEMATECH e-Handbook §6.4.3.3 (double exponential smoothing): S(t) = α·y(t) +
+/// (1−α)·(S(t−1) + b(t−1)), b(t) = γ·(S(t) − S(t−1)) + (1−γ)·b(t−1), F(t+1) = S(t) + b(t). These are the equations
+/// above with φ = 1: level weight = NIST α, trend weight = NIST γ.</description></item>
+/// <item><description>Hyndman &amp; Athanasopoulos, <i>Forecasting: Principles and Practice</i> (1st ed.), §7.2 and
+/// §7.4 (damped; section numbers from memory): level weight = α, trend weight = β*, damping = φ.</description></item>
+/// <item><description>The ETS(A,A,N) / ETS(A,Ad,N) innovations model (Hyndman, Koehler, Ord &amp; Snyder 2008)
+/// writes the trend equation as b(t) = φ·b(t−1) + β·ε(t) with ε(t) the one-step error; its β is
+/// level weight × trend weight (α·β* in FPP's letters), because ℓ(t) − ℓ(t−1) − φ·b(t−1) = α·ε(t).</description></item>
+/// </list>
+/// <para>Immutable and thread-safe. Validated at construction.</para>
+/// </remarks>
+public sealed record HoltOptions : ForecasterOptions
+{
+    /// <summary>Creates Holt options.</summary>
+    /// <param name="levelWeight">The level weight α (NIST α, FPP α), in (0, 1].</param>
+    /// <param name="trendWeight">The trend weight (NIST γ, FPP β*), in [0, 1]; 0 keeps the starting trend (damped by φ).</param>
+    /// <param name="damping">The damping φ, in (0, 1]; the default 1 is Holt's undamped method.</param>
+    /// <param name="start">How the first level and trend are set; the default is <see cref="HoltStart.FirstTwoActuals"/> (FPP 1st ed.).</param>
+    /// <exception cref="ArgumentOutOfRangeException">A weight or the damping is out of range or NaN.</exception>
+    public HoltOptions(double levelWeight, double trendWeight, double damping = 1.0, HoltStart start = default)
+    {
+        if (!(levelWeight > 0 && levelWeight <= 1))
+        {
+            ThrowHelper.ThrowOutOfRange(nameof(levelWeight), levelWeight, "the level weight (alpha) must be greater than 0 and at most 1");
+        }
+
+        if (!(trendWeight >= 0 && trendWeight <= 1))
+        {
+            ThrowHelper.ThrowOutOfRange(nameof(trendWeight), trendWeight, "the trend weight (NIST gamma, FPP beta*) must be between 0 and 1");
+        }
+
+        if (!(damping > 0 && damping <= 1))
+        {
+            ThrowHelper.ThrowOutOfRange(nameof(damping), damping, "the damping (phi) must be greater than 0 and at most 1; 1 means no damping");
+        }
+
+        LevelWeight = levelWeight;
+        TrendWeight = trendWeight;
+        Damping = damping;
+        Start = start;
+    }
+
+    /// <summary>The level weight α in (0, 1].</summary>
+    public double LevelWeight { get; }
+
+    /// <summary>The trend weight in [0, 1] (NIST γ, FPP β*).</summary>
+    public double TrendWeight { get; }
+
+    /// <summary>The damping φ in (0, 1]; 1 means no damping.</summary>
+    public double Damping { get; }
+
+    /// <summary>The start rule for the first level and trend.</summary>
+    public HoltStart Start { get; }
+
+    /// <inheritdoc/>
+    public override string MethodName
+    {
+        get
+        {
+            string damped = Damping == 1.0 ? string.Empty : string.Create(CultureInfo.InvariantCulture, $", damping {Damping}");
+            string start = Start.Kind == HoltStartKind.FirstTwoActuals ? string.Empty : $", {Start}";
+            return string.Create(CultureInfo.InvariantCulture, $"Holt({LevelWeight}, {TrendWeight}{damped}{start})");
+        }
+    }
+
+    /// <inheritdoc/>
+    public override Forecaster CreateForecaster() => new Holt(this);
+}
+
+/// <summary>Holt's linear trend method (optionally damped) for one series. Create it from <see cref="HoltOptions"/>.</summary>
+/// <remarks>
+/// <para><b>Equations.</b> See <see cref="HoltOptions"/>. Which actuals pass through them is fixed by the start
+/// rule (<see cref="HoltStart"/>); once warm, every actual does.</para>
+/// <para><b>Warm-up.</b> 2 actuals (<see cref="HoltStart.FirstTwoActuals"/>), d + 1
+/// (<see cref="HoltStart.MeanOfFirstDifferences"/>), 1 (<see cref="HoltStart.FirstActualAndTrend"/>) or none
+/// (<see cref="HoltStart.Given"/>).</para>
+/// <para><b>Horizon variance.</b> Under the ETS(A,A,N) model (Hyndman, Koehler, Ord &amp; Snyder 2008, class 1,
+/// from memory) the h-step error variance is σ²·[1 + Σ_{j=1}^{h−1} c_j²] with c_j = α + β_ETS·j, β_ETS = α × trend
+/// weight, which sums to 1 + (h−1)·[α² + α·β_ETS·h + β_ETS²·h(2h−1)/6] (O(1)). Damped (ETS(A,Ad,N)):
+/// c_j = α + β_ETS·(φ + … + φʲ), summed term by term until φʲ stops mattering in double precision, so
+/// <see cref="Forecaster.HorizonVarianceRatio"/> costs O(min(h, 40/(1−φ))).</para>
+/// <para><b>Cost.</b> O(1) and allocation-free per update and forecast. <b>Bad input:</b> NaN, infinities and an
+/// actual that would overflow the level or trend are rejected and the state is unchanged.</para>
+/// <para><b>Thread safety.</b> Not thread-safe; one owner per series.</para>
+/// </remarks>
+public sealed class Holt : Forecaster
+{
+    private readonly HoltOptions _options;
+    private readonly HoltStartKind _startKind;
+    private readonly int _warmUpLength;
+    private readonly double _alpha;
+    private readonly double _oneMinusAlpha;
+    private readonly double _beta;
+    private readonly double _oneMinusBeta;
+    private readonly double _phi;
+
+    // Once warm: the level and trend. While MeanOfFirstDifferences warms up they hold the parts P and R of
+    // level = P + Q·b₁ and trend = R + U·b₁, with b₁ not yet known.
+    private double _level;
+    private double _trend;
+    private double _levelPerStartTrend;  // Q (warm-up only; zero afterwards)
+    private double _trendPerStartTrend;  // U (warm-up only; zero afterwards)
+    private double _firstActual;         // y₁ (warm-up only; zero afterwards)
+
+    /// <summary>Creates an empty forecaster.</summary>
+    /// <param name="options">Validated options.</param>
+    /// <exception cref="ArgumentNullException"><paramref name="options"/> is null.</exception>
+    public Holt(HoltOptions options)
+    {
+        ArgumentNullException.ThrowIfNull(options);
+        _options = options;
+        _startKind = options.Start.Kind;
+        _warmUpLength = options.Start.WarmUpLength;
+        _alpha = options.LevelWeight;
+        _oneMinusAlpha = 1.0 - options.LevelWeight;
+        _beta = options.TrendWeight;
+        _oneMinusBeta = 1.0 - options.TrendWeight;
+        _phi = options.Damping;
+        ResetCore();
+    }
+
+    /// <inheritdoc/>
+    public override ForecasterOptions Options => _options;
+
+    /// <inheritdoc/>
+    public override bool IsWarm => Count >= _warmUpLength;
+
+    /// <summary>The current level ℓ(t) (NIST S(t)).</summary>
+    /// <exception cref="InvalidOperationException">The forecaster is not warm yet.</exception>
+    public double Level
+    {
+        get
+        {
+            if (!IsWarm)
+            {
+                ThrowHelper.ThrowNotWarm(_options.MethodName);
+            }
+
+            return _level;
+        }
+    }
+
+    /// <summary>The current trend b(t) per period, before damping.</summary>
+    /// <exception cref="InvalidOperationException">The forecaster is not warm yet.</exception>
+    public double Trend
+    {
+        get
+        {
+            if (!IsWarm)
+            {
+                ThrowHelper.ThrowNotWarm(_options.MethodName);
+            }
+
+            return _trend;
+        }
+    }
+
+    private protected override void UpdateCore(double actual)
+    {
+        long seen = Count;
+        if (seen >= _warmUpLength)
+        {
+            Step(_level, _trend, actual, out double level, out double trend);
+            Commit(actual, level, trend);
+            return;
+        }
+
+        switch (_startKind)
+        {
+            case HoltStartKind.FirstActualAndTrend:
+                // NIST: S₁ = y₁ with the given b₁.
+                Commit(actual, actual, _options.Start.Trend.GetValueOrDefault());
+                break;
+
+            case HoltStartKind.MeanOfFirstDifferences:
+                UpdateDifferencesStart(actual, seen);
+                break;
+
+            default: // FirstTwoActuals
+                if (seen == 0)
+                {
+                    _firstActual = actual;
+                }
+                else
+                {
+                    // FPP 1st ed.: ℓ₀ = y₁, b₀ = y₂ − y₁, then the equations over y₁ and y₂.
+                    double first = _firstActual;
+                    Step(first, actual - first, first, out double level1, out double trend1);
+                    Step(level1, trend1, actual, out double level2, out double trend2);
+                    Commit(actual, level2, trend2);
+                    _firstActual = 0;
+                }
+
+                break;
+        }
+    }
+
+    private void UpdateDifferencesStart(double actual, long seen)
+    {
+        if (seen == 0)
+        {
+            // S₁ = y₁ (P = y₁, Q = 0); b₁ unknown (R = 0, U = 1).
+            _firstActual = actual;
+            _level = actual;
+            _trend = 0;
+            _levelPerStartTrend = 0;
+            _trendPerStartTrend = 1;
+            return;
+        }
+
+        // The equations are linear in b₁: run them on the parts (P, R) and the coefficients (Q, U) separately.
+        double p = (_alpha * actual) + (_oneMinusAlpha * (_level + (_phi * _trend)));
+        double r = (_beta * (p - _level)) + (_oneMinusBeta * _phi * _trend);
+        double q = _oneMinusAlpha * (_levelPerStartTrend + (_phi * _trendPerStartTrend));
+        double u = (_beta * (q - _levelPerStartTrend)) + (_oneMinusBeta * _phi * _trendPerStartTrend);
+        if (seen + 1 < _warmUpLength)
+        {
+            if (!(double.IsFinite(p) && double.IsFinite(r)))
+            {
+                ThrowOverflow(actual);
+            }
+
+            _level = p;
+            _trend = r;
+            _levelPerStartTrend = q;
+            _trendPerStartTrend = u;
+            return;
+        }
+
+        // y(d+1) has arrived: b₁ = (y(d+1) − y₁)/d.
+        double startTrend = (actual - _firstActual) / (_warmUpLength - 1);
+        Commit(actual, p + (q * startTrend), r + (u * startTrend));
+        _levelPerStartTrend = 0;
+        _trendPerStartTrend = 0;
+        _firstActual = 0;
+    }
+
+    private void Step(double level, double trend, double actual, out double newLevel, out double newTrend)
+    {
+        double dampedTrend = _phi * trend;
+        newLevel = (_alpha * actual) + (_oneMinusAlpha * (level + dampedTrend));
+        newTrend = (_beta * (newLevel - level)) + (_oneMinusBeta * dampedTrend);
+    }
+
+    private void Commit(double actual, double level, double trend)
+    {
+        if (!(double.IsFinite(level) && double.IsFinite(trend)))
+        {
+            ThrowOverflow(actual);
+        }
+
+        _level = level;
+        _trend = trend;
+    }
+
+    private protected override double ForecastCore(int horizon) => _level + (SmoothingMath.DampedSum(_phi, horizon) * _trend);
+
+    private protected override double HorizonVarianceRatioCore(int horizon) =>
+        SmoothingMath.HorizonVarianceRatio(_alpha, _alpha * _beta, 0, _phi, 0, horizon);
+
+    private protected override void ResetCore()
+    {
+        _level = _options.Start.Level ?? 0;
+        _trend = _startKind == HoltStartKind.Given ? _options.Start.Trend.GetValueOrDefault() : 0;
+        _levelPerStartTrend = 0;
+        _trendPerStartTrend = 0;
+        _firstActual = 0;
+    }
+
+    // Layout: level (or P), trend (or R), Q, U, y₁.
+    private protected override int CoreStateLength => 5;
+
+    private protected override void ExportCore(Span<double> destination)
+    {
+        destination[0] = _level;
+        destination[1] = _trend;
+        destination[2] = _levelPerStartTrend;
+        destination[3] = _trendPerStartTrend;
+        destination[4] = _firstActual;
+    }
+
+    private protected override string? ValidateCore(ReadOnlySpan<double> state, long count)
+    {
+        bool warmUpPartsZero = state[2] == 0 && state[3] == 0 && state[4] == 0;
+        if (count >= _warmUpLength)
+        {
+            if (!warmUpPartsZero)
+            {
+                return "the warm-up numbers must be zero once the forecaster is warm";
+            }
+
+            if (count == 0 && (state[0] != _options.Start.Level || state[1] != _options.Start.Trend))
+            {
+                return "before any actual the level and trend must be the given starting values";
+            }
+
+            return null;
+        }
+
+        if (count == 0)
+        {
+            return state[0] == 0 && state[1] == 0 && warmUpPartsZero ? null : "before any actual every number must be zero";
+        }
+
+        if (_startKind == HoltStartKind.FirstTwoActuals)
+        {
+            // One actual seen: only y₁ is kept.
+            return state[0] == 0 && state[1] == 0 && state[2] == 0 && state[3] == 0 ? null : "after one actual only the first actual may be non-zero";
+        }
+
+        return null; // MeanOfFirstDifferences part-way: any finite parts.
+    }
+
+    private protected override void ImportCore(ReadOnlySpan<double> state, long count)
+    {
+        _level = state[0];
+        _trend = state[1];
+        _levelPerStartTrend = state[2];
+        _trendPerStartTrend = state[3];
+        _firstActual = state[4];
+    }
+
+    [DoesNotReturn]
+    private static void ThrowOverflow(double actual) =>
+        ThrowHelper.ThrowOutOfRange(nameof(actual), actual, "the actual is so large that the level or trend would overflow; the state is unchanged");
+}
