@@ -80,7 +80,8 @@ public sealed class ForecastEngine<TKey> : IAsyncDisposable
             _seriesCount = restored.Count;
         }
 
-        _meter = new Meter("StreamForecast.Engine");
+        // One meter per engine, scoped to it, so listeners can tell several engines in one process apart.
+        _meter = new Meter(new MeterOptions(MeterName) { Scope = this });
         CreateInstruments();
         foreach (Partition<TKey> p in _partitions)
         {
@@ -95,6 +96,9 @@ public sealed class ForecastEngine<TKey> : IAsyncDisposable
             TaskScheduler.Default);
         _idleTimer = options.TimeProvider.CreateTimer(static s => ((ForecastEngine<TKey>)s!).RequestIdleCheck(), this, options.IdleCheckInterval, options.IdleCheckInterval);
     }
+
+    /// <summary>The name of the engine's <see cref="Meter"/>; each engine's meter has the engine as its scope.</summary>
+    public const string MeterName = "StreamForecast.Engine";
 
     /// <summary>The options the engine was created with.</summary>
     public ForecastEngineOptions<TKey> Options { get; }
@@ -425,10 +429,12 @@ public sealed class ForecastEngine<TKey> : IAsyncDisposable
 
     private async Task FinishAsync(Task loops)
     {
+        // Subscribers of forecasts and alerts may still fail while draining and report on Faults: complete Faults last.
         _forecasts.Complete(loops.Exception);
         _alerts.Complete(loops.Exception);
+        await Task.WhenAll(_forecasts.Completion, _alerts.Completion).ConfigureAwait(false);
         _faults.Complete(loops.Exception);
-        await Task.WhenAll(_forecasts.Completion, _alerts.Completion, _faults.Completion).ConfigureAwait(false);
+        await _faults.Completion.ConfigureAwait(false);
         _completion.TrySetResult();
     }
 

@@ -302,13 +302,19 @@ public sealed class ForecastEngineBehaviourTests
         var tagged = new List<string>();
         listener.InstrumentPublished = (instrument, l) =>
         {
-            if (instrument.Meter.Name == "StreamForecast.Engine")
+            if (instrument.Meter.Name == ForecastEngine<string>.MeterName)
             {
                 l.EnableMeasurementEvents(instrument);
             }
         };
+        ForecastEngine<string>? engine = null;
         listener.SetMeasurementEventCallback<long>((instrument, value, tags, _) =>
         {
+            if (!ReferenceEquals(instrument.Meter.Scope, engine))
+            {
+                return; // another test's engine
+            }
+
             seen[instrument.Name] = value;
             if (tags.Length > 0)
             {
@@ -316,7 +322,7 @@ public sealed class ForecastEngineBehaviourTests
             }
         });
         listener.Start();
-        var engine = new ForecastEngine<string>(Options(Minutes()));
+        engine = new ForecastEngine<string>(Options(Minutes()));
         await engine.PostAsync(new("a", Minute(0), 1));
         await engine.PostAsync(new("a", Minute(1), 1));
         await Barrier(engine);
