@@ -261,6 +261,20 @@ public sealed class ForecastEngine<TKey> : IAsyncDisposable
         await SnapshotFormat.WriteAsync(destination, inputPosition, parts, cancellationToken).ConfigureAwait(false);
     }
 
+    /// <summary>Takes a snapshot (see <see cref="SnapshotAsync"/>) and saves it in a checkpoint store.</summary>
+    /// <param name="store">Where checkpoints are kept, for example a <see cref="FileCheckpointStore"/>.</param>
+    /// <param name="keyCodec">How keys are written.</param>
+    /// <param name="inputPosition">Where in the caller's input this checkpoint stands; replay from here after a restore.</param>
+    /// <param name="cancellationToken">Stops waiting.</param>
+    /// <returns>A task that completes when the checkpoint is stored.</returns>
+    public async Task SaveCheckpointAsync(ICheckpointStore store, ISnapshotKeyCodec<TKey> keyCodec, long inputPosition, CancellationToken cancellationToken = default)
+    {
+        ArgumentNullException.ThrowIfNull(store);
+        using var buffer = new MemoryStream();
+        await SnapshotAsync(buffer, keyCodec, inputPosition, cancellationToken).ConfigureAwait(false);
+        await store.SaveAsync(buffer.GetBuffer().AsMemory(0, (int)buffer.Length), inputPosition, cancellationToken).ConfigureAwait(false);
+    }
+
     /// <summary>The engine's counters, summed over partitions (each read without locks, so a sum may straddle an update).</summary>
     /// <returns>The counters now.</returns>
     public EngineCounters GetCounters()
@@ -517,6 +531,32 @@ public static class ForecastEngine
         }
 
         return (new ForecastEngine<TKey>(options, series), content.InputPosition);
+    }
+
+    /// <summary>
+    /// Starts an engine from the newest valid checkpoint in <paramref name="store"/>, or an empty engine at input
+    /// position 0 when the store holds none. A damaged newest checkpoint falls back to an older one (the store reports which).
+    /// </summary>
+    /// <typeparam name="TKey">The series key type.</typeparam>
+    /// <param name="store">Where checkpoints are kept.</param>
+    /// <param name="options">The engine options; each key's series options must match those the checkpoint was taken with.</param>
+    /// <param name="keyCodec">How keys were written.</param>
+    /// <param name="cancellationToken">Stops reading.</param>
+    /// <returns>The running engine and the input position to continue the input from.</returns>
+    /// <exception cref="InvalidDataException">Every stored checkpoint is damaged, or the newest valid one does not fit the options.</exception>
+    public static async Task<(ForecastEngine<TKey> Engine, long InputPosition)> RestoreAsync<TKey>(
+        ICheckpointStore store, ForecastEngineOptions<TKey> options, ISnapshotKeyCodec<TKey> keyCodec, CancellationToken cancellationToken = default)
+        where TKey : notnull
+    {
+        ArgumentNullException.ThrowIfNull(store);
+        Checkpoint? checkpoint = await store.LoadLatestAsync(cancellationToken).ConfigureAwait(false);
+        if (checkpoint is null)
+        {
+            return (new ForecastEngine<TKey>(options), 0);
+        }
+
+        using var stream = new MemoryStream(checkpoint.Snapshot.ToArray(), writable: false);
+        return await RestoreAsync(stream, options, keyCodec, cancellationToken).ConfigureAwait(false);
     }
 }
 
