@@ -35,6 +35,9 @@ public enum SeriesFaultKind
 
     /// <summary>An observation could not be taken (its time is outside the calendar, or its series could not be set up); it was counted as rejected.</summary>
     ObservationRejected = 3,
+
+    /// <summary>An unexpected error (a defect) while handling an item; the partition went on with the next item.</summary>
+    InternalError = 4,
 }
 
 /// <summary>A per-series or per-subscriber fault: the stream goes on for every other key and subscriber.</summary>

@@ -344,12 +344,19 @@ public sealed class ForecastEngine<TKey> : IAsyncDisposable
 
     internal bool TryReserveSeries()
     {
-        if (Interlocked.Increment(ref _seriesCount) <= Options.MaxSeries)
+        // Compare-and-swap, so that two partitions racing for the last slot never both fail on a transient over-count.
+        int current = Volatile.Read(ref _seriesCount);
+        while (current < Options.MaxSeries)
         {
-            return true;
+            int seen = Interlocked.CompareExchange(ref _seriesCount, current + 1, current);
+            if (seen == current)
+            {
+                return true;
+            }
+
+            current = seen;
         }
 
-        Interlocked.Decrement(ref _seriesCount);
         return false;
     }
 

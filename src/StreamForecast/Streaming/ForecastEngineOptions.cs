@@ -40,7 +40,11 @@ public sealed record ForecastEngineOptions<TKey>
     /// Events stamped further than this ahead of the time provider's clock are rejected at post (a broken clock would
     /// otherwise close every period up to the far future; default 1 day; <see cref="Timeout.InfiniteTimeSpan"/> turns the check off).
     /// </param>
-    /// <param name="maxSeries">The most series held at once; the first observation of a new key beyond it is rejected and counted (default 10,000,000).</param>
+    /// <param name="maxSeries">
+    /// The most series held at once; an observation of a new key beyond it is rejected and counted (default 10,000,000).
+    /// The limit is shared by all partitions, so with more than one partition which new keys get the last slots depends
+    /// on how the partitions interleave.
+    /// </param>
     /// <param name="evictAfterQuietPeriods">
     /// A series whose last this-many closed periods had no observation is removed (its state is lost) and counted; checked on
     /// advance, flush and idle checks (default: never).

@@ -166,6 +166,12 @@ internal sealed class Partition<TKey> : ISeriesOutput<TKey>
         {
             message.Done.TrySetException(ex);
         }
+        catch (Exception ex) when (ex is not OutOfMemoryException)
+        {
+            // A defect must not end the loop that owns every other series of this partition: report it as a fault.
+            _engine.CountRejected();
+            _engine.PublishFault(new SeriesFault<TKey>(message.Observation.Key, 0, SeriesFaultKind.InternalError, ex.ToString()));
+        }
     }
 
     private void Observe(in Observation<TKey> observation, long arrival)
@@ -202,14 +208,14 @@ internal sealed class Partition<TKey> : ISeriesOutput<TKey>
         }
 
         SeriesState<TKey> state = slot!;
-        if (!state.Options.Calendar.TryPeriodOf(observation.Timestamp, out _))
+        if (!state.Options.Calendar.TryPeriodOf(observation.Timestamp, out long period))
         {
             _engine.CountRejected();
             _engine.PublishFault(new SeriesFault<TKey>(observation.Key, 0, SeriesFaultKind.ObservationRejected, "The event time is outside the range the series' calendar supports."));
             return;
         }
 
-        state.Observe(observation.Timestamp, observation.Quantity, observation.EventId, arrival, this);
+        state.Observe(observation.Timestamp, period, observation.Quantity, observation.EventId, arrival, this);
     }
 
     private void EvictQuiet()

@@ -41,7 +41,7 @@ public sealed record SeriesOptions
     /// <param name="tracking">Error-tracking options (default <see cref="ErrorTrackerOptions.Default"/>).</param>
     /// <param name="rules">Drift rules evaluated on each scored period (default: none).</param>
     /// <param name="horizon">The further horizon h reported with each update besides the next period (default 1, 1 to 10,000).</param>
-    /// <param name="intervalMultiplier">The normal multiplier z of the prediction intervals (default 1.2816, an 80% interval; 0 to 10).</param>
+    /// <param name="intervalMultiplier">The normal multiplier z of the prediction intervals (default 1.2816, an 80% interval; above 0, at most 10).</param>
     /// <param name="idleTimeout">
     /// After this much quiet (measured with the engine's <see cref="TimeProvider"/>), the series' periods up to its last
     /// event time plus the quiet time, less the lateness, are closed (default: never).
@@ -73,9 +73,9 @@ public sealed record SeriesOptions
             ThrowHelper.ThrowOutOfRange(nameof(horizon), horizon, "the horizon must be between 1 and 10,000 periods");
         }
 
-        if (!(intervalMultiplier >= 0 && intervalMultiplier <= 10))
+        if (!(intervalMultiplier > 0 && intervalMultiplier <= 10))
         {
-            ThrowHelper.ThrowOutOfRange(nameof(intervalMultiplier), intervalMultiplier, "the interval multiplier z must be between 0 and 10");
+            ThrowHelper.ThrowOutOfRange(nameof(intervalMultiplier), intervalMultiplier, "the interval multiplier z must be above 0 and at most 10 (1.2816 for 80%, 1.96 for 95%)");
         }
 
         if (idleTimeout is { } idle && idle <= TimeSpan.Zero)

@@ -126,8 +126,8 @@ internal sealed class SeriesState<TKey>
         return (int)Math.Min(1_000_000, spans + 2);
     }
 
-    /// <summary>Takes one observation that the engine already validated (finite quantity, time inside the calendar).</summary>
-    public void Observe(DateTimeOffset timestamp, double quantity, string? eventId, long arrivalTimestamp, ISeriesOutput<TKey> output)
+    /// <summary>Takes one observation that the engine already validated (finite quantity, time inside the calendar, its period looked up).</summary>
+    public void Observe(DateTimeOffset timestamp, long period, double quantity, string? eventId, long arrivalTimestamp, ISeriesOutput<TKey> output)
     {
         if (eventId is not null && _options.DuplicateWindow > 0)
         {
@@ -141,7 +141,6 @@ internal sealed class SeriesState<TKey>
 
         _lastArrival = arrivalTimestamp;
         long ticks = timestamp.UtcTicks;
-        long period = _calendar.PeriodOf(timestamp);
         output.Counters.Observations++;
         if (!_started)
         {

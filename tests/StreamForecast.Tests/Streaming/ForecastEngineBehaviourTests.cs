@@ -334,6 +334,129 @@ public sealed class ForecastEngineBehaviourTests
         Assert.Empty(tagged);
     }
 
+    [Theory]
+    [InlineData(GapPolicy.Zero, new[] { 4.0, 0.0, 0.0, 7.0 }, new[] { false, true, true, false })]
+    [InlineData(GapPolicy.CarryForward, new[] { 4.0, 4.0, 4.0, 7.0 }, new[] { false, true, true, false })]
+    [InlineData(GapPolicy.Missing, new[] { 4.0, 7.0 }, new[] { false, false })]
+    public async Task GapPolicy_EmptyPeriods_AreZeroCarriedOrSkipped(GapPolicy gaps, double[] actuals, bool[] imputed)
+    {
+        await using var engine = new ForecastEngine<string>(Options(Minutes(new NaiveOptions(), gaps)));
+        var recorder = EngineRecorder<string>.Attach(engine);
+        await engine.PostAsync(new("sensor", Minute(0), 4));
+        await engine.PostAsync(new("sensor", Minute(3), 7));
+        await engine.FlushAsync();
+        await engine.DisposeAsync();
+        Assert.Equal(actuals, recorder.Forecasts.Select(u => u.Actual));
+        Assert.Equal(imputed, recorder.Forecasts.Select(u => u.IsImputed));
+        Assert.Equal(2, engine.GetCounters().GapPeriods);
+
+        // Carried-forward values move the forecaster but are never scored.
+        if (gaps == GapPolicy.CarryForward)
+        {
+            Assert.True(double.IsNaN(recorder.Forecasts[1].Error));
+            Assert.Equal(1, recorder.Forecasts[^1].Errors.ScoredPeriods);
+            Assert.Equal(3.0, recorder.Forecasts[^1].Error); // 7 − the carried 4
+        }
+    }
+
+    [Fact]
+    public async Task MaxSeries_NewKeyBeyondLimit_IsRejectedAndCounted()
+    {
+        // One partition: with several, which new keys win the last slots depends on how the partitions interleave.
+        var options = new ForecastEngineOptions<string>(Minutes(), partitions: 1, maxSeries: 2, timeProvider: new FakeTimeProvider(s_now));
+        await using var engine = new ForecastEngine<string>(options);
+        foreach (string key in new[] { "a", "b", "c", "a" })
+        {
+            await engine.PostAsync(new(key, Minute(0), 1));
+        }
+
+        await Barrier(engine);
+        Assert.Equal(2, engine.SeriesCount);
+        Assert.Equal(1, engine.GetCounters().Rejected);
+        Assert.Equal(3, engine.GetCounters().Observations);
+    }
+
+    [Fact]
+    public async Task PostAsync_CancelledWhileQueueFull_ThrowsAndPostsNothingMore()
+    {
+        var options = Options(Minutes(), partitions: 1, queueCapacity: 2, publishing: new PublishingOptions(100, readerCapacity: 1));
+        var engine = new ForecastEngine<string>(options);
+        await using var reader = engine.ReadForecastsAsync().GetAsyncEnumerator();
+        var first = reader.MoveNextAsync(); // attaches a reader that takes one update and is never read again
+
+        // Minutes 0..3 close three periods: one update taken by the reader, one buffered, the third blocks the
+        // partition for good (backpressure) while it handles minute 3.
+        for (int m = 0; m < 4; m++)
+        {
+            await engine.PostAsync(new("a", Minute(m), m));
+        }
+
+        Assert.True(await first);
+        var guard = System.Diagnostics.Stopwatch.StartNew();
+        while (engine.GetCounters().Observations < 4)
+        {
+            Assert.True(guard.Elapsed < TimeSpan.FromSeconds(30), "the partition never reached minute 3");
+            await Task.Yield();
+        }
+
+        Assert.True(engine.TryPost(new("a", Minute(4), 4)));
+        Assert.True(engine.TryPost(new("a", Minute(5), 5)));
+        Assert.False(engine.TryPost(new("a", Minute(6), 6))); // the queue (2) is full
+
+        using var cancel = new CancellationTokenSource();
+        ValueTask pending = engine.PostAsync(new("a", Minute(6), 6), cancel.Token);
+        Assert.False(pending.IsCompleted);
+        await cancel.CancelAsync();
+        await Assert.ThrowsAnyAsync<OperationCanceledException>(async () => await pending);
+        Assert.Equal(4, engine.GetCounters().Observations);
+        engine.Complete();
+    }
+
+    [Fact]
+    public void Options_InvalidSettings_ThrowWithTheAllowedRange()
+    {
+        var calendar = PeriodCalendar.FixedInterval(TimeSpan.FromMinutes(1));
+        Assert.Throws<ArgumentOutOfRangeException>(() => new SeriesOptions(new NaiveOptions(), calendar, horizon: 0));
+        Assert.Throws<ArgumentOutOfRangeException>(() => new SeriesOptions(new NaiveOptions(), calendar, intervalMultiplier: 0));
+        Assert.Throws<ArgumentOutOfRangeException>(() => new SeriesOptions(new NaiveOptions(), calendar, idleTimeout: TimeSpan.Zero));
+        Assert.Throws<ArgumentOutOfRangeException>(() => new SeriesOptions(new NaiveOptions(), calendar, duplicateWindow: -1));
+        Assert.Throws<ArgumentNullException>(() => new SeriesOptions(null!, calendar));
+        var series = new SeriesOptions(new NaiveOptions(), calendar);
+        Assert.Throws<ArgumentOutOfRangeException>(() => new ForecastEngineOptions<string>(series, partitions: 0));
+        Assert.Throws<ArgumentOutOfRangeException>(() => new ForecastEngineOptions<string>(series, queueCapacity: 0));
+        Assert.Throws<ArgumentOutOfRangeException>(() => new ForecastEngineOptions<string>(series, maxSeries: 0));
+        Assert.Throws<ArgumentOutOfRangeException>(() => new ForecastEngineOptions<string>(series, evictAfterQuietPeriods: 0));
+        Assert.Throws<ArgumentOutOfRangeException>(() => new ForecastEngineOptions<string>(series, idleCheckInterval: TimeSpan.FromHours(2)));
+        Assert.Equal(Environment.ProcessorCount, new ForecastEngineOptions<string>(series).Partitions);
+    }
+
+    [Fact]
+    public async Task TryPost_AfterComplete_Throws()
+    {
+        var engine = new ForecastEngine<string>(Options(Minutes()));
+        engine.Complete();
+        await engine.Completion;
+        Assert.Throws<InvalidOperationException>(() => engine.TryPost(new("a", Minute(0), 1)));
+        await Assert.ThrowsAsync<InvalidOperationException>(() => engine.FlushAsync());
+    }
+
+    [Fact]
+    public async Task Forecasts_CompositeKeyWithComparer_GroupsByEveryPart()
+    {
+        // Composite keys (shop, item) work through a value-tuple and the default comparer, or any caller comparer.
+        var options = new ForecastEngineOptions<(string Shop, string Item)>(Minutes(), partitions: 2, timeProvider: new FakeTimeProvider(s_now));
+        await using var engine = new ForecastEngine<(string Shop, string Item)>(options);
+        var seen = new List<ForecastUpdate<(string Shop, string Item)>>();
+        using var sub = engine.Forecasts.Subscribe(new ListObserver<ForecastUpdate<(string Shop, string Item)>>(seen));
+        await engine.PostAsync(new(("harbour", "rye"), Minute(0), 1));
+        await engine.PostAsync(new(("harbour", "bun"), Minute(0), 2));
+        await engine.PostAsync(new(("mill", "rye"), Minute(0), 3));
+        await engine.FlushAsync();
+        Assert.Equal(3, engine.SeriesCount);
+        await engine.DisposeAsync();
+        Assert.Equal(3, seen.Count);
+    }
+
     /// <summary>Waits until every partition has handled everything queued before the call.</summary>
     private static Task Barrier<TKey>(ForecastEngine<TKey> engine)
         where TKey : notnull => engine.AdvanceAsync(DateTimeOffset.MinValue);
@@ -354,6 +477,23 @@ public sealed class ForecastEngineBehaviourTests
         {
             Interlocked.Increment(ref Calls);
             throw new InvalidOperationException("a subscriber with a bug");
+        }
+    }
+
+    private sealed class ListObserver<T>(List<T> items) : IObserver<T>
+    {
+        public void OnCompleted()
+        {
+        }
+
+        public void OnError(Exception error) => throw error;
+
+        public void OnNext(T value)
+        {
+            lock (items)
+            {
+                items.Add(value);
+            }
         }
     }
 }
