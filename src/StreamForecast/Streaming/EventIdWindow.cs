@@ -1,52 +1,48 @@
 namespace StreamForecast.Streaming;
 
 /// <summary>
-/// The last <c>capacity</c> event ids of one series, for de-duplication with bounded memory: a set for look-up and
-/// a ring for first-in, first-out forgetting. Allocated once per series, on its first event id.
+/// The event ids one series still has to recognise as repeats: those of events whose period is open or still
+/// restatable, at most <c>capacity</c> of them. Older ids are forgotten as their periods fall out of the lateness and
+/// restatement horizon (a repeat of such an event is late anyway). Memory grows with the ids actually held, not with
+/// the capacity.
 /// </summary>
 internal sealed class EventIdWindow
 {
-    private readonly HashSet<string> _set;
-    private readonly string?[] _ring;
-    private int _next;
+    private readonly HashSet<string> _set = new(StringComparer.Ordinal);
+    private readonly Queue<(string Id, long Period)> _order = new();
+    private readonly int _capacity;
 
-    public EventIdWindow(int capacity)
-    {
-        _set = new HashSet<string>(capacity, StringComparer.Ordinal);
-        _ring = new string?[capacity];
-    }
+    public EventIdWindow(int capacity) => _capacity = capacity;
 
     public int Count => _set.Count;
 
-    /// <summary>Remembers <paramref name="id"/>; false when it is already remembered (a duplicate).</summary>
-    public bool TryAdd(string id)
+    /// <summary>Remembers <paramref name="id"/> for an event of <paramref name="period"/>; false when it is already remembered (a repeat).</summary>
+    public bool TryAdd(string id, long period)
     {
         if (!_set.Add(id))
         {
             return false;
         }
 
-        string? evicted = _ring[_next];
-        if (evicted is not null)
+        _order.Enqueue((id, period));
+        if (_order.Count > _capacity)
         {
-            _set.Remove(evicted);
+            _set.Remove(_order.Dequeue().Id);
         }
 
-        _ring[_next] = id;
-        _next = _next + 1 == _ring.Length ? 0 : _next + 1;
         return true;
     }
 
-    /// <summary>The remembered ids, oldest first.</summary>
-    public IEnumerable<string> Oldest()
+    /// <summary>Forgets ids, oldest arrival first, whose period is before <paramref name="period"/>.</summary>
+    /// <remarks>Arrival order is nearly period order; an id that arrived out of order may be kept a little longer.</remarks>
+    public void ForgetBefore(long period)
     {
-        for (int i = 0; i < _ring.Length; i++)
+        while (_order.TryPeek(out var oldest) && oldest.Period < period)
         {
-            string? id = _ring[(_next + i) % _ring.Length];
-            if (id is not null)
-            {
-                yield return id;
-            }
+            _set.Remove(_order.Dequeue().Id);
         }
     }
+
+    /// <summary>The remembered ids with their periods, oldest arrival first.</summary>
+    public IEnumerable<(string Id, long Period)> Oldest() => _order;
 }

@@ -46,7 +46,11 @@ public sealed record SeriesOptions
     /// After this much quiet (measured with the engine's <see cref="TimeProvider"/>), the series' periods up to its last
     /// event time plus the quiet time, less the lateness, are closed (default: never).
     /// </param>
-    /// <param name="duplicateWindow">How many event ids per series are remembered for de-duplication (default 1024, 0 to 1,000,000; 0 turns it off).</param>
+    /// <param name="duplicateWindow">
+    /// The most event ids per series remembered for de-duplication (default 1024, 0 to 1,000,000; 0 turns it off). Ids are
+    /// kept only while their event's period is open or restatable (a repeat of an older event is late anyway), so memory
+    /// follows the ids actually held: roughly 60 bytes each plus the id strings.
+    /// </param>
     /// <exception cref="ArgumentNullException"><paramref name="method"/> or <paramref name="calendar"/> is null.</exception>
     /// <exception cref="ArgumentOutOfRangeException">A number is out of its stated range.</exception>
     public SeriesOptions(

@@ -114,6 +114,9 @@ internal sealed class SeriesState<TKey>
     /// <summary>The first period that has not closed yet.</summary>
     public long NextToClose => _nextToClose;
 
+    /// <summary>How many event ids the series remembers now.</summary>
+    public int RememberedIds => _ids?.Count ?? 0;
+
     /// <summary>Consecutive closed periods without any observation.</summary>
     public long QuietPeriods => _quietPeriods;
 
@@ -132,7 +135,7 @@ internal sealed class SeriesState<TKey>
         if (eventId is not null && _options.DuplicateWindow > 0)
         {
             _ids ??= new EventIdWindow(_options.DuplicateWindow);
-            if (!_ids.TryAdd(eventId))
+            if (!_ids.TryAdd(eventId, period))
             {
                 output.Counters.Duplicates++;
                 return;
@@ -270,6 +273,8 @@ internal sealed class SeriesState<TKey>
             Retain(has, sum, output);
         }
 
+        // Repeats of events in periods that can no longer change are late anyway: stop remembering their ids.
+        _ids?.ForgetBefore(_nextToClose - _closedCount);
         Apply(period, has, sum, ApplyMode.Live, output);
     }
 
@@ -541,9 +546,10 @@ internal sealed class SeriesState<TKey>
         writer.WriteInt32(ids);
         if (_ids is not null)
         {
-            foreach (string id in _ids.Oldest())
+            foreach ((string id, long period) in _ids.Oldest())
             {
                 writer.WriteString(id);
+                writer.WriteInt64(period);
             }
         }
     }
@@ -640,7 +646,11 @@ internal sealed class SeriesState<TKey>
             _ids = new EventIdWindow(_options.DuplicateWindow);
             for (int i = 0; i < ids; i++)
             {
-                _ids.TryAdd(reader.ReadString());
+                string id = reader.ReadString();
+                if (!_ids.TryAdd(id, reader.ReadInt64()))
+                {
+                    throw new InvalidDataException("The snapshot holds the same event id twice for one series.");
+                }
             }
         }
     }
