@@ -102,6 +102,8 @@ public sealed record SeriesOptions
         }
 
         Method = method;
+        MethodLabel = method.MethodName;
+        RuleLabels = ruleList.Select(static r => r.RuleName).ToImmutableArray();
         Calendar = calendar;
         Lateness = lateness;
         Gaps = gaps;
@@ -115,6 +117,12 @@ public sealed record SeriesOptions
 
     /// <summary>The forecasting method.</summary>
     public ForecasterOptions Method { get; }
+
+    /// <summary>The method's label, formatted once (it goes into every forecast update).</summary>
+    internal string MethodLabel { get; }
+
+    /// <summary>The rules' labels, formatted once.</summary>
+    internal ImmutableArray<string> RuleLabels { get; }
 
     /// <summary>How event times map to periods.</summary>
     public PeriodCalendar Calendar { get; }

@@ -436,7 +436,7 @@ internal sealed class SeriesState<TKey>
         DateTimeOffset start = _calendar.StartOf(period);
         output.Forecast(new ForecastUpdate<TKey>(
             _key, period, start, actual, !has, score.Forecast, score.Error,
-            Point(1), Point(_options.Horizon), errors, _options.Method.MethodName, restated));
+            Point(1), Point(_options.Horizon), errors, _options.MethodLabel, restated));
 
         if (!restated && score.IsScored)
         {
@@ -479,7 +479,7 @@ internal sealed class SeriesState<TKey>
         }
 
         output.Alert(new DriftAlert<TKey>(
-            _key, period, start ?? (_started ? _calendar.StartOf(period) : default), ruleIndex, _options.Rules[ruleIndex].RuleName,
+            _key, period, start ?? (_started ? _calendar.StartOf(period) : default), ruleIndex, _options.RuleLabels[ruleIndex],
             transition, errors ?? ErrorSummary.Of(_model.Tracker)));
     }
 

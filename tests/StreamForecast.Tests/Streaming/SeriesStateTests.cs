@@ -1,3 +1,4 @@
+using StreamForecast.Alerts;
 using StreamForecast.Forecasting;
 using StreamForecast.Periods;
 using StreamForecast.Streaming;
@@ -6,6 +7,21 @@ namespace StreamForecast.Tests.Streaming;
 
 public sealed class SeriesStateTests
 {
+    private sealed class CountingOutput : ISeriesOutput<string>
+    {
+        public SeriesCounters Counters { get; } = new();
+
+        public double Sink;
+
+        public void Alert(in DriftAlert<string> alert) => Sink += 1;
+
+        public void Fault(in SeriesFault<string> fault)
+        {
+        }
+
+        public void Forecast(in ForecastUpdate<string> update) => Sink += double.IsFinite(update.Next.Value) ? update.Next.Value : 0;
+    }
+
     private sealed class ListOutput : ISeriesOutput<string>
     {
         public SeriesCounters Counters { get; } = new();
@@ -56,5 +72,36 @@ public sealed class SeriesStateTests
         var berlin = PeriodCalendar.Daily(TimeZoneInfo.FindSystemTimeZoneById("Europe/Berlin"));
         Assert.True(SeriesState<string>.OpenCapacity(berlin, TimeSpan.FromDays(3)) >= 5);
         Assert.Equal(2, SeriesState<string>.OpenCapacity(PeriodCalendar.FixedInterval(TimeSpan.FromMinutes(1)), TimeSpan.Zero));
+    }
+
+    [Fact]
+    public void Observe_SteadyStateWithRulesAndZonedDays_DoesNotAllocate()
+    {
+        // The engine's per-observation work on the owner loop: bucketing, closing periods, the full forecast step,
+        // drift rules, building the published update. (Publishing itself is measured in PublisherTests.)
+        var calendar = PeriodCalendar.Daily(TimeZoneInfo.FindSystemTimeZoneById("Europe/Berlin"));
+        var options = new SeriesOptions(
+            new MovingAverageOptions(12), calendar, new LatenessPolicy(TimeSpan.FromHours(6), restatementPeriods: 2),
+            rules: [new TrackingSignalRuleOptions(), new CusumRuleOptions()], horizon: 7);
+        var state = new SeriesState<string>("harbour/rye", options, 0);
+        var output = new CountingOutput();
+        var rng = new Random(3);
+        DateTimeOffset t = s_start;
+        void Run(int events)
+        {
+            for (int i = 0; i < events; i++)
+            {
+                t = t.AddHours(4);
+                state.Observe(t, calendar.PeriodOf(t), 10 + rng.Next(5), null, 0, output);
+            }
+        }
+
+        Run(2_000);
+        Infrastructure.Allocations.AssertNone(() =>
+        {
+            Run(6_000);
+            return output.Sink;
+        });
+        Assert.True(output.Counters.PeriodsClosed > 1_000);
     }
 }
