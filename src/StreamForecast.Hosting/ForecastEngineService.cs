@@ -1,0 +1,380 @@
+using Microsoft.Extensions.Hosting;
+using Microsoft.Extensions.Logging;
+using Microsoft.Extensions.Options;
+using StreamForecast.Alerts;
+using StreamForecast.Sqlite;
+using StreamForecast.Streaming;
+
+namespace StreamForecast.Hosting;
+
+/// <summary>
+/// Runs a <see cref="ForecastEngine{TKey}"/> for the host's lifetime: restores it from the newest usable checkpoint on
+/// start, takes periodic checkpoints, logs alert transitions and faults, and on stop takes a last checkpoint and lets
+/// the engine drain.
+/// </summary>
+/// <typeparam name="TKey">The series key type.</typeparam>
+/// <remarks>
+/// <para><b>Start.</b> A store that holds checkpoints, none usable, or one that does not fit the configured series
+/// options fails the host's start (an <see cref="InvalidDataException"/> with the reasons) rather than silently
+/// starting empty and losing state.</para>
+/// <para><b>Stop.</b> Producers registered after this service are stopped before it. It takes the on-stop checkpoint
+/// (queued behind everything posted, so it covers it), completes the engine and waits for the queues to drain and
+/// subscribers to be told, within the host's shutdown timeout.</para>
+/// <para>Registered by <see cref="StreamForecastServiceCollectionExtensions.AddStreamForecast{TKey}"/>. Thread-safe.</para>
+/// </remarks>
+public sealed partial class ForecastEngineService<TKey> : BackgroundService
+    where TKey : notnull
+{
+    private readonly StreamForecastOptions<TKey> _options;
+    private readonly HostedForecastEngine<TKey> _handle;
+    private readonly IServiceProvider _services;
+    private readonly TimeProvider _time;
+    private readonly ILogger _logger;
+    private readonly SemaphoreSlim _checkpointGate = new(1, 1);
+    private ForecastEngine<TKey>? _engine;
+    private ICheckpointStore? _store;
+    private ISnapshotKeyCodec<TKey>? _codec;
+    private IDisposable? _alertLog;
+    private IDisposable? _faultLog;
+
+    /// <summary>Creates the service (the host does this).</summary>
+    /// <param name="options">The validated settings.</param>
+    /// <param name="handle">The application's handle, completed when the engine starts.</param>
+    /// <param name="services">Used to create a custom checkpoint store.</param>
+    /// <param name="time">The host's clock.</param>
+    /// <param name="logger">Where logs go.</param>
+    public ForecastEngineService(
+        IOptions<StreamForecastOptions<TKey>> options,
+        HostedForecastEngine<TKey> handle,
+        IServiceProvider services,
+        TimeProvider time,
+        ILogger<ForecastEngineService<TKey>> logger)
+    {
+        ArgumentNullException.ThrowIfNull(options);
+        _options = options.Value;
+        _handle = handle ?? throw new ArgumentNullException(nameof(handle));
+        _services = services ?? throw new ArgumentNullException(nameof(services));
+        _time = time ?? throw new ArgumentNullException(nameof(time));
+        _logger = logger ?? throw new ArgumentNullException(nameof(logger));
+    }
+
+    /// <summary>Restores or creates the engine, then starts the periodic checkpoints.</summary>
+    /// <param name="cancellationToken">Cancels the start.</param>
+    /// <returns>A task that completes when the engine runs.</returns>
+    /// <exception cref="InvalidDataException">The stored checkpoints cannot be used (the message says why).</exception>
+    public override async Task StartAsync(CancellationToken cancellationToken)
+    {
+        try
+        {
+            await StartEngineAsync(cancellationToken).ConfigureAwait(false);
+        }
+        catch (Exception ex)
+        {
+            LogStartFailed(_logger, ex);
+            _handle.SetStartFailed(ex);
+            throw;
+        }
+
+        await base.StartAsync(cancellationToken).ConfigureAwait(false);
+    }
+
+    /// <summary>Stops the periodic checkpoints, takes the on-stop checkpoint, and drains the engine.</summary>
+    /// <param name="cancellationToken">Signals that the host's shutdown timeout has passed: stop waiting for the drain.</param>
+    /// <returns>A task that completes when the engine has drained or the timeout passed.</returns>
+    public override async Task StopAsync(CancellationToken cancellationToken)
+    {
+        await base.StopAsync(cancellationToken).ConfigureAwait(false);
+        ForecastEngine<TKey>? engine = _engine;
+        if (engine is null)
+        {
+            return;
+        }
+
+        if (_store is not null && _options.Checkpoints.OnStop)
+        {
+            try
+            {
+                await TakeCheckpointAsync(cancellationToken).ConfigureAwait(false);
+            }
+            catch (Exception ex) when (ex is not OperationCanceledException || !cancellationToken.IsCancellationRequested)
+            {
+                LogCheckpointFailed(_logger, ex);
+            }
+        }
+
+        engine.Complete();
+        try
+        {
+            await engine.Completion.WaitAsync(cancellationToken).ConfigureAwait(false);
+            await engine.DisposeAsync().ConfigureAwait(false);
+            EngineCounters c = engine.GetCounters();
+            LogDrained(_logger, c.Observations, c.PeriodsClosed, c.ActiveSeries);
+        }
+        catch (OperationCanceledException)
+        {
+            LogDrainTimedOut(_logger, engine.GetCounters().QueueDepth);
+        }
+        finally
+        {
+            _alertLog?.Dispose();
+            _faultLog?.Dispose();
+        }
+    }
+
+    /// <summary>Releases the checkpoint store (when the host created it) and the service's semaphore.</summary>
+    public override void Dispose()
+    {
+        if (_options.CheckpointStoreFactory is null)
+        {
+            (_store as IDisposable)?.Dispose();
+        }
+
+        _checkpointGate.Dispose();
+        base.Dispose();
+    }
+
+    /// <summary>Takes a checkpoint every <see cref="StreamForecastCheckpointOptions.Interval"/> until the host stops.</summary>
+    /// <param name="stoppingToken">Signals the stop.</param>
+    /// <returns>The loop.</returns>
+    protected override async Task ExecuteAsync(CancellationToken stoppingToken)
+    {
+        if (_store is null)
+        {
+            return;
+        }
+
+        using var timer = new PeriodicTimer(_options.Checkpoints.Interval, _time);
+        try
+        {
+            while (await timer.WaitForNextTickAsync(stoppingToken).ConfigureAwait(false))
+            {
+                try
+                {
+                    await TakeCheckpointAsync(stoppingToken).ConfigureAwait(false);
+                }
+                catch (Exception ex) when (ex is not OperationCanceledException)
+                {
+                    // A failed checkpoint is not fatal: the previous one still stands and the next tick tries again.
+                    LogCheckpointFailed(_logger, ex);
+                }
+            }
+        }
+        catch (OperationCanceledException) when (stoppingToken.IsCancellationRequested)
+        {
+            // Stopping.
+        }
+    }
+
+    private async Task StartEngineAsync(CancellationToken cancellationToken)
+    {
+        ForecastEngineOptions<TKey> engineOptions = _options.ToEngineOptions(_time);
+        _store = _options.CheckpointStoreFactory?.Invoke(_services)
+            ?? (string.IsNullOrWhiteSpace(_options.Checkpoints.File)
+                ? null
+                : new SqliteCheckpointStore(_options.Checkpoints.File, new SqliteCheckpointStoreOptions(_options.Checkpoints.RetainCount)));
+        EngineStart start;
+        ForecastEngine<TKey> engine;
+        if (_store is null)
+        {
+            engine = new ForecastEngine<TKey>(engineOptions);
+            start = new EngineStart(0, null, 0, []);
+            LogStartedWithoutCheckpoints(_logger);
+        }
+        else
+        {
+            _codec = _options.KeyCodec ?? (SnapshotKeyCodecs.TryGetBuiltIn(out ISnapshotKeyCodec<TKey>? builtIn)
+                ? builtIn
+                : throw new InvalidOperationException($"No snapshot key codec for {typeof(TKey).Name}: set StreamForecastOptions.KeyCodec."));
+            Checkpoint? checkpoint = await _store.LoadLatestAsync(cancellationToken).ConfigureAwait(false);
+            if (checkpoint is null)
+            {
+                engine = new ForecastEngine<TKey>(engineOptions);
+                start = new EngineStart(0, null, 0, []);
+                LogStartedEmpty(_logger);
+            }
+            else
+            {
+                foreach (CheckpointRejection rejection in checkpoint.Rejected)
+                {
+                    LogCheckpointSkipped(_logger, rejection.Location, rejection.Reason);
+                }
+
+                using var stream = new MemoryStream(checkpoint.Snapshot.ToArray(), writable: false);
+                try
+                {
+                    (engine, _) = await ForecastEngine.RestoreAsync(stream, engineOptions, _codec, cancellationToken).ConfigureAwait(false);
+                }
+                catch (InvalidDataException ex)
+                {
+                    throw new InvalidDataException(
+                        $"The checkpoint at '{checkpoint.Location}' cannot be restored with the configured options: {ex.Message} " +
+                        "If the series options changed on purpose, move the checkpoint file away to start empty.", ex);
+                }
+
+                start = new EngineStart(checkpoint.InputPosition, checkpoint.Location, engine.SeriesCount, checkpoint.Rejected);
+                LogRestored(_logger, engine.SeriesCount, checkpoint.Location, checkpoint.InputPosition);
+            }
+        }
+
+        _alertLog = engine.Alerts.Subscribe(new AlertLogger(this));
+        _faultLog = engine.Faults.Subscribe(new FaultLogger(this));
+        _engine = engine;
+        _handle.SetStarted(engine, start, _store is null ? null : TakeCheckpointAsync);
+    }
+
+    private async Task<CheckpointRecord> TakeCheckpointAsync(CancellationToken cancellationToken)
+    {
+        ForecastEngine<TKey> engine = _engine!;
+        await _checkpointGate.WaitAsync(cancellationToken).ConfigureAwait(false);
+        try
+        {
+            // Read the mark before queueing the snapshot: everything posted before the mark is queued ahead of it.
+            long position = _handle.PostedPosition;
+            using var buffer = new MemoryStream();
+            await engine.SnapshotAsync(buffer, _codec!, position, cancellationToken).ConfigureAwait(false);
+            await _store!.SaveAsync(buffer.GetBuffer().AsMemory(0, (int)buffer.Length), position, cancellationToken).ConfigureAwait(false);
+            var record = new CheckpointRecord(position, _time.GetUtcNow(), buffer.Length);
+            _handle.SetCheckpoint(record);
+            LogCheckpointSaved(_logger, position, buffer.Length, engine.SeriesCount);
+            return record;
+        }
+        finally
+        {
+            _checkpointGate.Release();
+        }
+    }
+
+    private string KeyText(TKey key) => _options.LogSeriesKeys ? key.ToString() ?? string.Empty : "(hidden)";
+
+    [LoggerMessage(EventId = 1, Level = LogLevel.Information, Message = "Forecast engine started empty: no checkpoint store is configured, so no state survives a restart.")]
+    private static partial void LogStartedWithoutCheckpoints(ILogger logger);
+
+    [LoggerMessage(EventId = 2, Level = LogLevel.Information, Message = "Forecast engine started empty: the checkpoint store holds no checkpoint yet (first run). Replay the input from position 0.")]
+    private static partial void LogStartedEmpty(ILogger logger);
+
+    [LoggerMessage(EventId = 3, Level = LogLevel.Information, Message = "Forecast engine restored {SeriesCount} series from {CheckpointLocation}; replay the input from position {InputPosition}.")]
+    private static partial void LogRestored(ILogger logger, int seriesCount, string checkpointLocation, long inputPosition);
+
+    [LoggerMessage(EventId = 4, Level = LogLevel.Warning, Message = "A damaged checkpoint was skipped ({CheckpointLocation}): {Reason}. The engine restarts from an older checkpoint and more input is replayed.")]
+    private static partial void LogCheckpointSkipped(ILogger logger, string checkpointLocation, string reason);
+
+    [LoggerMessage(EventId = 5, Level = LogLevel.Critical, Message = "Forecast engine could not start.")]
+    private static partial void LogStartFailed(ILogger logger, Exception exception);
+
+    [LoggerMessage(EventId = 6, Level = LogLevel.Debug, Message = "Checkpoint saved at input position {InputPosition}: {SnapshotBytes} bytes, {SeriesCount} series.")]
+    private static partial void LogCheckpointSaved(ILogger logger, long inputPosition, long snapshotBytes, int seriesCount);
+
+    [LoggerMessage(EventId = 7, Level = LogLevel.Error, Message = "Checkpoint failed; the previous checkpoint still stands.")]
+    private static partial void LogCheckpointFailed(ILogger logger, Exception exception);
+
+    [LoggerMessage(EventId = 8, Level = LogLevel.Information, Message = "Forecast engine drained and stopped: {Observations} observations, {PeriodsClosed} periods closed, {SeriesCount} series.")]
+    private static partial void LogDrained(ILogger logger, long observations, long periodsClosed, long seriesCount);
+
+    [LoggerMessage(EventId = 9, Level = LogLevel.Warning, Message = "The host's shutdown timeout passed before the forecast engine drained ({QueueDepth} items still queued); they are lost unless replayed from the last checkpoint's position.")]
+    private static partial void LogDrainTimedOut(ILogger logger, long queueDepth);
+
+    [LoggerMessage(EventId = 10, Level = LogLevel.Warning, Message = "Drift alert raised on {SeriesKey}: {RuleName} episode {EpisodeId}, {Direction}, signal {Signal:0.###} reached {Level:0.###} (period starting {PeriodStart:o}).")]
+    private static partial void LogAlertRaised(ILogger logger, string seriesKey, string ruleName, long episodeId, DriftDirection direction, double signal, double level, DateTimeOffset periodStart);
+
+    [LoggerMessage(EventId = 11, Level = LogLevel.Error, Message = "Drift alert escalated to critical on {SeriesKey}: {RuleName} episode {EpisodeId}, {Direction}, signal {Signal:0.###} reached {Level:0.###} (period starting {PeriodStart:o}).")]
+    private static partial void LogAlertEscalated(ILogger logger, string seriesKey, string ruleName, long episodeId, DriftDirection direction, double signal, double level, DateTimeOffset periodStart);
+
+    [LoggerMessage(EventId = 12, Level = LogLevel.Information, Message = "Drift alert cleared on {SeriesKey}: {RuleName} episode {EpisodeId} ({Reason}, period starting {PeriodStart:o}).")]
+    private static partial void LogAlertCleared(ILogger logger, string seriesKey, string ruleName, long episodeId, DriftCloseReason reason, DateTimeOffset periodStart);
+
+    [LoggerMessage(EventId = 13, Level = LogLevel.Warning, Message = "Series fault ({Kind}) on {SeriesKey}, period {Period}: {FaultMessage}")]
+    private static partial void LogFault(ILogger logger, SeriesFaultKind kind, string seriesKey, long period, string faultMessage);
+
+    [LoggerMessage(EventId = 14, Level = LogLevel.Debug, Message = "Observation rejected on {SeriesKey}: {FaultMessage}")]
+    private static partial void LogObservationRejected(ILogger logger, string seriesKey, string faultMessage);
+
+    [LoggerMessage(EventId = 15, Level = LogLevel.Error, Message = "Internal error in the forecast engine on {SeriesKey}, period {Period}: {FaultMessage}")]
+    private static partial void LogInternalError(ILogger logger, string seriesKey, long period, string faultMessage);
+
+    private sealed class AlertLogger(ForecastEngineService<TKey> owner) : IObserver<DriftAlert<TKey>>
+    {
+        public void OnCompleted()
+        {
+        }
+
+        public void OnError(Exception error)
+        {
+        }
+
+        public void OnNext(DriftAlert<TKey> value)
+        {
+            DriftTransition t = value.Transition;
+            ILogger log = owner._logger;
+            LogLevel level = t.Kind switch
+            {
+                DriftTransitionKind.Raised => LogLevel.Warning,
+                DriftTransitionKind.Escalated => LogLevel.Error,
+                _ => LogLevel.Information,
+            };
+            if (!log.IsEnabled(level))
+            {
+                return;
+            }
+
+            string key = owner.KeyText(value.Key);
+            switch (t.Kind)
+            {
+                case DriftTransitionKind.Raised:
+                    LogAlertRaised(log, key, value.RuleName, t.EpisodeId, t.Direction, t.Signal, t.Level, value.PeriodStart);
+                    break;
+                case DriftTransitionKind.Escalated:
+                    LogAlertEscalated(log, key, value.RuleName, t.EpisodeId, t.Direction, t.Signal, t.Level, value.PeriodStart);
+                    break;
+                case DriftTransitionKind.Cleared:
+                    LogAlertCleared(log, key, value.RuleName, t.EpisodeId, t.Reason, value.PeriodStart);
+                    break;
+                default:
+                    break;
+            }
+        }
+    }
+
+    private sealed class FaultLogger(ForecastEngineService<TKey> owner) : IObserver<SeriesFault<TKey>>
+    {
+        public void OnCompleted()
+        {
+        }
+
+        public void OnError(Exception error)
+        {
+        }
+
+        public void OnNext(SeriesFault<TKey> value)
+        {
+            ILogger log = owner._logger;
+            LogLevel level = value.Kind switch
+            {
+                SeriesFaultKind.ObservationRejected => LogLevel.Debug,
+                SeriesFaultKind.InternalError => LogLevel.Error,
+                _ => LogLevel.Warning,
+            };
+            if (!log.IsEnabled(level))
+            {
+                return;
+            }
+
+            // A fault that concerns no series (a subscriber's) carries the default key.
+            string key = value.Kind == SeriesFaultKind.SubscriberFailed || value.Key is null ? "(no series)" : owner.KeyText(value.Key);
+            switch (value.Kind)
+            {
+                case SeriesFaultKind.ObservationRejected:
+                    // Can be frequent (a producer with a broken clock): debug level, counted in the engine's meter anyway.
+                    LogObservationRejected(log, key, value.Message);
+                    break;
+                case SeriesFaultKind.InternalError:
+                    LogInternalError(log, key, value.Period, value.Message);
+                    break;
+                case SeriesFaultKind.ActualRejected or SeriesFaultKind.SubscriberFailed:
+                    LogFault(log, value.Kind, key, value.Period, value.Message);
+                    break;
+                default:
+                    break;
+            }
+        }
+    }
+}
