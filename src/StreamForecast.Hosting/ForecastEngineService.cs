@@ -36,6 +36,7 @@ public sealed partial class ForecastEngineService<TKey> : BackgroundService
     private ISnapshotKeyCodec<TKey>? _codec;
     private IDisposable? _alertLog;
     private IDisposable? _faultLog;
+    private PeriodicTimer? _timer;
 
     /// <summary>Creates the service (the host does this).</summary>
     /// <param name="options">The validated settings.</param>
@@ -75,6 +76,8 @@ public sealed partial class ForecastEngineService<TKey> : BackgroundService
             throw;
         }
 
+        // Created here, not in ExecuteAsync (which may start later on another thread), so the first interval counts from the start.
+        _timer = _store is null ? null : new PeriodicTimer(_options.Checkpoints.Interval, _time);
         await base.StartAsync(cancellationToken).ConfigureAwait(false);
     }
 
@@ -138,12 +141,12 @@ public sealed partial class ForecastEngineService<TKey> : BackgroundService
     /// <returns>The loop.</returns>
     protected override async Task ExecuteAsync(CancellationToken stoppingToken)
     {
-        if (_store is null)
+        using PeriodicTimer? timer = _timer;
+        if (timer is null)
         {
             return;
         }
 
-        using var timer = new PeriodicTimer(_options.Checkpoints.Interval, _time);
         try
         {
             while (await timer.WaitForNextTickAsync(stoppingToken).ConfigureAwait(false))
