@@ -1,0 +1,192 @@
+using System.Text.Json;
+using Microsoft.AspNetCore.Http.HttpResults;
+using StreamForecast.Alerts;
+using StreamForecast.Forecasting;
+using StreamForecast.Hosting;
+using StreamForecast.Periods;
+using StreamForecast.Streaming;
+using StreamForecast.Tracking;
+
+namespace StreamForecast.Samples.PointOfSale;
+
+/// <summary>
+/// A point-of-sale backend: tills post sales (one at a time or in batches), the engine keeps a next-day forecast per
+/// shop and item, and the API serves the forecasts and the open drift alerts.
+/// </summary>
+/// <remarks>
+/// Guarding the endpoint: bodies are limited (413), batches are limited (400), every field is range-checked and a
+/// bad sale is refused with its reasons while the rest of its batch is taken; posting never waits for a full queue
+/// (503 with Retry-After instead), so one client's flood or malformed input cannot hold up the others.
+/// </remarks>
+public static class PointOfSaleApp
+{
+    /// <summary>The shops' time zone: a shop day is a local calendar day.</summary>
+    public static readonly TimeZoneInfo ShopZone = TimeZoneInfo.FindSystemTimeZoneById("Europe/Dublin");
+
+    private static readonly JsonSerializerOptions s_json = new(JsonSerializerDefaults.Web);
+
+    /// <summary>Builds the application.</summary>
+    /// <param name="args">Command-line arguments (configuration overrides such as <c>--StreamForecast:Checkpoints:File=...</c>).</param>
+    /// <param name="configure">Changes applied to the builder before it is built (tests use it for the test server and the clock).</param>
+    /// <returns>The application, not yet started.</returns>
+    public static WebApplication Build(string[] args, Action<WebApplicationBuilder>? configure = null)
+    {
+        WebApplicationBuilder builder = WebApplication.CreateBuilder(new WebApplicationOptions { Args = args, ContentRootPath = AppContext.BaseDirectory });
+
+        // A backstop for every endpoint; each endpoint also enforces its own, smaller limit.
+        builder.WebHost.ConfigureKestrel(k => k.Limits.MaxRequestBodySize = SaleRules.MaxBatchBytes);
+        builder.Services.AddProblemDetails();
+
+        // The engine first, so that it is started before and stopped after everything that posts to it.
+        builder.Services.AddStreamForecast<string>(builder.Configuration.GetSection(StreamForecastServiceCollectionExtensions.DefaultSectionName), o =>
+        {
+            // Next-day sales per shop and item: shop days in local time, sales allowed 2 hours late and able to restate
+            // the previous day; exponential smoothing; a CUSUM rule on standardized errors for drift.
+            o.DefaultSeries = new SeriesOptions(
+                new ExponentialSmoothingOptions(alpha: 0.3),
+                PeriodCalendar.Daily(ShopZone),
+                new LatenessPolicy(TimeSpan.FromHours(2), restatementPeriods: 1),
+                GapPolicy.Zero,
+                tracking: new ErrorTrackerOptions(seasonLength: 7),
+                rules: [new CusumRuleOptions(decisionInterval: 5, warmUpPeriods: 14, periodsToClear: 5)]);
+            o.KeyComparer = StringComparer.Ordinal;
+            o.FullMode = IngestionFullMode.Wait;
+        });
+        builder.Services.AddSingleton(sp => new SalesBoard(sp.GetRequiredService<HostedForecastEngine<string>>(), ShopZone));
+        builder.Services.AddHostedService(sp => sp.GetRequiredService<SalesBoard>());
+        configure?.Invoke(builder);
+
+        WebApplication app = builder.Build();
+        app.UseExceptionHandler();
+        app.UseStatusCodePages();
+        Map(app);
+        return app;
+    }
+
+    private static void Map(WebApplication app)
+    {
+        app.MapPost("/sales", async Task<IResult> (HttpRequest request, HostedForecastEngine<string> engine, TimeProvider time, CancellationToken ct) =>
+        {
+            (SaleEvent? sale, IResult? problem) = await ReadAsync<SaleEvent>(request, SaleRules.MaxSingleBytes, ct);
+            if (problem is not null)
+            {
+                return problem;
+            }
+
+            List<string> reasons = SaleRules.Check(sale, time.GetUtcNow(), out Observation<string> observation);
+            if (reasons.Count > 0)
+            {
+                return TypedResults.ValidationProblem(new Dictionary<string, string[]> { ["sale"] = [.. reasons] }, title: "The sale was refused.");
+            }
+
+            return engine.Engine.TryPost(observation) ? TypedResults.Accepted((string?)null, new BatchResult(1, [])) : Busy(request.HttpContext.Response);
+        });
+
+        app.MapPost("/sales/batch", async Task<IResult> (HttpRequest request, HostedForecastEngine<string> engine, TimeProvider time, CancellationToken ct) =>
+        {
+            (SaleBatch? batch, IResult? problem) = await ReadAsync<SaleBatch>(request, SaleRules.MaxBatchBytes, ct);
+            if (problem is not null)
+            {
+                return problem;
+            }
+
+            if (batch?.Sales is null)
+            {
+                return Problem(StatusCodes.Status400BadRequest, "The batch has no sales.", "Send {\"sales\": [ ... ]} with 1 to 500 sales.");
+            }
+
+            if (batch.Sales.Count is 0 or > SaleRules.MaxBatchLength)
+            {
+                return Problem(StatusCodes.Status400BadRequest, "The batch length is out of range.", $"The batch has {batch.Sales.Count} sales; a batch has 1 to {SaleRules.MaxBatchLength}. Split larger batches.");
+            }
+
+            // Each sale is checked on its own: the good ones are taken, each bad one is reported with its reasons.
+            DateTimeOffset now = time.GetUtcNow();
+            var rejected = new List<RejectedSale>();
+            int accepted = 0;
+            for (int i = 0; i < batch.Sales.Count; i++)
+            {
+                List<string> reasons = SaleRules.Check(batch.Sales[i], now, out Observation<string> observation);
+                if (reasons.Count > 0)
+                {
+                    rejected.Add(new RejectedSale(i, reasons));
+                }
+                else if (engine.Engine.TryPost(observation))
+                {
+                    accepted++;
+                }
+                else
+                {
+                    rejected.Add(new RejectedSale(i, ["The server is busy; resend this sale later (its saleId makes a resend safe)."]));
+                }
+            }
+
+            return TypedResults.Ok(new BatchResult(accepted, rejected));
+        });
+
+        app.MapGet("/shops/{shop}/forecasts", (string shop, SalesBoard board) => TypedResults.Ok(board.Forecasts(shop, null)));
+
+        app.MapGet("/shops/{shop}/items/{item}/forecast", Results<Ok<ItemForecast>, ProblemHttpResult> (string shop, string item, SalesBoard board) =>
+            board.Forecasts(shop, item) is [var one]
+                ? TypedResults.Ok(one)
+                : TypedResults.Problem(statusCode: StatusCodes.Status404NotFound, title: "No forecast yet.", detail: $"No shop day of {shop}/{item} has closed yet."));
+
+        app.MapGet("/alerts", (string? shop, SalesBoard board) => TypedResults.Ok(board.OpenAlerts(shop)));
+    }
+
+    private static async Task<(T? Value, IResult? Problem)> ReadAsync<T>(HttpRequest request, int limit, CancellationToken ct)
+        where T : class
+    {
+        if (request.ContentLength > limit)
+        {
+            return (null, TooLarge(limit));
+        }
+
+        if (!request.HasJsonContentType())
+        {
+            return (null, Problem(StatusCodes.Status415UnsupportedMediaType, "The body must be JSON.", "Send Content-Type: application/json."));
+        }
+
+        // Read at most limit + 1 bytes whatever Content-Length said (chunked bodies have none).
+        byte[] buffer = new byte[limit + 1];
+        int read = 0;
+        try
+        {
+            int n;
+            while (read < buffer.Length && (n = await request.Body.ReadAsync(buffer.AsMemory(read), ct)) > 0)
+            {
+                read += n;
+            }
+        }
+        catch (BadHttpRequestException ex) when (ex.StatusCode == StatusCodes.Status413PayloadTooLarge)
+        {
+            return (null, TooLarge(limit));
+        }
+
+        if (read > limit)
+        {
+            return (null, TooLarge(limit));
+        }
+
+        try
+        {
+            return (JsonSerializer.Deserialize<T>(buffer.AsSpan(0, read), s_json), null);
+        }
+        catch (JsonException ex)
+        {
+            return (null, Problem(StatusCodes.Status400BadRequest, "The body is not valid JSON for this endpoint.", ex.Message));
+        }
+    }
+
+    private static ProblemHttpResult TooLarge(int limit) =>
+        Problem(StatusCodes.Status413PayloadTooLarge, "The request body is too large.", $"This endpoint takes at most {limit:N0} bytes; split the sales into smaller batches.");
+
+    private static ProblemHttpResult Busy(HttpResponse response)
+    {
+        response.Headers.RetryAfter = "1";
+        return Problem(StatusCodes.Status503ServiceUnavailable, "The server is busy.", "The forecasting queue is full; resend after a short wait (the saleId makes a resend safe).");
+    }
+
+    private static ProblemHttpResult Problem(int status, string title, string detail) =>
+        TypedResults.Problem(statusCode: status, title: title, detail: detail);
+}
