@@ -1,0 +1,200 @@
+using System.Net;
+using System.Net.Http.Json;
+using System.Text;
+using Microsoft.AspNetCore.Builder;
+using Microsoft.AspNetCore.Mvc;
+using Microsoft.AspNetCore.TestHost;
+using Microsoft.Extensions.DependencyInjection;
+using Microsoft.Extensions.Time.Testing;
+using StreamForecast.Samples.PointOfSale;
+
+namespace StreamForecast.Hosting.Tests.Samples;
+
+/// <summary>The point-of-sale API over HTTP, in process (the ASP.NET Core test server).</summary>
+public sealed class PointOfSaleApiTests : IAsyncLifetime
+{
+    private static readonly DateTimeOffset s_now = new(2025, 10, 20, 12, 0, 0, TimeSpan.Zero);
+    private readonly TempPath _temp = new();
+    private WebApplication? _app;
+    private HttpClient? _http;
+
+    private HttpClient Http => _http!;
+
+    public async Task InitializeAsync()
+    {
+        _app = PointOfSaleApp.Build(
+            ["--StreamForecast:Checkpoints:File=" + _temp.File("pos.db"), "--Logging:LogLevel:Default=Warning"],
+            b =>
+            {
+                b.WebHost.UseTestServer();
+                b.Services.AddSingleton<TimeProvider>(new FakeTimeProvider(s_now));
+            });
+        await _app.StartAsync();
+        _http = _app.GetTestClient();
+    }
+
+    public async Task DisposeAsync()
+    {
+        _http?.Dispose();
+        if (_app is not null)
+        {
+            await _app.StopAsync();
+            await _app.DisposeAsync();
+        }
+
+        _temp.Dispose();
+    }
+
+    [Fact]
+    public async Task PostSale_Valid_Returns202Accepted()
+    {
+        using HttpResponseMessage response = await Http.PostAsJsonAsync("/sales", Sale("till-1/1", 3));
+
+        Assert.Equal(HttpStatusCode.Accepted, response.StatusCode);
+        Assert.Equal(1, (await response.Content.ReadFromJsonAsync<BatchResult>())!.Accepted);
+    }
+
+    [Fact]
+    public async Task PostSale_QuantityOutOfRange_Returns400ProblemWithTheReason()
+    {
+        using HttpResponseMessage response = await Http.PostAsJsonAsync("/sales", Sale("till-1/1", 20_000));
+
+        Assert.Equal(HttpStatusCode.BadRequest, response.StatusCode);
+        Assert.Equal("application/problem+json", response.Content.Headers.ContentType!.MediaType);
+        var problem = await response.Content.ReadFromJsonAsync<ValidationProblemDetails>();
+        Assert.Contains("0 to 10,000 units", Assert.Single(problem!.Errors["sale"]), StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public async Task PostSale_NonNumericQuantity_Returns400NamingTheField()
+    {
+        using var body = new StringContent("{\"shop\":\"mill-lane\",\"item\":\"rye-roll\",\"soldAt\":\"2025-10-20T09:00:00Z\",\"quantity\":\"lots\",\"saleId\":\"x\"}", Encoding.UTF8, "application/json");
+        using HttpResponseMessage response = await Http.PostAsync("/sales", body);
+
+        Assert.Equal(HttpStatusCode.BadRequest, response.StatusCode);
+        var problem = await response.Content.ReadFromJsonAsync<ProblemDetails>();
+        Assert.Contains("quantity", problem!.Detail, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public async Task PostSale_FutureTime_Returns400SayingHowFarAheadIsAllowed()
+    {
+        using HttpResponseMessage response = await Http.PostAsJsonAsync("/sales", Sale("till-1/1", 3) with { SoldAt = s_now.AddHours(3) });
+
+        var problem = await response.Content.ReadFromJsonAsync<ValidationProblemDetails>();
+        Assert.Equal(HttpStatusCode.BadRequest, response.StatusCode);
+        Assert.Contains("at most 10 minutes ahead", problem!.Errors["sale"][0], StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public async Task PostSale_NotJson_Returns415()
+    {
+        using var body = new StringContent("shop=mill-lane", Encoding.UTF8, "text/plain");
+        using HttpResponseMessage response = await Http.PostAsync("/sales", body);
+
+        Assert.Equal(HttpStatusCode.UnsupportedMediaType, response.StatusCode);
+    }
+
+    [Fact]
+    public async Task PostBatch_MixedSales_TakesTheGoodOnesAndReportsEachBadOneByIndex()
+    {
+        SaleBatch batch = new([Sale("a", 1), Sale("b", -1), Sale("c", 2) with { Item = "Rye Roll" }, Sale("d", 2), null!]);
+
+        using HttpResponseMessage response = await Http.PostAsJsonAsync("/sales/batch", batch);
+        BatchResult result = (await response.Content.ReadFromJsonAsync<BatchResult>())!;
+
+        Assert.Equal(HttpStatusCode.OK, response.StatusCode);
+        Assert.Equal(2, result.Accepted);
+        Assert.Equal([1, 2, 4], result.Rejected.Select(r => r.Index));
+        Assert.Contains("out of range", result.Rejected[0].Reasons[0], StringComparison.Ordinal);
+        Assert.Contains("item 'Rye Roll'", result.Rejected[1].Reasons[0], StringComparison.Ordinal);
+        Assert.Contains("missing", result.Rejected[2].Reasons[0], StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public async Task PostBatch_MoreThanTheBatchLimit_Returns400NamingTheLimit()
+    {
+        SaleBatch batch = new([.. Enumerable.Range(0, SaleRules.MaxBatchLength + 1).Select(i => new SaleEvent(null, null, null, null, null))]);
+
+        using HttpResponseMessage response = await Http.PostAsJsonAsync("/sales/batch", batch);
+        var problem = await response.Content.ReadFromJsonAsync<ProblemDetails>();
+
+        Assert.Equal(HttpStatusCode.BadRequest, response.StatusCode);
+        Assert.Contains("1 to 500", problem!.Detail, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public async Task PostBatch_BodyOverTheLimit_Returns413()
+    {
+        using var body = new StringContent("{\"sales\":[" + new string(' ', SaleRules.MaxBatchBytes) + "]}", Encoding.UTF8, "application/json");
+        using HttpResponseMessage response = await Http.PostAsync("/sales/batch", body);
+
+        Assert.Equal(HttpStatusCode.RequestEntityTooLarge, response.StatusCode);
+        Assert.Contains("at most 131,072 bytes", (await response.Content.ReadFromJsonAsync<ProblemDetails>())!.Detail, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public async Task PostBatch_ChunkedBodyOverTheLimit_Returns413WithoutContentLength()
+    {
+        // No Content-Length: the limit is enforced while reading.
+        using var body = new StreamContent(new MemoryStream(Encoding.UTF8.GetBytes("{\"sales\":[" + new string(' ', SaleRules.MaxBatchBytes) + "]}")));
+        body.Headers.ContentType = new("application/json");
+        using var request = new HttpRequestMessage(HttpMethod.Post, "/sales/batch") { Content = body };
+        request.Headers.TransferEncodingChunked = true;
+
+        using HttpResponseMessage response = await Http.SendAsync(request);
+
+        Assert.Equal(HttpStatusCode.RequestEntityTooLarge, response.StatusCode);
+    }
+
+    [Fact]
+    public async Task GetForecast_NoClosedDayYet_Returns404Problem()
+    {
+        using HttpResponseMessage response = await Http.GetAsync("/shops/mill-lane/items/rye-roll/forecast");
+
+        Assert.Equal(HttpStatusCode.NotFound, response.StatusCode);
+        Assert.Equal("No forecast yet.", (await response.Content.ReadFromJsonAsync<ProblemDetails>())!.Title);
+    }
+
+    [Fact]
+    public async Task PlayAsync_InventedTillTraffic_ServesForecastsAndTheDriftAlertOfTheShiftedItem()
+    {
+        using var output = new StringWriter();
+
+        await SmokeRun.PlayAsync(Http, output);
+
+        string[] lines = output.ToString().Split('\n', StringSplitOptions.TrimEntries | StringSplitOptions.RemoveEmptyEntries);
+        Assert.Equal("posted 42 shop days of invented sales in 42 batches: 504 sales accepted, 0 rejected", lines[0]);
+        Assert.Equal("a batch with two bad sales: HTTP 200, 2 accepted, 2 rejected", lines[1]);
+        Assert.StartsWith("sale 1: quantity -3 is out of range", lines[2], StringComparison.Ordinal);
+        Assert.StartsWith("sale 2: shop 'Harbour Street'", lines[3], StringComparison.Ordinal);
+        Assert.Matches(@"^a \d+ KiB batch: HTTP 413 The request body is too large\.$", lines[4]);
+        Assert.Equal("GET /shops/mill-lane/forecasts (last closed day 2025-10-11):", lines[5]);
+        Assert.Matches(@"^cinnamon-bun +sold +\d+; next day \d+\.\d \(80%: \d+\.\d to \d+\.\d\)", lines[6]);
+        Assert.StartsWith("sourdough-loaf", lines[7], StringComparison.Ordinal);
+        Assert.Equal("GET /alerts: 1 open", lines[8]);
+        Assert.Matches(@"^mill-lane/cinnamon-bun: CUSUM.* episode 1, UnderForecast, (Warning|Critical), since 2025-10-\d\d$", lines[9]);
+    }
+
+    private static SaleEvent Sale(string id, double quantity) =>
+        new("mill-lane", "rye-roll", s_now.AddHours(-2), quantity, id);
+}
+
+/// <summary>The sample's own smoke run: real Kestrel on a free loopback port, as CI runs it.</summary>
+public sealed class PointOfSaleSmokeTests
+{
+    [Fact]
+    public async Task RunAsync_OnLoopback_PrintsTheAcceptedSalesForecastsAndOpenAlert()
+    {
+        using var output = new StringWriter();
+
+        int exit = await SmokeRun.RunAsync(output);
+
+        string text = output.ToString();
+        Assert.Equal(0, exit);
+        Assert.Contains("504 sales accepted, 0 rejected", text, StringComparison.Ordinal);
+        Assert.Contains("HTTP 413 The request body is too large.", text, StringComparison.Ordinal);
+        Assert.Contains("GET /alerts: 1 open", text, StringComparison.Ordinal);
+        Assert.Contains("mill-lane/cinnamon-bun: CUSUM", text, StringComparison.Ordinal);
+    }
+}
