@@ -31,7 +31,9 @@ public sealed record CalibrationOptions
     /// <param name="seed">The seed of every random draw; the same seed, history and settings give the same result. Default 1.</param>
     /// <param name="blockLength">
     /// The length of the residual blocks the bootstrap strings together, 1 (independent draws) to 100,000; null (the default)
-    /// uses √(number of residuals), rounded, which keeps the errors' short-range dependence.
+    /// uses ⌈n^(1/3)⌉ for n residuals, the order of block length Hall, Horowitz &amp; Jing (1995, Biometrika 82:561–574, from
+    /// memory) found best for estimating variances: long enough to keep the errors' short-range dependence, short enough
+    /// that the sample's own chance correlations are not replayed at length.
     /// </param>
     /// <param name="stepSize">The size of the step change whose detection delay is reported, in residual standard deviations, finite and above 0. Default 1.</param>
     /// <param name="rampSlope">The slope of the ramp change whose detection delay is reported, in residual standard deviations per period, finite and above 0. Default 0.1.</param>
@@ -111,7 +113,7 @@ public sealed record CalibrationOptions
     /// <summary>The seed of every random draw.</summary>
     public int Seed { get; }
 
-    /// <summary>The bootstrap block length; null for √(number of residuals).</summary>
+    /// <summary>The bootstrap block length; null for ⌈n^(1/3)⌉ with n the number of residuals.</summary>
     public int? BlockLength { get; }
 
     /// <summary>The step change size in residual standard deviations.</summary>

@@ -93,7 +93,7 @@ public static class LimitCalibrator
             SelectionThrowHelper.ThrowArgument(nameof(series), "Every one-step residual of the method on this history is the same; there is no noise to simulate.");
         }
 
-        int blockLength = settings.BlockLength ?? Math.Max(1, (int)Math.Round(Math.Sqrt(residuals.Length)));
+        int blockLength = settings.BlockLength ?? (int)Math.Ceiling(Math.Cbrt(residuals.Length));
         blockLength = Math.Min(blockLength, residuals.Length);
 
         var master = new Random(settings.Seed);
