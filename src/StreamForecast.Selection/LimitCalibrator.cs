@@ -59,7 +59,10 @@ public static class LimitCalibrator
     /// <returns>The calibrated rule and its simulated behaviour.</returns>
     /// <exception cref="ArgumentNullException"><paramref name="method"/> or <paramref name="rule"/> is null.</exception>
     /// <exception cref="ArgumentOutOfRangeException">A value of the history is not finite, or the method rejects one.</exception>
-    /// <exception cref="ArgumentException">Too few residuals, residuals that are all equal, or an unknown rule type.</exception>
+    /// <exception cref="ArgumentException">
+    /// Too few residuals, residuals that vary by no more than rounding (standard deviation at most 10⁻¹² of the largest |actual|), or an
+    /// unknown rule type.
+    /// </exception>
     public static LimitCalibration Calibrate(ReadOnlySpan<double> series, ForecasterOptions method, DriftRuleOptions rule, CalibrationOptions? options = null)
     {
         ArgumentNullException.ThrowIfNull(method);
@@ -88,9 +91,15 @@ public static class LimitCalibrator
         }
 
         double sigma = Math.Sqrt(squares / (residuals.Length - 1));
-        if (!(sigma > 0))
+        double magnitude = 0;
+        foreach (double y in series)
         {
-            SelectionThrowHelper.ThrowArgument(nameof(series), "Every one-step residual of the method on this history is the same; there is no noise to simulate.");
+            magnitude = Math.Max(magnitude, Math.Abs(y));
+        }
+
+        if (!(sigma > 1e-12 * magnitude) || !(sigma > 0))
+        {
+            SelectionThrowHelper.ThrowArgument(nameof(series), "The one-step residuals of the method on this history do not vary beyond rounding; there is no noise to simulate.");
         }
 
         int blockLength = settings.BlockLength ?? (int)Math.Ceiling(Math.Cbrt(residuals.Length));
