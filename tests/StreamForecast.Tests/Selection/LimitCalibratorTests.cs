@@ -158,23 +158,22 @@ public class LimitCalibratorTests
     }
 
     [Fact]
-    public void Calibrate_TargetBeyondWhatTriggCanReach_SaysSo()
+    public void Calibrate_TargetNoLimitCanReach_SaysSoAndReturnsTheBoundaryLimit()
     {
-        // |Trigg| ≤ 1, so with the run-length cap at 2 × target and an easily reached target the limit runs into 1 or the
-        // target is met below it; an absurdly long target with tiny simulations cannot be met at any limit below 1 when the
-        // rule has no warm-up and errors that keep one sign for long stretches. Here: residuals from a steady trend that
-        // SES lags, re-centred, in blocks as long as the sample.
-        double[] history = new double[60];
-        var noise = new Random(26);
-        for (int t = 0; t < history.Length; t++)
-        {
-            history[t] = 100 + (t % 20 < 10 ? 5 : -5) + noise.NextDouble();
-        }
+        double[] history = SelectionTestData.StableDemand(200, 100, 5, seed: 26);
 
-        var options = new CalibrationOptions(targetRunLength: 100_000, simulations: 20, blockLength: 59, runLengthCap: 2);
-        LimitCalibration result = LimitCalibrator.Calibrate(history, s_ses, new TriggSignalRuleOptions(warmUpPeriods: 0), options);
-        Assert.False(result.TargetReached);
-        Assert.Equal(1.0, result.Limit);
+        // Trigg's signal is exactly ±1 after the first error (E and M start at 0, Trigg 1964), so without a warm-up every
+        // stream alarms in its first period at any limit up to 1: a target of 50 cannot be reached, and the largest
+        // limit, 1, comes back.
+        LimitCalibration trigg = LimitCalibrator.Calibrate(history, s_ses, new TriggSignalRuleOptions(warmUpPeriods: 0), new CalibrationOptions(targetRunLength: 50));
+        Assert.False(trigg.TargetReached);
+        Assert.Equal(1.0, trigg.Limit);
+        Assert.Equal(1.0, trigg.InControl.Mean);
+
+        // A rule with an 8-period warm-up cannot alarm sooner than period 8, so a target of 3 is exceeded at any limit.
+        LimitCalibration tracking = LimitCalibrator.Calibrate(history, s_ses, new TrackingSignalRuleOptions(), new CalibrationOptions(targetRunLength: 3));
+        Assert.False(tracking.TargetReached);
+        Assert.True(tracking.InControl.Mean >= 8);
     }
 
     [Fact]
