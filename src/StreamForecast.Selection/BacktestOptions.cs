@@ -1,0 +1,112 @@
+using StreamForecast.Alerts;
+using StreamForecast.Selection.Internal;
+using StreamForecast.Tracking;
+
+namespace StreamForecast.Selection;
+
+/// <summary>
+/// The settings of a rolling-origin backtest (<see cref="Backtester"/>): where forecasting starts, how far ahead each
+/// origin forecasts, the MASE season length, the ranking statistic and the parallelism over keys.
+/// </summary>
+/// <remarks>
+/// <para><b>Origins.</b> With a history y₁ … yₙ, the forecaster is fed y₁ … y_t for each origin t from
+/// <see cref="FirstOrigin"/> to n − 1, and at each origin forecasts y(t+h) for h = 1 … <see cref="Horizon"/> (as far as
+/// the history reaches). Horizon h is therefore scored over the n − <see cref="FirstOrigin"/> − h + 1 origins that have an
+/// actual h periods later.</para>
+/// <para>Immutable and safe to share across threads. Validated at construction.</para>
+/// </remarks>
+public sealed record BacktestOptions
+{
+    /// <summary>The largest horizon accepted.</summary>
+    public const int MaxHorizon = 1_000;
+
+    /// <summary>Creates backtest options.</summary>
+    /// <param name="firstOrigin">
+    /// The number of actuals the forecaster has seen at the first origin, 1 or more: the first forecasts are for period
+    /// <paramref name="firstOrigin"/> + 1 onwards. Everything before it is warm-up (and, for the tuner, the fitting window).
+    /// </param>
+    /// <param name="horizon">The furthest horizon H scored at each origin, 1 (the default) to <see cref="MaxHorizon"/>.</param>
+    /// <param name="seasonLength">
+    /// The season length m of the MASE scale, 1 (the default, the plain naive forecast) to 100,000: MASE divides each
+    /// horizon's MAD by the in-sample mean absolute error of the forecast "same as m periods ago" over the whole history.
+    /// </param>
+    /// <param name="metric">The statistic candidates are ranked by; default <see cref="RankingMetric.Rmse"/>.</param>
+    /// <param name="tracking">
+    /// The error-tracker settings of the one-step tracking (Trigg's β, the σ rule) whose tracking-signal behaviour is
+    /// reported; default <see cref="ErrorTrackerOptions.Default"/>.
+    /// </param>
+    /// <param name="signalWarmUpPeriods">
+    /// The scored one-step periods left out of the reported maximum |tracking signal| and |Trigg signal|, 0 to 1,000,000:
+    /// both signals are ±1 or ±n after a few same-signed errors, as a drift rule's warm-up knows. Default 8, the drift
+    /// rules' default warm-up (<see cref="DriftRuleOptions.DefaultWarmUpPeriods"/>).
+    /// </param>
+    /// <param name="maxDegreeOfParallelism">
+    /// The most keys evaluated at once by <see cref="Backtester.RunMany{TKey}"/>, 1 to 4,096; null (the default) means one
+    /// worker per core. Results do not depend on it.
+    /// </param>
+    /// <exception cref="ArgumentOutOfRangeException">A number is outside its stated range.</exception>
+    public BacktestOptions(
+        int firstOrigin,
+        int horizon = 1,
+        int seasonLength = 1,
+        RankingMetric metric = RankingMetric.Rmse,
+        ErrorTrackerOptions? tracking = null,
+        int signalWarmUpPeriods = DriftRuleOptions.DefaultWarmUpPeriods,
+        int? maxDegreeOfParallelism = null)
+    {
+        if (firstOrigin < 1)
+        {
+            SelectionThrowHelper.ThrowOutOfRange(nameof(firstOrigin), firstOrigin, "the first origin counts the actuals seen before the first forecast and must be 1 or more");
+        }
+
+        if (horizon is < 1 or > MaxHorizon)
+        {
+            SelectionThrowHelper.ThrowOutOfRange(nameof(horizon), horizon, "the horizon must be between 1 and 1,000 periods");
+        }
+
+        if (seasonLength is < 1 or > ErrorTrackerOptions.MaxSeasonLength)
+        {
+            SelectionThrowHelper.ThrowOutOfRange(nameof(seasonLength), seasonLength, "the MASE season length must be between 1 and 100,000 periods");
+        }
+
+        if (metric is not (RankingMetric.Rmse or RankingMetric.Mad))
+        {
+            SelectionThrowHelper.ThrowOutOfRange(nameof(metric), metric, "the ranking metric must be Rmse or Mad");
+        }
+
+        if (signalWarmUpPeriods is < 0 or > DriftRuleOptions.MaxWarmUpPeriods)
+        {
+            SelectionThrowHelper.ThrowOutOfRange(nameof(signalWarmUpPeriods), signalWarmUpPeriods, "the signal warm-up must be between 0 and 1,000,000 periods");
+        }
+
+        SelectionThrowHelper.ResolveParallelism(maxDegreeOfParallelism, nameof(maxDegreeOfParallelism));
+        FirstOrigin = firstOrigin;
+        Horizon = horizon;
+        SeasonLength = seasonLength;
+        Metric = metric;
+        Tracking = tracking ?? ErrorTrackerOptions.Default;
+        SignalWarmUpPeriods = signalWarmUpPeriods;
+        MaxDegreeOfParallelism = maxDegreeOfParallelism;
+    }
+
+    /// <summary>The number of actuals seen at the first origin.</summary>
+    public int FirstOrigin { get; }
+
+    /// <summary>The furthest horizon H scored at each origin.</summary>
+    public int Horizon { get; }
+
+    /// <summary>The season length m of the MASE scale.</summary>
+    public int SeasonLength { get; }
+
+    /// <summary>The statistic candidates are ranked by.</summary>
+    public RankingMetric Metric { get; }
+
+    /// <summary>The settings of the one-step error tracker.</summary>
+    public ErrorTrackerOptions Tracking { get; }
+
+    /// <summary>The scored one-step periods left out of the reported signal maxima.</summary>
+    public int SignalWarmUpPeriods { get; }
+
+    /// <summary>The most keys evaluated at once; null for one worker per core.</summary>
+    public int? MaxDegreeOfParallelism { get; }
+}

@@ -1,0 +1,204 @@
+using System.Collections.Immutable;
+using StreamForecast.Classification;
+using StreamForecast.Forecasting;
+using StreamForecast.Selection.Internal;
+
+namespace StreamForecast.Selection;
+
+/// <summary>
+/// Chooses a forecasting method per series from its history: fits the parameters of each family on the first part of
+/// the history, backtests every candidate on the rest with <see cref="Backtester"/>, and picks the best.
+/// </summary>
+/// <remarks>
+/// <para><b>Candidates</b>, in this order (the order breaks ties):</para>
+/// <list type="number">
+/// <item><description><see cref="TuningOptions.DefaultMethod"/>; because it is a candidate and wins ties, the chosen method is
+/// never worse than the default in the backtest when the default forecast at every origin.</description></item>
+/// <item><description>The naive forecast, and the seasonal naive forecast when the season length m ≥ 2.</description></item>
+/// <item><description>Every moving-average length from <see cref="TuningOptions.MinMovingAverageLength"/> to
+/// <see cref="TuningOptions.MaxMovingAverageLength"/> that fits in the fitting window.</description></item>
+/// <item><description>A weighted moving average of <see cref="TuningOptions.WeightedLength"/> periods with fitted weights
+/// (<see cref="MethodFitter.FitWeightedMovingAverage"/>).</description></item>
+/// <item><description>Single exponential smoothing with fitted α; with <see cref="TuningOptions.IncludeTrend"/>, Holt's method
+/// fitted undamped and damped.</description></item>
+/// <item><description>With m ≥ 2, Holt-Winters fitted additive, and multiplicative when every actual of the fitting window is
+/// above zero.</description></item>
+/// <item><description>When the fitting window is non-negative and its demand class (<see cref="DemandClassifier"/>) is
+/// intermittent or lumpy: Croston, SBA and TSB with each weight of <see cref="TuningOptions.IntermittentWeights"/> (every
+/// pair for TSB). For the other classes, the intermittent-demand methods that
+/// <see cref="DemandClassifier.SuggestMethods"/> names (Croston for smooth, SBA for erratic demand).</description></item>
+/// </list>
+/// <para>A family whose fit is impossible (a window too short, a method that rejects the data) is left out; duplicates of an
+/// earlier candidate are dropped.</para>
+/// <para><b>Split.</b> Parameters are fitted on the first <see cref="TuningOptions.FirstOriginFor"/> actuals only; the backtest
+/// forecasts from that origin on, so its numbers are out of sample for every fitted parameter. The chosen options are exactly
+/// the backtested ones.</para>
+/// <para><b>Thread safety.</b> All members are static and thread-safe. <see cref="TuneMany{TKey}"/> tunes keys in parallel;
+/// every key's result depends only on its own history, so results are identical whatever the scheduling.</para>
+/// </remarks>
+public static class SeriesTuner
+{
+    private const SuggestedMethods IntermittentFamilies = SuggestedMethods.Croston | SuggestedMethods.SyntetosBoylan | SuggestedMethods.Tsb;
+
+    /// <summary>Tunes one series.</summary>
+    /// <param name="series">The history, oldest first; every value finite.</param>
+    /// <param name="options">The tuning settings; <see cref="TuningOptions.Default"/> when null.</param>
+    /// <returns>The chosen method with the ranking of every candidate.</returns>
+    /// <exception cref="ArgumentOutOfRangeException">A value of <paramref name="series"/> is NaN or infinite.</exception>
+    /// <remarks>
+    /// A history no longer than the fitting window leaves nothing to backtest: every candidate is incomplete and the default
+    /// method is chosen.
+    /// </remarks>
+    public static TuningResult Tune(ReadOnlySpan<double> series, TuningOptions? options = null)
+    {
+        SelectionThrowHelper.CheckFinite(series, nameof(series));
+        return TuneChecked(series, options ?? TuningOptions.Default);
+    }
+
+    /// <summary>Tunes many series in parallel and returns one result per key, in the order the keys were given.</summary>
+    /// <typeparam name="TKey">The series key.</typeparam>
+    /// <param name="histories">The histories by key; each oldest first, every value finite.</param>
+    /// <param name="options">The tuning settings, including the degree of parallelism; <see cref="TuningOptions.Default"/> when null.</param>
+    /// <param name="cancellationToken">Stops the run between keys.</param>
+    /// <returns>One result per key, in input order; identical whatever the degree of parallelism.</returns>
+    /// <exception cref="ArgumentNullException"><paramref name="histories"/> is null.</exception>
+    /// <exception cref="ArgumentException">A history is null.</exception>
+    /// <exception cref="ArgumentOutOfRangeException">A history has a NaN or infinite value (the message names the key and position); nothing is run.</exception>
+    /// <exception cref="OperationCanceledException"><paramref name="cancellationToken"/> was cancelled.</exception>
+    public static ImmutableArray<KeyValuePair<TKey, TuningResult>> TuneMany<TKey>(
+        IReadOnlyList<KeyValuePair<TKey, double[]>> histories,
+        TuningOptions? options = null,
+        CancellationToken cancellationToken = default)
+    {
+        ArgumentNullException.ThrowIfNull(histories);
+        Backtester.CheckHistories(histories, nameof(histories));
+        TuningOptions settings = options ?? TuningOptions.Default;
+        int degree = SelectionThrowHelper.ResolveParallelism(settings.MaxDegreeOfParallelism, nameof(options));
+        TuningResult[] results = KeyedParallel.Run(histories, pair => TuneChecked(pair.Value, settings), degree, cancellationToken);
+        var builder = ImmutableArray.CreateBuilder<KeyValuePair<TKey, TuningResult>>(results.Length);
+        for (int i = 0; i < results.Length; i++)
+        {
+            builder.Add(new KeyValuePair<TKey, TuningResult>(histories[i].Key, results[i]));
+        }
+
+        return builder.MoveToImmutable();
+    }
+
+    /// <summary>The candidate list for a checked history (exposed to tests).</summary>
+    internal static List<ForecasterOptions> Candidates(ReadOnlySpan<double> series, TuningOptions options, int firstOrigin, out DemandClassification demand)
+    {
+        ReadOnlySpan<double> window = series[..Math.Min(firstOrigin, series.Length)];
+        var list = new List<ForecasterOptions>();
+        var seen = new HashSet<ForecasterOptions>();
+        void Add(ForecasterOptions candidate)
+        {
+            if (seen.Add(candidate))
+            {
+                list.Add(candidate);
+            }
+        }
+
+        Add(options.DefaultMethod);
+        Add(new NaiveOptions());
+        int m = options.SeasonLength;
+        if (m >= 2 && m <= NaiveOptions.MaxSeasonLength)
+        {
+            Add(new NaiveOptions(m));
+        }
+
+        for (int length = options.MinMovingAverageLength; length <= options.MaxMovingAverageLength && length <= firstOrigin; length++)
+        {
+            Add(new MovingAverageOptions(length));
+        }
+
+        double[] training = window.ToArray();
+        if (options.WeightedLength >= 1)
+        {
+            TryAdd(Add, () => MethodFitter.FitWeightedMovingAverage(training, options.WeightedLength));
+        }
+
+        TryAdd(Add, () => MethodFitter.FitExponentialSmoothing(training));
+        if (options.IncludeTrend)
+        {
+            TryAdd(Add, () => MethodFitter.FitHolt(training));
+            TryAdd(Add, () => MethodFitter.FitHolt(training, damped: true));
+        }
+
+        bool nonNegative = AllAtLeast(series, 0, inclusive: true);
+        if (m >= 2)
+        {
+            TryAdd(Add, () => MethodFitter.FitHoltWinters(training, m, Seasonality.Additive));
+            if (nonNegative && AllAtLeast(window, 0, inclusive: false))
+            {
+                TryAdd(Add, () => MethodFitter.FitHoltWinters(training, m, Seasonality.Multiplicative));
+            }
+        }
+
+        demand = nonNegative ? DemandClassifier.Classify(window, options.Classifier) : default;
+        SuggestedMethods families = demand.Class is DemandClass.Intermittent or DemandClass.Lumpy
+            ? IntermittentFamilies
+            : DemandClassifier.SuggestMethods(demand.Class) & IntermittentFamilies;
+        if (nonNegative && families != SuggestedMethods.None)
+        {
+            foreach (double w in options.IntermittentWeights)
+            {
+                if ((families & SuggestedMethods.Croston) != 0)
+                {
+                    Add(new CrostonOptions(w));
+                }
+
+                if ((families & SuggestedMethods.SyntetosBoylan) != 0)
+                {
+                    Add(new CrostonOptions(w, variant: CrostonVariant.SyntetosBoylan));
+                }
+            }
+
+            if ((families & SuggestedMethods.Tsb) != 0)
+            {
+                foreach (double probability in options.IntermittentWeights)
+                {
+                    foreach (double size in options.IntermittentWeights)
+                    {
+                        Add(new TsbOptions(probability, size));
+                    }
+                }
+            }
+        }
+
+        return list;
+    }
+
+    private static TuningResult TuneChecked(ReadOnlySpan<double> series, TuningOptions options)
+    {
+        int firstOrigin = options.FirstOriginFor(series.Length);
+        List<ForecasterOptions> candidates = Candidates(series, options, firstOrigin, out DemandClassification demand);
+        var backtest = new BacktestOptions(firstOrigin, options.Horizon, options.SeasonLength, options.Metric, options.Tracking);
+        BacktestReport report = Backtester.RunChecked(series, candidates, backtest);
+        return new TuningResult(options, firstOrigin, demand, report);
+    }
+
+    private static void TryAdd(Action<ForecasterOptions> add, Func<FittedMethod> fit)
+    {
+        try
+        {
+            add(fit().Method);
+        }
+        catch (ArgumentException)
+        {
+            // Too short a window, or a method that rejects this history for every parameter: not a candidate.
+        }
+    }
+
+    private static bool AllAtLeast(ReadOnlySpan<double> values, double bound, bool inclusive)
+    {
+        foreach (double v in values)
+        {
+            if (inclusive ? v < bound : v <= bound)
+            {
+                return false;
+            }
+        }
+
+        return true;
+    }
+}
