@@ -98,6 +98,7 @@ public sealed record SeriesOptions
         }
 
         Method = method;
+        MethodName = method.MethodName;
         Calendar = calendar;
         Lateness = lateness;
         Gaps = gaps;
@@ -111,6 +112,10 @@ public sealed record SeriesOptions
 
     /// <summary>The forecasting method.</summary>
     public ForecasterOptions Method { get; }
+
+    // The method's display name, built once: MethodName formats a new string on every call, and the engine stamps
+    // it on every forecast update (the options are immutable, so the cached name cannot go stale).
+    internal string MethodName { get; }
 
     /// <summary>How event times map to periods.</summary>
     public PeriodCalendar Calendar { get; }

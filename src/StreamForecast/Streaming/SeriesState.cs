@@ -431,7 +431,7 @@ internal sealed class SeriesState<TKey>
         DateTimeOffset start = _calendar.StartOf(period);
         output.Forecast(new ForecastUpdate<TKey>(
             _key, period, start, actual, !has, score.Forecast, score.Error,
-            Point(1), Point(_options.Horizon), errors, _options.Method.MethodName, restated));
+            Point(1), Point(_options.Horizon), errors, _options.MethodName, restated));
 
         if (!restated && score.IsScored)
         {
