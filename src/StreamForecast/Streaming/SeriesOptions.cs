@@ -104,6 +104,7 @@ public sealed record SeriesOptions
         Gaps = gaps;
         Tracking = tracking ?? ErrorTrackerOptions.Default;
         Rules = ruleList;
+        RuleNames = ruleList.Select(static r => r.RuleName).ToImmutableArray();
         Horizon = horizon;
         IntervalMultiplier = intervalMultiplier;
         IdleTimeout = idleTimeout;
@@ -116,6 +117,9 @@ public sealed record SeriesOptions
     // The method's display name, built once: MethodName formats a new string on every call, and the engine stamps
     // it on every forecast update (the options are immutable, so the cached name cannot go stale).
     internal string MethodName { get; }
+
+    // The rules' display names, built once for the same reason: every alert transition carries its rule's name.
+    internal ImmutableArray<string> RuleNames { get; }
 
     /// <summary>How event times map to periods.</summary>
     public PeriodCalendar Calendar { get; }

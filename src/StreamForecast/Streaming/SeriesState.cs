@@ -474,7 +474,7 @@ internal sealed class SeriesState<TKey>
         }
 
         output.Alert(new DriftAlert<TKey>(
-            _key, period, start ?? (_started ? _calendar.StartOf(period) : default), ruleIndex, _options.Rules[ruleIndex].RuleName,
+            _key, period, start ?? (_started ? _calendar.StartOf(period) : default), ruleIndex, _options.RuleNames[ruleIndex],
             transition, errors ?? ErrorSummary.Of(_model.Tracker)));
     }
 
