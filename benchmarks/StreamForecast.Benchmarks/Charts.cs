@@ -23,7 +23,7 @@ internal static class Charts
         string[] keyed = Directory.EnumerateFiles(resultsFolder, "*KeyedProcessingBenchmarks*-report.csv").ToArray();
         if (keyed.Length > 0)
         {
-            DrawAgainstKeys(keyed.SelectMany(Csv.Read).ToList(), Path.Combine(outputFolder, "cost-per-update-vs-keys.png"));
+            DrawAgainstKeys(keyed.SelectMany(ReadTagged).ToList(), Path.Combine(outputFolder, "cost-per-update-vs-keys.png"));
             drawn++;
         }
 
@@ -57,7 +57,7 @@ internal static class Charts
     {
         var plot = new Plot();
         double[] keys = rows.Select(r => Number(r["Keys"])).Distinct().Order().ToArray();
-        foreach (var series in rows.GroupBy(r => (Type: KeyType(r["Type"]), Method: r["Method"])))
+        foreach (var series in rows.GroupBy(r => (Type: r["KeyType"], Method: r["Method"])))
         {
             var points = series.OrderBy(r => Number(r["Keys"])).ToArray();
             var line = plot.Add.Scatter(points.Select(r => Math.Log10(Number(r["Keys"]))).ToArray(), points.Select(r => Nanoseconds(r["Mean"])).ToArray());
@@ -75,7 +75,18 @@ internal static class Charts
         plot.SavePng(path, 900, 550);
     }
 
-    private static string KeyType(string type) => type.Contains("String", StringComparison.Ordinal) ? "string" : "long";
+    // The generic argument is in the report's file name (KeyedProcessingBenchmarks_String_-report.csv), not in a column.
+    private static List<Dictionary<string, string>> ReadTagged(string path)
+    {
+        List<Dictionary<string, string>> rows = Csv.Read(path);
+        string type = Path.GetFileName(path).Contains("_String_", StringComparison.Ordinal) ? "string" : "long";
+        foreach (Dictionary<string, string> row in rows)
+        {
+            row["KeyType"] = type;
+        }
+
+        return rows;
+    }
 
     private static double Number(string text) => double.Parse(text.Replace(",", "", StringComparison.Ordinal), CultureInfo.InvariantCulture);
 

@@ -54,6 +54,12 @@ public class KeyedProcessingBenchmarks<TKey>
     {
         Common();
         _raw = new Dictionary<TKey, SeriesStep>();
+        foreach (TKey key in _keys)
+        {
+            // Built in key order, so the heap layout has nothing to do with the shuffled order they are used in.
+            _raw[key] = new SeriesStep(new MovingAverageOptions(12));
+        }
+
         for (int i = 0; i < WarmRounds; i++)
         {
             DictionaryLookupAndStepRounds(1);
@@ -71,6 +77,12 @@ public class KeyedProcessingBenchmarks<TKey>
             rules: [new TrackingSignalRuleOptions()]);
         _sink = new DiscardingOutput<TKey>();
         _series = new Dictionary<TKey, SeriesState<TKey>>();
+        foreach (TKey key in _keys)
+        {
+            // Built in key order, so the heap layout has nothing to do with the shuffled order they are used in.
+            _series[key] = new SeriesState<TKey>(key, _options, 0);
+        }
+
         for (int i = 0; i < WarmRounds; i++)
         {
             EngineSeriesStateRounds(1);
