@@ -1,8 +1,26 @@
 using BenchmarkDotNet.Running;
+using StreamForecast.Benchmarks;
 
-// Run all:      dotnet run -c Release --project benchmarks/StreamForecast.Benchmarks -- --filter '*'
-// Quick check:  dotnet run -c Release --project benchmarks/StreamForecast.Benchmarks -- --filter '*' --job Dry
+// Full run (one class at a time, see benchmarks/README.md):
+//   dotnet run -c Release --project benchmarks/StreamForecast.Benchmarks -- --filter '*PerPeriodStep*' --job short
+// Quick check that everything builds and runs:
+//   dotnet run -c Release --project benchmarks/StreamForecast.Benchmarks -- --filter '*' --job Dry
+// Bytes per series at 1M series (heap before and after building the states):
+//   dotnet run -c Release --project benchmarks/StreamForecast.Benchmarks -- memory
+// Charts from the result CSVs of a run:
+//   dotnet run -c Release --project benchmarks/StreamForecast.Benchmarks -- chart <results folder> <output folder>
+if (args.Length > 0 && args[0] == "memory")
+{
+    return await MemoryFootprint.RunAsync(args.Length > 1 ? int.Parse(args[1], System.Globalization.CultureInfo.InvariantCulture) : 1_000_000).ConfigureAwait(false);
+}
+
+if (args.Length > 0 && args[0] == "chart")
+{
+    return Charts.Render(args.Length > 1 ? args[1] : "BenchmarkDotNet.Artifacts/results", args.Length > 2 ? args[2] : "benchmarks");
+}
+
 BenchmarkSwitcher.FromAssembly(typeof(Program).Assembly).Run(args);
+return 0;
 
 /// <summary>Entry point holder for the benchmark switcher.</summary>
 internal sealed partial class Program;
