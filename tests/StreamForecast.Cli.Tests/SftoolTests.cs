@@ -80,6 +80,44 @@ public sealed class SftoolTests : IDisposable
         Assert.DoesNotContain(alerts, a => a.StartsWith("east/bun,2025-03", StringComparison.Ordinal) || a.StartsWith("east/bun,2025-04-0", StringComparison.Ordinal));
     }
 
+    [Theory]
+    [InlineData("naive", "Naive")]
+    [InlineData("snaive:7", "SeasonalNaive(7)")]
+    [InlineData("ma:5", "MA(5)")]
+    [InlineData("ses:0.3", "SES(0.3)")]
+    [InlineData("croston:0.1", "Croston(0.1)")]
+    [InlineData("tsb:0.1,0.2", "TSB(0.1, 0.2)")]
+    public void Replay_MethodText_RunsThatMethod(string method, string label)
+    {
+        _tool.Write("sales.csv", ToolRunner.SalesCsv(days: 21));
+
+        ToolResult result = _tool.Run(Args("replay", "sales.csv", "--method", method));
+
+        Assert.True(result.ExitCode == 0, result.ToString());
+        string[] header = File.ReadLines(_tool.PathOf("forecasts.csv")).First().Split(',');
+        int column = Array.IndexOf(header, "method");
+        Assert.All(File.ReadLines(_tool.PathOf("forecasts.csv")).Skip(1), line => Assert.Contains(label, line, StringComparison.Ordinal));
+        Assert.True(column >= 0);
+    }
+
+    [Theory]
+    [InlineData("0s", "3.5", "1 too late")]
+    [InlineData("2h", "4", "0 too late")]
+    public void Replay_HourlyPeriodsWithLateEvent_LatenessDecidesWhetherItCounts(string lateness, string firstHour, string lateCount)
+    {
+        // The last event (02:30+02:00 = 00:30Z) arrives after one from 01:05Z: it belongs to hour 00.
+        _tool.Write("meter.csv", "device,time,kwh\nm1,2025-06-01T00:10:00Z,1.5\nm1,2025-06-01T00:50:00Z,2\nm1,2025-06-01T01:05:00Z,4\nm1,2025-06-01T02:30:00+02:00,0.5\n");
+
+        ToolResult result = _tool.Run("replay", "meter.csv", "--key", "device", "--quantity", "kwh", "--period", "1h", "--method", "naive", "--lateness", lateness);
+
+        Assert.True(result.ExitCode == 0, result.ToString());
+        Assert.Contains(lateCount, result.Output, StringComparison.Ordinal);
+        string[] rows = [.. File.ReadLines(_tool.PathOf("forecasts.csv")).Skip(1)];
+        Assert.Equal(2, rows.Length);
+        Assert.StartsWith($"m1,2025-06-01T00:00:00.0000000+00:00,{firstHour},", rows[0], StringComparison.Ordinal);
+        Assert.StartsWith($"m1,2025-06-01T01:00:00.0000000+00:00,4,0,{firstHour},", rows[1], StringComparison.Ordinal); // naive: the previous hour
+    }
+
     [Fact]
     public void Replay_SemicolonDelimiterGiven_ReadsFile()
     {
