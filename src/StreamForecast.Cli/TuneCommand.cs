@@ -40,7 +40,21 @@ internal static class TuneCommand
             CsvReadResult read = ProgressDisplay.Run("Reading", p => CsvObservations.Read(parse.GetValue(common.Input)!, common.Layout(parse), p));
             Output.ReportSkipped(read);
             var histories = SeriesHistories.Build(read.Rows, calendar, out _);
-            var results = SeriesTuner.TuneMany(histories, options, cancellationToken);
+            // Tuned in chunks of keys (each chunk in parallel) so the progress bar can move; every key's result depends only
+            // on its own history, so chunking changes nothing in the results.
+            var results = ProgressDisplay.Run("Tuning", progress =>
+            {
+                progress.Start(histories.Count);
+                var all = new List<KeyValuePair<string, TuningResult>>(histories.Count);
+                int chunk = Math.Max(16, 4 * Environment.ProcessorCount);
+                for (int i = 0; i < histories.Count; i += chunk)
+                {
+                    all.AddRange(SeriesTuner.TuneMany(histories.GetRange(i, Math.Min(chunk, histories.Count - i)), options, cancellationToken));
+                    progress.Report(all.Count);
+                }
+
+                return all;
+            });
             int shown = Math.Max(1, parse.GetValue(top));
             var file = new MethodConfigFile { Calendar = calendar.Name, SeasonLength = season };
             foreach (var (key, result) in results)
@@ -60,7 +74,7 @@ internal static class TuneCommand
             string path = parse.GetValue(output)!;
             file.Save(path);
             AnsiConsole.MarkupLine("Wrote {0}: {1} series, {2} tuned away from the default {3}.",
-                Markup.Escape(path), results.Length, results.Count(r => r.Value.ImprovesOnDefault), Markup.Escape(defaultMethod.MethodName));
+                Markup.Escape(path), results.Count, results.Count(r => r.Value.ImprovesOnDefault), Markup.Escape(defaultMethod.MethodName));
             return Task.FromResult(ExitCodes.Ok);
         }));
         return command;
