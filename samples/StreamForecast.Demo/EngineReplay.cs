@@ -9,17 +9,22 @@ namespace StreamForecast.Demo;
 
 /// <summary>
 /// Replays the bakeries' sales as individual timestamped sale events through the streaming engine: each series runs
-/// the method the comparison picked for it, shop days are local days in the bakeries' time zone, a few events arrive
+/// the method tuned for it on the first year, shop days are local days in the bakeries' time zone, a few events arrive
 /// late or twice, and halfway through the engine is checkpointed, stopped and restored as after a restart. Drift-alert
 /// transitions are printed as the engine publishes them.
 /// </summary>
 internal static class EngineReplay
 {
+    /// <summary>The engine counters of the whole replay, and every forecast update and alert transition of the charted series.</summary>
+    public sealed record ReplayOutcome(EngineCounters Counters, List<ForecastUpdate<string>> ChartUpdates, List<DriftAlert<string>> ChartAlerts);
+
     private static readonly TimeZoneInfo s_zone = TimeZoneInfo.FindSystemTimeZoneById("Europe/Dublin");
     private static readonly DateOnly s_firstDay = new(2025, 1, 6); // a Monday
 
-    public static async Task<EngineCounters> RunAsync(IReadOnlyList<BakerySeries> series, IReadOnlyDictionary<string, ForecasterOptions> methods, int fromDay, TextWriter log)
+    public static async Task<ReplayOutcome> RunAsync(IReadOnlyList<BakerySeries> series, IReadOnlyDictionary<string, ForecasterOptions> methods, int fromDay, TextWriter log, string chartKey)
     {
+        var chartUpdates = new List<ForecastUpdate<string>>();
+        var chartAlerts = new List<DriftAlert<string>>();
         List<Observation<string>> events = Events(series, fromDay);
         ForecastEngineOptions<string> options = Options(methods);
         string checkpoints = Path.Combine(Path.GetTempPath(), "streamforecast-demo-" + Environment.ProcessId.ToString(CultureInfo.InvariantCulture));
@@ -30,6 +35,8 @@ internal static class EngineReplay
             int half = events.Count / 2;
             long alerts = 0;
             using (engine.Alerts.Subscribe(new AlertPrinter(log, () => Interlocked.Increment(ref alerts))))
+            using (engine.Forecasts.Subscribe(new KeyRecorder<ForecastUpdate<string>>(u => u.Key == chartKey, chartUpdates)))
+            using (engine.Alerts.Subscribe(new KeyRecorder<DriftAlert<string>>(a => a.Key == chartKey, chartAlerts)))
             {
                 for (int i = (int)position; i < half; i++)
                 {
@@ -47,6 +54,8 @@ internal static class EngineReplay
             var latest = new Dictionary<string, ForecastUpdate<string>>(StringComparer.Ordinal);
             using (engine.Alerts.Subscribe(new AlertPrinter(log, () => Interlocked.Increment(ref alerts))))
             using (engine.Forecasts.Subscribe(new LatestForecast(latest)))
+            using (engine.Forecasts.Subscribe(new KeyRecorder<ForecastUpdate<string>>(u => u.Key == chartKey, chartUpdates)))
+            using (engine.Alerts.Subscribe(new KeyRecorder<DriftAlert<string>>(a => a.Key == chartKey, chartAlerts)))
             {
                 for (int i = (int)position; i < events.Count; i++)
                 {
@@ -60,7 +69,13 @@ internal static class EngineReplay
             }
 
             PrintLatest(latest);
-            return Sum(first, engine.GetCounters());
+            lock (chartUpdates)
+            {
+                lock (chartAlerts)
+                {
+                    return new ReplayOutcome(Sum(first, engine.GetCounters()), [.. chartUpdates], [.. chartAlerts]);
+                }
+            }
         }
         finally
         {
@@ -194,6 +209,29 @@ internal static class EngineReplay
             lock (latest)
             {
                 latest[value.Key] = value;
+            }
+        }
+    }
+
+    /// <summary>Keeps the items of one series (the charted one).</summary>
+    private sealed class KeyRecorder<T>(Func<T, bool> wanted, List<T> items) : IObserver<T>
+    {
+        public void OnCompleted()
+        {
+        }
+
+        public void OnError(Exception error)
+        {
+        }
+
+        public void OnNext(T value)
+        {
+            if (wanted(value))
+            {
+                lock (items)
+                {
+                    items.Add(value);
+                }
             }
         }
     }

@@ -2,42 +2,56 @@ using System.CommandLine;
 using System.Globalization;
 using Spectre.Console;
 using StreamForecast.Demo;
+using StreamForecast.Forecasting;
+using StreamForecast.Selection;
 
 // The main demo: an invented chain of three bakeries ("Crumb Lane"), two years of daily sales per item.
-// 1. Compare forecasting methods per series on the second year (one step ahead, scored as it happens).
-// 2. (see EngineReplay) Replay the sales as timestamped events through the streaming engine and show drift alerts.
+// 1. Tune a method per series on the first year with SeriesTuner (fit on its first half, rolling-origin backtest on the rest).
+// 2. (see EngineReplay) Replay the second year as timestamped sale events through the streaming engine, each series
+//    running its tuned method, and show drift alerts.
+// 3. (see DemoChart) Draw one series' replay — the Station Square cinnamon bun, whose demand shifts — as a PNG.
 var smoke = new Option<bool>("--smoke") { Description = "Run a shortened version (used by CI); the output has the same shape." };
 var seed = new Option<int>("--seed") { Description = "Seed for the invented data.", DefaultValueFactory = _ => 2026 };
-var root = new RootCommand("StreamForecast demo on an invented bakery chain. Forecasts and alerts are advisory.") { smoke, seed };
+var chart = new Option<string>("--chart")
+{
+    Description = "Where to write the chart PNG.",
+    DefaultValueFactory = _ => Path.Combine(Path.GetTempPath(), "streamforecast-demo-station-square-cinnamon-bun.png"),
+};
+var root = new RootCommand("StreamForecast demo on an invented bakery chain. Forecasts and alerts are advisory.") { smoke, seed, chart };
 root.SetAction(async (parse, cancellationToken) =>
 {
     bool isSmoke = parse.GetValue(smoke);
     IReadOnlyList<BakerySeries> series = BakeryScenario.Generate(parse.GetValue(seed));
+    const string chartKey = "Station Square/cinnamon bun"; // the series whose demand shifts in the second year
     if (isSmoke)
     {
-        series = series.Take(4).ToList();
+        series = [.. series.Take(3), .. series.Where(s => s.Key == chartKey)];
     }
 
     AnsiConsole.MarkupLine("[bold]StreamForecast demo[/]: Crumb Lane bakeries, {0} series of daily unit sales over {1} days (invented data).", series.Count, BakeryScenario.Days);
     AnsiConsole.MarkupLine("[grey]Forecasts and alerts are advisory: they need a person's judgement before stock or staff change.[/]");
     AnsiConsole.WriteLine();
 
-    var classes = MethodComparison.Classify(series);
-    var scores = MethodComparison.Run(series, evaluationStart: BakeryScenario.Days / 2);
-    PrintMethodSummary(scores);
-    PrintBestPerSeries(scores, classes);
+    // Tune on the first year only: parameters are fitted on its first half and every candidate is backtested on the second.
+    const int firstYear = BakeryScenario.Days / 2;
+    var histories = series.Select(s => new KeyValuePair<string, double[]>(s.Key, s.Daily[..firstYear])).ToList();
+    var options = new TuningOptions(seasonLength: 7, maxMovingAverageLength: 28, weightedLength: 7);
+    var tuned = SeriesTuner.TuneMany(histories, options, cancellationToken);
+    PrintFamilies(tuned);
+    PrintTuned(tuned);
 
-    // Each series runs the method that scored best on it; replay the second year as sale events through the engine.
-    var chosen = scores.GroupBy(s => s.Series).ToDictionary(
-        g => g.Key,
-        g => MethodComparison.Candidates.First(c => c.MethodName == g.OrderBy(s => s.Mase).First().Method),
-        StringComparer.Ordinal);
+    var chosen = tuned.ToDictionary(t => t.Key, t => t.Value.Method, StringComparer.Ordinal);
     AnsiConsole.WriteLine();
-    AnsiConsole.MarkupLine("[bold]Streaming replay[/]: the second year as individual sale events; drift-alert transitions as they are published:");
-    var counters = await EngineReplay.RunAsync(series, chosen, fromDay: BakeryScenario.Days / 2, Console.Out);
+    AnsiConsole.MarkupLine("[bold]Streaming replay[/]: the second year as individual sale events, each series on its tuned method; drift-alert transitions as they are published:");
+    var replay = await EngineReplay.RunAsync(series, chosen, fromDay: firstYear, Console.Out, chartKey);
+    var counters = replay.Counters;
     AnsiConsole.MarkupLine(
         "Engine counters: {0:N0} events, {1:N0} days closed, {2} duplicates ignored, {3} late sales restated a closed day, {4} too late, {5} alerts raised, {6} cleared.",
         counters.Observations, counters.PeriodsClosed, counters.Duplicates, counters.Restated, counters.Late, counters.AlertsRaised, counters.AlertsCleared);
+
+    string chartPath = Path.GetFullPath(parse.GetValue(chart)!);
+    DemoChart.Save(chartPath, $"{chartKey} ({chosen[chartKey].MethodName}): second year, one-step forecast with 80% interval", replay.ChartUpdates, replay.ChartAlerts);
+    AnsiConsole.MarkupLine("Chart of {0}: {1}", Markup.Escape(chartKey), Markup.Escape(chartPath));
     return 0;
 });
 
@@ -48,39 +62,60 @@ if (Console.IsOutputRedirected)
 
 return await root.Parse(args).InvokeAsync();
 
-static void PrintMethodSummary(List<MethodScore> scores)
+static void PrintFamilies(IReadOnlyList<KeyValuePair<string, TuningResult>> tuned)
 {
-    var table = new Table().Title("One-step errors on the second year, averaged over series (lower is better)");
-    table.AddColumns("Method", "mean MASE", "mean WAPE %", "mean |tracking signal|");
-    foreach (var group in scores.GroupBy(s => s.Method).OrderBy(g => g.Average(s => s.Mase)))
+    // Each family's best candidate per series (fitted parameters differ per series), scored one step ahead out of sample.
+    var table = new Table().Title("Backtest on the first year's second half, best candidate of each family averaged over series (lower is better)");
+    table.AddColumns("Family", "mean MASE (h=1)", "mean RMSE (h=1)", "chosen for");
+    var rows = tuned
+        .SelectMany(t => t.Value.Ranking.Where(c => c.IsComplete).GroupBy(c => Family(c.Method)).Select(g => (Series: t.Key, Family: g.Key, Best: g.First(), Chosen: ReferenceEquals(g.First(), t.Value.Chosen))))
+        .GroupBy(r => r.Family)
+        .Select(g => (Family: g.Key, Mase: g.Average(r => r.Best.AtHorizon(1).Mase), Rmse: g.Average(r => r.Best.AtHorizon(1).Rmse), Chosen: g.Count(r => r.Chosen), Series: g.Count()))
+        .OrderBy(r => r.Mase);
+    foreach (var r in rows)
     {
-        table.AddRow(
-            Markup.Escape(group.Key),
-            F(group.Average(s => s.Mase)),
-            F(group.Average(s => s.Wape)),
-            F(group.Average(s => Math.Abs(s.TrackingSignal))));
+        table.AddRow(Markup.Escape(r.Family), F(r.Mase), F(r.Rmse), $"{r.Chosen} of {r.Series}");
     }
 
     AnsiConsole.Write(table);
 }
 
-static void PrintBestPerSeries(List<MethodScore> scores, Dictionary<string, StreamForecast.Classification.DemandClass> classes)
+static void PrintTuned(IReadOnlyList<KeyValuePair<string, TuningResult>> tuned)
 {
-    var table = new Table().Title("Best method per series by MASE (scaled by the weekly seasonal naive error)");
-    table.AddColumns("Series", "Demand class", "Best", "MASE", "Runner-up", "MASE");
-    foreach (var group in scores.GroupBy(s => s.Series))
+    var table = new Table().Title("Tuned method per series, ranked by one-step RMSE in the backtest (MASE: scaled by the weekly seasonal naive error)");
+    table.AddColumns("Series", "Demand class", "Chosen", "RMSE", "MASE", "Runner-up", "RMSE", "Default SES(0.2) RMSE");
+    foreach (var (key, result) in tuned)
     {
-        var ranked = group.OrderBy(s => s.Mase).ToList();
+        CandidateEvaluation runnerUp = result.Ranking.Length > 1 ? result.Ranking[1] : result.Chosen;
         table.AddRow(
-            Markup.Escape(group.Key),
-            classes[group.Key].ToString(),
-            Markup.Escape(ranked[0].Method),
-            F(ranked[0].Mase),
-            Markup.Escape(ranked[1].Method),
-            F(ranked[1].Mase));
+            Markup.Escape(key),
+            result.Demand.Class.ToString(),
+            Markup.Escape(result.Method.MethodName),
+            F(result.Chosen.AtHorizon(1).Rmse),
+            F(result.Chosen.AtHorizon(1).Mase),
+            Markup.Escape(runnerUp.MethodName),
+            F(runnerUp.AtHorizon(1).Rmse),
+            F(result.Default.AtHorizon(1).Rmse));
     }
 
     AnsiConsole.Write(table);
 }
+
+static string Family(ForecasterOptions method) => method switch
+{
+    NaiveOptions { SeasonLength: 1 } => "naive",
+    NaiveOptions => "seasonal naive",
+    MovingAverageOptions => "moving average",
+    WeightedMovingAverageOptions => "weighted moving average",
+    ExponentialSmoothingOptions => "exponential smoothing",
+    HoltOptions { Damping: < 1 } => "Holt, damped",
+    HoltOptions => "Holt",
+    HoltWintersOptions { Seasonality: Seasonality.Multiplicative } => "Holt-Winters, multiplicative",
+    HoltWintersOptions => "Holt-Winters, additive",
+    CrostonOptions { Variant: CrostonVariant.SyntetosBoylan } => "SBA",
+    CrostonOptions => "Croston",
+    TsbOptions => "TSB",
+    _ => method.MethodName,
+};
 
 static string F(double value) => double.IsFinite(value) ? value.ToString("0.000", CultureInfo.InvariantCulture) : "n/a";

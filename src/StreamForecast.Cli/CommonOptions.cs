@@ -1,0 +1,210 @@
+using System.CommandLine;
+using System.Globalization;
+using StreamForecast.Alerts;
+using StreamForecast.Forecasting;
+using StreamForecast.Periods;
+
+namespace StreamForecast.Cli;
+
+/// <summary>The options several commands share: the input CSV's layout, the period calendar, the method and the rules.</summary>
+internal sealed class CommonOptions
+{
+    public Argument<string> Input { get; } = new("input") { Description = "The observations CSV (a header row, then one row per event)." };
+
+    public Option<string[]> Key { get; } = new("--key")
+    {
+        Description = "The key column(s); several are joined with '/' into one composite key.",
+        DefaultValueFactory = _ => ["key"],
+        AllowMultipleArgumentsPerToken = true,
+    };
+
+    public Option<string> Time { get; } = new("--time") { Description = "The timestamp column.", DefaultValueFactory = _ => "time" };
+
+    public Option<string> Quantity { get; } = new("--quantity") { Description = "The quantity column.", DefaultValueFactory = _ => "quantity" };
+
+    public Option<string?> EventId { get; } = new("--event-id") { Description = "An optional event-id column; repeated ids are counted once." };
+
+    public Option<string> Delimiter { get; } = new("--delimiter") { Description = "The field delimiter (',', ';', 'tab' ...).", DefaultValueFactory = _ => "," };
+
+    public Option<BadRowMode> OnBadRow { get; } = new("--on-bad-row")
+    {
+        Description = "stop (default): stop at the first malformed row, naming file, line and column; skip: skip, count and report them.",
+        DefaultValueFactory = _ => BadRowMode.Stop,
+    };
+
+    public Option<string> Period { get; } = new("--period")
+    {
+        Description = "The period: day or week (ISO weeks) in --zone, or a fixed interval such as 15m, 1h, 6h, 1d.",
+        DefaultValueFactory = _ => "day",
+    };
+
+    public Option<string> Zone { get; } = new("--zone")
+    {
+        Description = "The IANA time zone of day/week periods and of timestamps without an offset.",
+        DefaultValueFactory = _ => "UTC",
+    };
+
+    public Option<string> Lateness { get; } = new("--lateness") { Description = "How late an event may arrive and still count (e.g. 3h).", DefaultValueFactory = _ => "0s" };
+
+    public Option<string> Method { get; } = new("--method")
+    {
+        Description = "The method of series not in --config: " + MethodSpec.Forms + ".",
+        DefaultValueFactory = _ => "ses:0.2",
+    };
+
+    public Option<string?> Config { get; } = new("--config") { Description = "A method-configuration file written by 'tune'; its series run their tuned method." };
+
+    public Option<string[]> Rules { get; } = new("--rule")
+    {
+        Description = "Drift rule(s): cusum:h, trigg:limit, signal:limit (tracking signal).",
+        DefaultValueFactory = _ => ["cusum:5"],
+        AllowMultipleArgumentsPerToken = true,
+    };
+
+    public Option<int> Season { get; } = new("--season") { Description = "The season length in periods (e.g. 7 for days in a week); 1 = none.", DefaultValueFactory = _ => 1 };
+
+    public Option<int> Horizon { get; } = new("--horizon") { Description = "The furthest horizon forecast (and backtested).", DefaultValueFactory = _ => 1 };
+
+    public void AddInputOptions(Command command)
+    {
+        command.Arguments.Add(Input);
+        foreach (Option option in new Option[] { Key, Time, Quantity, EventId, Delimiter, OnBadRow, Period, Zone })
+        {
+            command.Options.Add(option);
+        }
+    }
+
+    public CsvLayout Layout(ParseResult parse) => new(
+        parse.GetValue(Key)!,
+        parse.GetValue(Time)!,
+        parse.GetValue(Quantity)!,
+        parse.GetValue(EventId),
+        DelimiterOf(parse.GetValue(Delimiter)!),
+        parse.GetValue(OnBadRow),
+        ZoneOf(parse.GetValue(Zone)!));
+
+    public PeriodCalendar Calendar(ParseResult parse)
+    {
+        string period = parse.GetValue(Period)!;
+        TimeZoneInfo zone = ZoneOf(parse.GetValue(Zone)!);
+        try
+        {
+            return period.ToLowerInvariant() switch
+            {
+                "day" => PeriodCalendar.Daily(zone),
+                "week" => PeriodCalendar.IsoWeekly(zone),
+                _ => PeriodCalendar.FixedInterval(DurationOf("--period", period)),
+            };
+        }
+        catch (ArgumentException e)
+        {
+            throw new UsageException($"--period {period}: {Short(e.Message)}");
+        }
+    }
+
+    public LatenessPolicy LatenessOf(ParseResult parse)
+    {
+        string text = parse.GetValue(Lateness)!;
+        try
+        {
+            return new LatenessPolicy(DurationOf("--lateness", text));
+        }
+        catch (ArgumentException e)
+        {
+            throw new UsageException($"--lateness {text}: {Short(e.Message)}");
+        }
+    }
+
+    public ForecasterOptions MethodOf(ParseResult parse) => MethodSpec.Parse(parse.GetValue(Method)!);
+
+    public DriftRuleOptions[] RulesOf(ParseResult parse) => [.. parse.GetValue(Rules)!.Select(RuleOf)];
+
+    public int SeasonOf(ParseResult parse)
+    {
+        int season = parse.GetValue(Season);
+        return season >= 1 ? season : throw new UsageException($"--season {season}: the season length must be 1 or more.");
+    }
+
+    public int HorizonOf(ParseResult parse)
+    {
+        int horizon = parse.GetValue(Horizon);
+        return horizon is >= 1 and <= 1000 ? horizon : throw new UsageException($"--horizon {horizon}: the horizon must be between 1 and 1,000.");
+    }
+
+    public static DriftRuleOptions RuleOf(string text)
+    {
+        string[] parts = text.Split(':', 2, StringSplitOptions.TrimEntries);
+        if (parts.Length != 2 || !double.TryParse(parts[1], NumberStyles.Float, CultureInfo.InvariantCulture, out double level))
+        {
+            throw new UsageException($"--rule {text}: use cusum:h, trigg:limit or signal:limit.");
+        }
+
+        try
+        {
+            return parts[0].ToLowerInvariant() switch
+            {
+                "cusum" => new CusumRuleOptions(decisionInterval: level),
+                "trigg" => new TriggSignalRuleOptions(limit: level),
+                "signal" => new TrackingSignalRuleOptions(limit: level),
+                _ => throw new UsageException($"--rule {text}: '{parts[0]}' is not a rule; use cusum, trigg or signal."),
+            };
+        }
+        catch (ArgumentException e)
+        {
+            throw new UsageException($"--rule {text}: {Short(e.Message)}");
+        }
+    }
+
+    public static TimeSpan DurationOf(string option, string text)
+    {
+        string t = text.Trim().ToLowerInvariant();
+        if (TimeSpan.TryParse(t, CultureInfo.InvariantCulture, out TimeSpan span) && t.Contains(':', StringComparison.Ordinal))
+        {
+            return span;
+        }
+
+        int unitStart = t.Length;
+        while (unitStart > 0 && char.IsLetter(t[unitStart - 1]))
+        {
+            unitStart--;
+        }
+
+        if (double.TryParse(t[..unitStart], NumberStyles.Float, CultureInfo.InvariantCulture, out double amount) && amount >= 0)
+        {
+            switch (t[unitStart..])
+            {
+                case "s": return TimeSpan.FromSeconds(amount);
+                case "m": return TimeSpan.FromMinutes(amount);
+                case "h": return TimeSpan.FromHours(amount);
+                case "d": return TimeSpan.FromDays(amount);
+            }
+        }
+
+        throw new UsageException($"{option} {text}: not a duration; use a number with s, m, h or d (e.g. 15m, 3h) or hh:mm:ss.");
+    }
+
+    private static string DelimiterOf(string text) => text.ToLowerInvariant() switch
+    {
+        "tab" or "\\t" => "\t",
+        "" => throw new UsageException("--delimiter: give a delimiter such as ',', ';' or tab."),
+        _ => text,
+    };
+
+    private static TimeZoneInfo ZoneOf(string id)
+    {
+        try
+        {
+            return TimeZoneInfo.FindSystemTimeZoneById(id);
+        }
+        catch (Exception e) when (e is TimeZoneNotFoundException or InvalidTimeZoneException)
+        {
+            throw new UsageException($"--zone {id}: not a known IANA time zone (e.g. UTC, Europe/Dublin, America/New_York).");
+        }
+    }
+
+    private static string Short(string message)
+    {
+        int end = message.IndexOf(" (Parameter", StringComparison.Ordinal);
+        return end < 0 ? message : message[..end];
+    }
+}

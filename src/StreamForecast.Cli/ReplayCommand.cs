@@ -1,0 +1,103 @@
+using System.CommandLine;
+using System.Globalization;
+using Spectre.Console;
+using StreamForecast.Alerts;
+using StreamForecast.Forecasting;
+using StreamForecast.Streaming;
+
+namespace StreamForecast.Cli;
+
+/// <summary><c>replay</c>: runs a CSV of observations through the engine, writes forecasts and alert transitions, prints a summary.</summary>
+internal static class ReplayCommand
+{
+    public static Command Create(CommonOptions common)
+    {
+        var forecastsOut = new Option<string>("--forecasts-out") { Description = "Where to write the forecasts CSV.", DefaultValueFactory = _ => "forecasts.csv" };
+        var alertsOut = new Option<string>("--alerts-out") { Description = "Where to write the alert transitions CSV.", DefaultValueFactory = _ => "alerts.csv" };
+        var command = new Command("replay", "Replay observations through the streaming engine; write forecasts and alert transitions to CSV and print a summary per series.");
+        common.AddInputOptions(command);
+        foreach (Option option in new Option[] { common.Lateness, common.Method, common.Config, common.Rules, common.Season, common.Horizon, forecastsOut, alertsOut })
+        {
+            command.Options.Add(option);
+        }
+
+        command.SetAction((parse, cancellationToken) => Cli.Guard(async () =>
+        {
+            ReplaySettings settings = SettingsOf(common, parse);
+            CsvReadResult read = ProgressDisplay.Run("Reading", p => CsvObservations.Read(parse.GetValue(common.Input)!, common.Layout(parse), p));
+            Output.ReportSkipped(read);
+            ReplayResult result = await ProgressDisplay.RunAsync("Replaying", p => ReplayRunner.RunAsync(read.Rows, settings, p, cancellationToken)).ConfigureAwait(false);
+
+            string forecastsPath = parse.GetValue(forecastsOut)!;
+            string alertsPath = parse.GetValue(alertsOut)!;
+            WriteForecasts(forecastsPath, result.Forecasts);
+            WriteAlerts(alertsPath, result.Alerts);
+            PrintSummary(result);
+            EngineCounters c = result.Counters;
+            AnsiConsole.MarkupLine(
+                "Engine: {0:N0} events, {1:N0} periods closed, {2:N0} duplicates, {3:N0} late restated, {4:N0} too late, {5:N0} rejected, {6} alerts raised, {7} cleared.",
+                c.Observations, c.PeriodsClosed, c.Duplicates, c.Restated, c.Late, c.Rejected, c.AlertsRaised, c.AlertsCleared);
+            foreach (SeriesFault<string> fault in result.Faults.Take(5))
+            {
+                AnsiConsole.MarkupLine("[yellow]Series fault[/] {0}: {1}", Markup.Escape(fault.Key), Markup.Escape(fault.Message));
+            }
+
+            AnsiConsole.MarkupLine("Wrote {0} ({1:N0} forecasts) and {2} ({3:N0} alert transitions).",
+                Markup.Escape(forecastsPath), result.Forecasts.Count, Markup.Escape(alertsPath), result.Alerts.Count);
+            return ExitCodes.Ok;
+        }));
+        return command;
+    }
+
+    public static ReplaySettings SettingsOf(CommonOptions common, ParseResult parse)
+    {
+        string? config = parse.GetValue(common.Config);
+        IReadOnlyDictionary<string, ForecasterOptions> tuned = config is null
+            ? new Dictionary<string, ForecasterOptions>(StringComparer.Ordinal)
+            : MethodConfigFile.Load(config);
+        return new ReplaySettings(
+            common.Calendar(parse), common.LatenessOf(parse), common.MethodOf(parse), tuned, common.RulesOf(parse), common.SeasonOf(parse), common.HorizonOf(parse));
+    }
+
+    private static void WriteForecasts(string path, List<ForecastUpdate<string>> forecasts)
+    {
+        string[] header = ["key", "period_start", "actual", "imputed", "forecast", "error", "next", "next_lower", "next_upper", "horizon", "at_horizon", "at_horizon_lower", "at_horizon_upper", "mad", "tracking_signal", "trigg_signal", "method", "restatement"];
+        Output.WriteCsv(path, header, forecasts.OrderBy(f => f.Key, StringComparer.Ordinal).ThenBy(f => f.Period), f =>
+        [
+            f.Key, f.PeriodStart.ToString("O", CultureInfo.InvariantCulture), Output.R(f.Actual), f.IsImputed ? "1" : "0",
+            Output.R(f.ForecastForPeriod), Output.R(f.Error), Output.R(f.Next.Value), Output.R(f.Next.Lower), Output.R(f.Next.Upper),
+            f.AtHorizon.Horizon.ToString(CultureInfo.InvariantCulture), Output.R(f.AtHorizon.Value), Output.R(f.AtHorizon.Lower), Output.R(f.AtHorizon.Upper),
+            Output.R(f.Errors.Mad), Output.R(f.Errors.TrackingSignal), Output.R(f.Errors.TriggSignal), f.Method, f.IsRestatement ? "1" : "0",
+        ]);
+    }
+
+    private static void WriteAlerts(string path, List<DriftAlert<string>> alerts)
+    {
+        string[] header = ["key", "period_start", "rule", "transition", "episode", "direction", "severity", "signal", "level", "reason"];
+        Output.WriteCsv(path, header, alerts.OrderBy(a => a.Key, StringComparer.Ordinal).ThenBy(a => a.Period), a =>
+        [
+            a.Key, a.PeriodStart.ToString("O", CultureInfo.InvariantCulture), a.RuleName, a.Transition.Kind.ToString(),
+            a.Transition.EpisodeId.ToString(CultureInfo.InvariantCulture), a.Transition.Direction.ToString(), a.Transition.Severity.ToString(),
+            Output.R(a.Transition.Signal), Output.R(a.Transition.Level), a.Transition.Reason.ToString(),
+        ]);
+    }
+
+    private static void PrintSummary(ReplayResult result)
+    {
+        var raised = result.Alerts.Where(a => a.Transition.Kind == DriftTransitionKind.Raised).GroupBy(a => a.Key, StringComparer.Ordinal)
+            .ToDictionary(g => g.Key, g => g.Count(), StringComparer.Ordinal);
+        var table = new Table().Title("Series after the last period (80% interval); forecasts and alerts are advisory");
+        table.AddColumns("Series", "Method", "Periods", "Last period", "Actual", "Next", "Interval", "MAD", "Tracking signal", "Alerts raised");
+        foreach (var group in result.Forecasts.GroupBy(f => f.Key, StringComparer.Ordinal).OrderBy(g => g.Key, StringComparer.Ordinal))
+        {
+            ForecastUpdate<string> last = group.MaxBy(f => f.Period);
+            table.AddRow(
+                Markup.Escape(group.Key), Markup.Escape(last.Method), group.Select(f => f.Period).Distinct().Count().ToString("N0", CultureInfo.InvariantCulture),
+                last.PeriodStart.ToString("yyyy-MM-dd HH:mm", CultureInfo.InvariantCulture), Output.F(last.Actual), Output.F(last.Next.Value),
+                $"{Output.F(last.Next.Lower)} – {Output.F(last.Next.Upper)}", Output.F(last.Errors.Mad), Output.F(last.Errors.TrackingSignal),
+                raised.GetValueOrDefault(group.Key).ToString(CultureInfo.InvariantCulture));
+        }
+
+        AnsiConsole.Write(table);
+    }
+}

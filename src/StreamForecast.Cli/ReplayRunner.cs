@@ -1,0 +1,131 @@
+using System.Collections.Immutable;
+using StreamForecast.Alerts;
+using StreamForecast.Forecasting;
+using StreamForecast.Periods;
+using StreamForecast.Streaming;
+using StreamForecast.Tracking;
+
+namespace StreamForecast.Cli;
+
+/// <summary>The settings of one replay through the engine.</summary>
+internal sealed record ReplaySettings(
+    PeriodCalendar Calendar,
+    LatenessPolicy Lateness,
+    ForecasterOptions DefaultMethod,
+    IReadOnlyDictionary<string, ForecasterOptions> TunedMethods,
+    IReadOnlyList<DriftRuleOptions> Rules,
+    int SeasonLength,
+    int Horizon);
+
+/// <summary>What a replay produced.</summary>
+internal sealed record ReplayResult(
+    List<ForecastUpdate<string>> Forecasts,
+    List<DriftAlert<string>> Alerts,
+    List<SeriesFault<string>> Faults,
+    EngineCounters Counters);
+
+/// <summary>
+/// Posts observations, in file order, through a <see cref="ForecastEngine{TKey}"/> and collects what it publishes. The
+/// engine's clock stands one day after the last event (the data is history), and after the last event the engine is
+/// advanced to the end of the last period so every period is closed.
+/// </summary>
+internal static class ReplayRunner
+{
+    public static async Task<ReplayResult> RunAsync(IReadOnlyList<Observation<string>> rows, ReplaySettings settings, IProgressSink progress, CancellationToken cancellationToken)
+    {
+        DateTimeOffset last = DateTimeOffset.MinValue;
+        foreach (Observation<string> row in rows)
+        {
+            if (row.Timestamp > last)
+            {
+                last = row.Timestamp;
+            }
+        }
+
+        SeriesOptions Make(ForecasterOptions method) => new(
+            method,
+            settings.Calendar,
+            settings.Lateness,
+            GapPolicy.Zero,
+            tracking: new ErrorTrackerOptions(seasonLength: settings.SeasonLength),
+            rules: [.. settings.Rules],
+            horizon: settings.Horizon);
+
+        Dictionary<string, SeriesOptions> perKey = settings.TunedMethods.ToDictionary(kv => kv.Key, kv => Make(kv.Value), StringComparer.Ordinal);
+        var options = new ForecastEngineOptions<string>(
+            Make(settings.DefaultMethod),
+            seriesOverrides: key => perKey.GetValueOrDefault(key),
+            keyComparer: StringComparer.Ordinal,
+            timeProvider: new FixedClock(last.AddDays(1)),
+            publishing: new PublishingOptions(subscriberCapacity: 10_000_000));
+
+        var forecasts = new Collector<ForecastUpdate<string>>();
+        var alerts = new Collector<DriftAlert<string>>();
+        var faults = new Collector<SeriesFault<string>>();
+        var engine = new ForecastEngine<string>(options);
+        using (engine.Forecasts.Subscribe(forecasts))
+        using (engine.Alerts.Subscribe(alerts))
+        using (engine.Faults.Subscribe(faults))
+        {
+            try
+            {
+                progress.Start(rows.Count);
+                for (int i = 0; i < rows.Count; i++)
+                {
+                    await engine.PostAsync(rows[i], cancellationToken).ConfigureAwait(false);
+                    if ((i & 4095) == 0)
+                    {
+                        progress.Report(i);
+                    }
+                }
+
+                progress.Report(rows.Count);
+                if (rows.Count > 0)
+                {
+                    long lastPeriod = settings.Calendar.PeriodOf(last);
+                    await engine.AdvanceAsync(settings.Calendar.EndOf(lastPeriod), cancellationToken).ConfigureAwait(false);
+                }
+            }
+            finally
+            {
+                await engine.DisposeAsync().ConfigureAwait(false);
+            }
+        }
+
+        return new ReplayResult(forecasts.Items(), alerts.Items(), faults.Items(), engine.GetCounters());
+    }
+
+    private sealed class Collector<T> : IObserver<T>
+    {
+        private readonly List<T> _items = [];
+
+        public List<T> Items()
+        {
+            lock (_items)
+            {
+                return [.. _items];
+            }
+        }
+
+        public void OnCompleted()
+        {
+        }
+
+        public void OnError(Exception error)
+        {
+        }
+
+        public void OnNext(T value)
+        {
+            lock (_items)
+            {
+                _items.Add(value);
+            }
+        }
+    }
+
+    private sealed class FixedClock(DateTimeOffset now) : TimeProvider
+    {
+        public override DateTimeOffset GetUtcNow() => now;
+    }
+}

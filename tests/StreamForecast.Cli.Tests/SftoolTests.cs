@@ -1,0 +1,305 @@
+using System.Globalization;
+using System.Text.Json;
+
+namespace StreamForecast.Cli.Tests;
+
+/// <summary>Runs the real sftool executable on small invented CSV files, including malformed ones.</summary>
+public sealed class SftoolTests : IDisposable
+{
+    private static readonly string[] s_keyColumns = ["--key", "shop", "item", "--time", "sold_at", "--quantity", "units"];
+    private readonly ToolRunner _tool = new();
+
+    public void Dispose() => _tool.Dispose();
+
+    private static string[] Args(params string[] args) => [.. args.Take(2), .. s_keyColumns, .. args.Skip(2)];
+
+    [Fact]
+    public void Help_Root_ListsCommandsAndExitCodes()
+    {
+        ToolResult result = _tool.Run("--help");
+
+        Assert.True(result.ExitCode == 0, result.ToString());
+        foreach (string command in new[] { "replay", "tune", "calibrate", "chart", "Exit codes: 0 ok; 1 usage error", "2 data error" })
+        {
+            Assert.Contains(command, result.Output, StringComparison.Ordinal);
+        }
+    }
+
+    [Fact]
+    public void Replay_NaiveMethod_ForecastEqualsPreviousDailyTotal()
+    {
+        _tool.Write("sales.csv", ToolRunner.SalesCsv(days: 20));
+
+        ToolResult result = _tool.Run(Args("replay", "sales.csv", "--event-id", "sale_id", "--method", "naive"));
+
+        Assert.True(result.ExitCode == 0, result.ToString());
+        Assert.Contains("east/bun", result.Output, StringComparison.Ordinal);
+        Assert.Contains("Read 160 rows", result.Output, StringComparison.Ordinal);
+
+        // Plain recomputation from the input: daily totals per composite key (two sale events a day).
+        var totals = new Dictionary<(string, string), double>();
+        foreach (string line in File.ReadLines(_tool.PathOf("sales.csv")).Skip(1))
+        {
+            string[] f = line.Split(',');
+            var k = ($"{f[0]}/{f[1]}", f[2][..10]);
+            totals[k] = totals.GetValueOrDefault(k) + double.Parse(f[3], CultureInfo.InvariantCulture);
+        }
+
+        string[] header = File.ReadLines(_tool.PathOf("forecasts.csv")).First().Split(',');
+        var rows = File.ReadLines(_tool.PathOf("forecasts.csv")).Skip(1).Select(l => l.Split(',')).ToList();
+        Assert.Equal(4 * 20, rows.Count);
+        int key = Array.IndexOf(header, "key"), start = Array.IndexOf(header, "period_start"), actual = Array.IndexOf(header, "actual"), forecast = Array.IndexOf(header, "forecast");
+        int checkedRows = 0;
+        foreach (string[] row in rows)
+        {
+            string day = row[start][..10];
+            Assert.Equal(totals[(row[key], day)], double.Parse(row[actual], CultureInfo.InvariantCulture));
+            string previous = DateTime.Parse(day, CultureInfo.InvariantCulture).AddDays(-1).ToString("yyyy-MM-dd", CultureInfo.InvariantCulture);
+            if (totals.TryGetValue((row[key], previous), out double yesterday))
+            {
+                Assert.Equal(yesterday, double.Parse(row[forecast], CultureInfo.InvariantCulture));
+                checkedRows++;
+            }
+        }
+
+        Assert.Equal(4 * 19, checkedRows);
+        Assert.StartsWith("key,period_start,rule,transition", File.ReadLines(_tool.PathOf("alerts.csv")).First(), StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void Replay_DemandShift_RaisesAlertForShiftedSeriesOnly()
+    {
+        _tool.Write("sales.csv", ToolRunner.SalesCsv());
+
+        ToolResult result = _tool.Run(Args("replay", "sales.csv", "--method", "ma:7", "--rule", "cusum:5", "--zone", "Europe/Dublin"));
+
+        Assert.True(result.ExitCode == 0, result.ToString());
+        string[] alerts = [.. File.ReadLines(_tool.PathOf("alerts.csv")).Skip(1)];
+        Assert.Contains(alerts, a => a.StartsWith("east/bun,", StringComparison.Ordinal) && a.Contains(",Raised,", StringComparison.Ordinal));
+        Assert.Contains(alerts, a => a.StartsWith("east/bun,2025-04-2", StringComparison.Ordinal) || a.StartsWith("east/bun,2025-05", StringComparison.Ordinal));
+        Assert.DoesNotContain(alerts, a => a.StartsWith("east/bun,2025-03", StringComparison.Ordinal) || a.StartsWith("east/bun,2025-04-0", StringComparison.Ordinal));
+    }
+
+    [Theory]
+    [InlineData("naive", "Naive")]
+    [InlineData("snaive:7", "SeasonalNaive(7)")]
+    [InlineData("ma:5", "MA(5)")]
+    [InlineData("ses:0.3", "SES(0.3)")]
+    [InlineData("croston:0.1", "Croston(0.1)")]
+    [InlineData("tsb:0.1,0.2", "TSB(0.1, 0.2)")]
+    public void Replay_MethodText_RunsThatMethod(string method, string label)
+    {
+        _tool.Write("sales.csv", ToolRunner.SalesCsv(days: 21));
+
+        ToolResult result = _tool.Run(Args("replay", "sales.csv", "--method", method));
+
+        Assert.True(result.ExitCode == 0, result.ToString());
+        string[] header = File.ReadLines(_tool.PathOf("forecasts.csv")).First().Split(',');
+        int column = Array.IndexOf(header, "method");
+        Assert.All(File.ReadLines(_tool.PathOf("forecasts.csv")).Skip(1), line => Assert.Contains(label, line, StringComparison.Ordinal));
+        Assert.True(column >= 0);
+    }
+
+    [Theory]
+    [InlineData("0s", "3.5", "1 too late")]
+    [InlineData("2h", "4", "0 too late")]
+    public void Replay_HourlyPeriodsWithLateEvent_LatenessDecidesWhetherItCounts(string lateness, string firstHour, string lateCount)
+    {
+        // The last event (02:30+02:00 = 00:30Z) arrives after one from 01:05Z: it belongs to hour 00.
+        _tool.Write("meter.csv", "device,time,kwh\nm1,2025-06-01T00:10:00Z,1.5\nm1,2025-06-01T00:50:00Z,2\nm1,2025-06-01T01:05:00Z,4\nm1,2025-06-01T02:30:00+02:00,0.5\n");
+
+        ToolResult result = _tool.Run("replay", "meter.csv", "--key", "device", "--quantity", "kwh", "--period", "1h", "--method", "naive", "--lateness", lateness);
+
+        Assert.True(result.ExitCode == 0, result.ToString());
+        Assert.Contains(lateCount, result.Output, StringComparison.Ordinal);
+        string[] rows = [.. File.ReadLines(_tool.PathOf("forecasts.csv")).Skip(1)];
+        Assert.Equal(2, rows.Length);
+        Assert.StartsWith($"m1,2025-06-01T00:00:00.0000000+00:00,{firstHour},", rows[0], StringComparison.Ordinal);
+        Assert.StartsWith($"m1,2025-06-01T01:00:00.0000000+00:00,4,0,{firstHour},", rows[1], StringComparison.Ordinal); // naive: the previous hour
+    }
+
+    [Fact]
+    public void Replay_SemicolonDelimiterGiven_ReadsFile()
+    {
+        _tool.Write("sales.csv", ToolRunner.SalesCsv(days: 10, delimiter: ';'));
+
+        ToolResult result = _tool.Run(Args("replay", "sales.csv", "--delimiter", ";"));
+
+        Assert.True(result.ExitCode == 0, result.ToString());
+        Assert.Contains("Read 80 rows", result.Output, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void Replay_WrongDelimiter_ExitsTwoAndSuggestsDelimiter()
+    {
+        _tool.Write("sales.csv", ToolRunner.SalesCsv(days: 10, delimiter: ';'));
+
+        ToolResult result = _tool.Run(Args("replay", "sales.csv"));
+
+        Assert.True(result.ExitCode == 2, result.ToString());
+        Assert.Contains("sales.csv, line 1: no column named 'shop'", result.Error, StringComparison.Ordinal);
+        Assert.Contains("--delimiter", result.Error, StringComparison.Ordinal);
+        AssertNoStackTrace(result);
+    }
+
+    [Fact]
+    public void Replay_MissingColumn_ExitsTwoNamingColumn()
+    {
+        _tool.Write("sales.csv", ToolRunner.SalesCsv(days: 5));
+
+        ToolResult result = _tool.Run(Args("replay", "sales.csv", "--event-id", "receipt"));
+
+        Assert.True(result.ExitCode == 2, result.ToString());
+        Assert.Contains("no column named 'receipt'", result.Error, StringComparison.Ordinal);
+        AssertNoStackTrace(result);
+    }
+
+    [Fact]
+    public void Replay_BadNumberStopMode_ExitsTwoNamingFileLineAndColumn()
+    {
+        _tool.Write("bad.csv", "shop,item,sold_at,units\ne,bun,2025-03-03T09:00:00,4\ne,bun,2025-03-04T09:00:00,4,5x\ne,bun,2025-03-05T09:00:00,four\n");
+
+        ToolResult result = _tool.Run(Args("replay", "bad.csv"));
+
+        Assert.True(result.ExitCode == 2, result.ToString());
+        Assert.Contains("bad.csv, line 4, column 4 ('units'): 'four' is not a finite number", result.Error, StringComparison.Ordinal);
+        Assert.Contains("--on-bad-row skip", result.Error, StringComparison.Ordinal);
+        AssertNoStackTrace(result);
+    }
+
+    [Fact]
+    public void Replay_BadRowsSkipMode_ExitsZeroAndReportsCount()
+    {
+        _tool.Write("bad.csv", "shop,item,sold_at,units\ne,bun,2025-03-03T09:00:00,4\ne,bun,2025-03-04T09:00:00,four\ne,bun,yesterday,3\ne,bun\ne,bun,2025-03-05T09:00:00,6\n");
+
+        ToolResult result = _tool.Run(Args("replay", "bad.csv", "--on-bad-row", "skip"));
+
+        Assert.True(result.ExitCode == 0, result.ToString());
+        Assert.Contains("Read 2 rows", result.Output, StringComparison.Ordinal);
+        Assert.Contains("Skipped 3 malformed row(s)", result.Output, StringComparison.Ordinal);
+        Assert.Contains("line 3, column 4 ('units')", result.Output, StringComparison.Ordinal);
+        Assert.Contains("line 4, column 3 ('sold_at')", result.Output, StringComparison.Ordinal);
+        Assert.Contains("line 5: the row has 2 field(s)", result.Output, StringComparison.Ordinal);
+    }
+
+    [Theory]
+    [InlineData("--method", "bogus:1")]
+    [InlineData("--method", "ses:1.5")]
+    [InlineData("--zone", "Mars/Olympus")]
+    [InlineData("--period", "fortnightly")]
+    [InlineData("--rule", "cusum:-1")]
+    public void Replay_BadOptionValue_ExitsOneWithoutStackTrace(string option, string value)
+    {
+        _tool.Write("sales.csv", ToolRunner.SalesCsv(days: 5));
+
+        ToolResult result = _tool.Run(Args("replay", "sales.csv", option, value));
+
+        Assert.True(result.ExitCode == 1, result.ToString());
+        Assert.Contains("sftool: usage error", result.Error, StringComparison.Ordinal);
+        AssertNoStackTrace(result);
+    }
+
+    [Fact]
+    public void Replay_MissingFile_ExitsTwo()
+    {
+        ToolResult result = _tool.Run("replay", "nowhere.csv");
+
+        Assert.True(result.ExitCode == 2, result.ToString());
+        Assert.Contains("nowhere.csv: file not found", result.Error, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void Tune_ThenReplayWithConfig_EachSeriesRunsItsTunedMethod()
+    {
+        _tool.Write("sales.csv", ToolRunner.SalesCsv());
+
+        ToolResult tune = _tool.Run(Args("tune", "sales.csv", "--season", "7", "--out", "methods.json", "--top", "3"));
+
+        Assert.True(tune.ExitCode == 0, tune.ToString());
+        Assert.Contains("Rank", tune.Output, StringComparison.Ordinal);
+        using JsonDocument config = JsonDocument.Parse(File.ReadAllText(_tool.PathOf("methods.json")));
+        Assert.Equal("sftool-methods", config.RootElement.GetProperty("format").GetString());
+        Assert.Equal(1, config.RootElement.GetProperty("version").GetInt32());
+        var labels = config.RootElement.GetProperty("series").EnumerateArray()
+            .ToDictionary(s => s.GetProperty("key").GetString()!, s => s.GetProperty("label").GetString()!);
+        Assert.Equal(["east/bun", "east/tart", "west/bun", "west/tart"], labels.Keys.Order(StringComparer.Ordinal));
+
+        ToolResult replay = _tool.Run(Args("replay", "sales.csv", "--season", "7", "--config", "methods.json"));
+
+        Assert.True(replay.ExitCode == 0, replay.ToString());
+        string[] header = File.ReadLines(_tool.PathOf("forecasts.csv")).First().Split(',');
+        int key = Array.IndexOf(header, "key"), method = Array.IndexOf(header, "method");
+        foreach (string line in File.ReadLines(_tool.PathOf("forecasts.csv")).Skip(1))
+        {
+            string[] row = line.Split(',');
+            if (row.Length == header.Length)
+            {
+                Assert.Equal(labels[row[key]], row[method]);
+            }
+        }
+
+        Assert.All(labels.Values, label => Assert.Contains(label, replay.Output, StringComparison.Ordinal));
+    }
+
+    [Theory]
+    [InlineData("{\"format\":\"sftool-methods\",\"version\":2,\"series\":[]}", "version 2 is not supported")]
+    [InlineData("{\"format\":\"other\",\"version\":1,\"series\":[]}", "not a sftool-methods file")]
+    [InlineData("{\"format\":\"sftool-methods\",\"version\":1,\"series\":[{\"key\":\"e/bun\",\"method\":\"ma:0\"}]}", "series 'e/bun'")]
+    [InlineData("not json", "not a valid configuration file")]
+    public void Replay_BadConfigFile_ExitsOne(string content, string expected)
+    {
+        _tool.Write("sales.csv", ToolRunner.SalesCsv(days: 5));
+        _tool.Write("methods.json", content);
+
+        ToolResult result = _tool.Run(Args("replay", "sales.csv", "--config", "methods.json"));
+
+        Assert.True(result.ExitCode == 1, result.ToString());
+        Assert.Contains(expected, result.Error, StringComparison.Ordinal);
+        AssertNoStackTrace(result);
+    }
+
+    [Fact]
+    public void Calibrate_MovingAverage_PrintsLimitRunLengthAndDelays()
+    {
+        _tool.Write("sales.csv", ToolRunner.SalesCsv(days: 120, shiftDay: 1000));
+
+        ToolResult result = _tool.Run(Args("calibrate", "sales.csv", "--series", "west/tart", "--method", "ma:7", "--calibrate-rule", "signal:4", "--target", "50", "--simulations", "100"));
+
+        Assert.True(result.ExitCode == 0, result.ToString());
+        foreach (string text in new[] { "west/tart: MA(7)", "Limit", "Target reached", "In-control run length", "mean delay" })
+        {
+            Assert.Contains(text, result.Output, StringComparison.Ordinal);
+        }
+    }
+
+    [Fact]
+    public void Calibrate_UnknownSeries_ExitsTwo()
+    {
+        _tool.Write("sales.csv", ToolRunner.SalesCsv(days: 30));
+
+        ToolResult result = _tool.Run(Args("calibrate", "sales.csv", "--series", "north/pie"));
+
+        Assert.True(result.ExitCode == 2, result.ToString());
+        Assert.Contains("No series 'north/pie'", result.Error, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void Chart_ShiftedSeries_WritesNonEmptyPng()
+    {
+        _tool.Write("sales.csv", ToolRunner.SalesCsv());
+
+        ToolResult result = _tool.Run(Args("chart", "sales.csv", "--series", "east/bun", "--method", "ma:7", "--out", "bun.png"));
+
+        Assert.True(result.ExitCode == 0, result.ToString());
+        byte[] png = File.ReadAllBytes(_tool.PathOf("bun.png"));
+        Assert.True(png.Length > 1000, $"the chart has {png.Length} bytes");
+        Assert.Equal(new byte[] { 0x89, 0x50, 0x4E, 0x47, 0x0D, 0x0A, 0x1A, 0x0A }, png[..8]); // the PNG signature (PNG specification §5.2)
+        Assert.Contains("alert transitions", result.Output, StringComparison.Ordinal);
+    }
+
+    private static void AssertNoStackTrace(ToolResult result)
+    {
+        Assert.DoesNotContain("   at ", result.Error, StringComparison.Ordinal);
+        Assert.DoesNotContain("Exception", result.Error, StringComparison.Ordinal);
+    }
+}
