@@ -41,5 +41,5 @@ internal static class Cli
     }
 
     private static void Error(string kind, string message) =>
-        Console.Error.WriteLine($"sftool: {kind} error: {message}");
+        Console.Error.WriteLine($"streamforecast-cli: {kind} error: {message}");
 }

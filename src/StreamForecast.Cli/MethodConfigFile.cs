@@ -6,13 +6,13 @@ namespace StreamForecast.Cli;
 
 /// <summary>
 /// The method-configuration file written by <c>tune</c> and read by <c>replay</c> and <c>chart</c> (<c>--config</c>): JSON,
-/// <c>{"format":"sftool-methods","version":1,"series":[{"key":"…","method":"ses:0.25",…}]}</c>. <c>method</c> uses the
+/// <c>{"format":"streamforecast-methods","version":1,"series":[{"key":"…","method":"ses:0.25",…}]}</c>. <c>method</c> uses the
 /// tool's method text (<see cref="MethodSpec"/>); the other series fields (label, score, metric, improvesOnDefault) are
 /// informational and ignored when read. Readers reject another format name or a version they do not know.
 /// </summary>
 internal sealed class MethodConfigFile
 {
-    public const string FormatName = "sftool-methods";
+    public const string FormatName = "streamforecast-methods";
     public const int CurrentVersion = 1;
 
     private static readonly JsonSerializerOptions s_json = new()

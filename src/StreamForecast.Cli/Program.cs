@@ -2,14 +2,14 @@ using System.CommandLine;
 using Spectre.Console;
 using StreamForecast.Cli;
 
-// sftool: StreamForecast from the command line. Commands: replay, tune, calibrate, chart.
+// streamforecast-cli: StreamForecast from the command line. Commands: replay, tune, calibrate, chart.
 if (Console.IsOutputRedirected)
 {
     AnsiConsole.Profile.Width = 200; // a pipe or a log has no width of its own
 }
 
 var common = new CommonOptions();
-var root = new RootCommand("sftool: replay, tune, calibrate and chart StreamForecast series from CSV files. Forecasts and alerts are advisory. " + ExitCodes.HelpText)
+var root = new RootCommand("streamforecast-cli: replay, tune, calibrate and chart StreamForecast series from CSV files. Forecasts and alerts are advisory. " + ExitCodes.HelpText)
 {
     ReplayCommand.Create(common),
     TuneCommand.Create(common),

@@ -4,12 +4,12 @@ using System.Text;
 
 namespace StreamForecast.Cli.Tests;
 
-/// <summary>Runs the built sftool executable (<c>dotnet sftool.dll ...</c>) in a temporary folder and captures its output.</summary>
+/// <summary>Runs the built streamforecast-cli executable (<c>dotnet streamforecast-cli.dll ...</c>) in a temporary folder and captures its output.</summary>
 public sealed class ToolRunner : IDisposable
 {
     public ToolRunner()
     {
-        Folder = Path.Combine(Path.GetTempPath(), "sftool-tests-" + Guid.NewGuid().ToString("N"));
+        Folder = Path.Combine(Path.GetTempPath(), "streamforecast-cli-tests-" + Guid.NewGuid().ToString("N"));
         Directory.CreateDirectory(Folder);
     }
 
@@ -20,12 +20,12 @@ public sealed class ToolRunner : IDisposable
     {
         get
         {
-            // tests/StreamForecast.Cli.Tests/bin/<Configuration>/net10.0/ → src/StreamForecast.Cli/bin/<Configuration>/net10.0/sftool.dll
+            // tests/StreamForecast.Cli.Tests/bin/<Configuration>/net10.0/ → src/StreamForecast.Cli/bin/<Configuration>/net10.0/streamforecast-cli.dll
             var testDir = new DirectoryInfo(AppContext.BaseDirectory.TrimEnd(Path.DirectorySeparatorChar));
             string framework = testDir.Name;
             string configuration = testDir.Parent!.Name;
             DirectoryInfo repo = testDir.Parent!.Parent!.Parent!.Parent!.Parent!;
-            string path = Path.Combine(repo.FullName, "src", "StreamForecast.Cli", "bin", configuration, framework, "sftool.dll");
+            string path = Path.Combine(repo.FullName, "src", "StreamForecast.Cli", "bin", configuration, framework, "streamforecast-cli.dll");
             Assert.True(File.Exists(path), $"the tool was not built at {path}");
             return path;
         }

@@ -3,8 +3,8 @@ using System.Text.Json;
 
 namespace StreamForecast.Cli.Tests;
 
-/// <summary>Runs the real sftool executable on small invented CSV files, including malformed ones.</summary>
-public sealed class SftoolTests : IDisposable
+/// <summary>Runs the real streamforecast-cli executable on small invented CSV files, including malformed ones.</summary>
+public sealed class CommandLineToolTests : IDisposable
 {
     private static readonly string[] s_keyColumns = ["--key", "shop", "item", "--time", "sold_at", "--quantity", "units"];
     private readonly ToolRunner _tool = new();
@@ -195,7 +195,7 @@ public sealed class SftoolTests : IDisposable
         ToolResult result = _tool.Run(Args("replay", "sales.csv", option, value));
 
         Assert.True(result.ExitCode == 1, result.ToString());
-        Assert.Contains("sftool: usage error", result.Error, StringComparison.Ordinal);
+        Assert.Contains("streamforecast-cli: usage error", result.Error, StringComparison.Ordinal);
         AssertNoStackTrace(result);
     }
 
@@ -218,7 +218,7 @@ public sealed class SftoolTests : IDisposable
         Assert.True(tune.ExitCode == 0, tune.ToString());
         Assert.Contains("Rank", tune.Output, StringComparison.Ordinal);
         using JsonDocument config = JsonDocument.Parse(File.ReadAllText(_tool.PathOf("methods.json")));
-        Assert.Equal("sftool-methods", config.RootElement.GetProperty("format").GetString());
+        Assert.Equal("streamforecast-methods", config.RootElement.GetProperty("format").GetString());
         Assert.Equal(1, config.RootElement.GetProperty("version").GetInt32());
         var labels = config.RootElement.GetProperty("series").EnumerateArray()
             .ToDictionary(s => s.GetProperty("key").GetString()!, s => s.GetProperty("label").GetString()!);
@@ -242,9 +242,9 @@ public sealed class SftoolTests : IDisposable
     }
 
     [Theory]
-    [InlineData("{\"format\":\"sftool-methods\",\"version\":2,\"series\":[]}", "version 2 is not supported")]
-    [InlineData("{\"format\":\"other\",\"version\":1,\"series\":[]}", "not a sftool-methods file")]
-    [InlineData("{\"format\":\"sftool-methods\",\"version\":1,\"series\":[{\"key\":\"e/bun\",\"method\":\"ma:0\"}]}", "series 'e/bun'")]
+    [InlineData("{\"format\":\"streamforecast-methods\",\"version\":2,\"series\":[]}", "version 2 is not supported")]
+    [InlineData("{\"format\":\"other\",\"version\":1,\"series\":[]}", "not a streamforecast-methods file")]
+    [InlineData("{\"format\":\"streamforecast-methods\",\"version\":1,\"series\":[{\"key\":\"e/bun\",\"method\":\"ma:0\"}]}", "series 'e/bun'")]
     [InlineData("not json", "not a valid configuration file")]
     public void Replay_BadConfigFile_ExitsOne(string content, string expected)
     {
