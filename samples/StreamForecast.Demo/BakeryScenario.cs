@@ -12,12 +12,16 @@ internal sealed record BakerySeries(string Bakery, string Item, double[] Daily)
 /// <summary>
 /// An invented scenario for the demo: "Crumb Lane", a chain of three neighbourhood bakeries, selling a few items
 /// over two years. Each series has a base level, a weekly pattern (busy Saturdays, quiet Mondays), a gentle trend and
-/// noise; one item is only sold now and then; one series shifts upward partway through (a new office opened next door).
+/// noise; one item is only sold now and then; one series shifts upward partway through (a new office opened next door);
+/// and one item has a week-long two-for-one promotion that lifts its sales, then lets them dip below normal for a few days.
 /// Deterministic for a given seed. All names and numbers are made up for the demo.
 /// </summary>
 internal static class BakeryScenario
 {
     public const int Days = 2 * 364;
+
+    /// <summary>The first day of the Mill Lane sourdough promotion (in the second year, so the replay shows it).</summary>
+    public const int PromotionStart = 560;
 
     // Monday .. Sunday multipliers.
     private static readonly double[] s_week = [0.80, 0.90, 0.95, 1.00, 1.15, 1.45, 0.75];
@@ -45,6 +49,18 @@ internal static class BakeryScenario
                     if (bakery == "Station Square" && item == "cinnamon bun" && d >= 500)
                     {
                         baseLevel *= 1.35; // the office next door opens: a sudden, lasting shift
+                    }
+
+                    if (bakery == "Mill Lane" && item == "sourdough loaf")
+                    {
+                        if (d is >= PromotionStart and < PromotionStart + 7)
+                        {
+                            baseLevel *= 1.8; // two-for-one week: sales, not demand, jump
+                        }
+                        else if (d is >= PromotionStart + 7 and < PromotionStart + 11)
+                        {
+                            baseLevel *= 0.75; // customers stocked up: a dip after the promotion
+                        }
                     }
 
                     double mean = baseLevel * s_week[d % 7];

@@ -21,8 +21,15 @@ internal static class EngineReplay
     private static readonly TimeZoneInfo s_zone = TimeZoneInfo.FindSystemTimeZoneById("Europe/Dublin");
     private static readonly DateOnly s_firstDay = new(2025, 1, 6); // a Monday
 
-    public static async Task<ReplayOutcome> RunAsync(IReadOnlyList<BakerySeries> series, IReadOnlyDictionary<string, ForecasterOptions> methods, int fromDay, TextWriter log, string chartKey)
+    /// <summary>
+    /// Replays every day through the engine, so each series' method and error statistics have a year of history
+    /// before the days that are shown; alerts and chart points are reported from <paramref name="showFromDay"/> on.
+    /// </summary>
+    public static async Task<ReplayOutcome> RunAsync(IReadOnlyList<BakerySeries> series, IReadOnlyDictionary<string, ForecasterOptions> methods, int showFromDay, TextWriter log, string chartKey)
     {
+        const int fromDay = 0;
+        DateTime shownLocal = s_firstDay.AddDays(showFromDay).ToDateTime(TimeOnly.MinValue);
+        var showFrom = new DateTimeOffset(shownLocal, s_zone.GetUtcOffset(shownLocal));
         var chartUpdates = new List<ForecastUpdate<string>>();
         var chartAlerts = new List<DriftAlert<string>>();
         List<Observation<string>> events = Events(series, fromDay);
@@ -34,9 +41,9 @@ internal static class EngineReplay
             var (engine, position) = await ForecastEngine.RestoreAsync(store, options, SnapshotKeyCodecs.Utf8String);
             int half = events.Count / 2;
             long alerts = 0;
-            using (engine.Alerts.Subscribe(new AlertPrinter(log, () => Interlocked.Increment(ref alerts))))
-            using (engine.Forecasts.Subscribe(new KeyRecorder<ForecastUpdate<string>>(u => u.Key == chartKey, chartUpdates)))
-            using (engine.Alerts.Subscribe(new KeyRecorder<DriftAlert<string>>(a => a.Key == chartKey, chartAlerts)))
+            using (engine.Alerts.Subscribe(new AlertPrinter(log, showFrom, () => Interlocked.Increment(ref alerts))))
+            using (engine.Forecasts.Subscribe(new KeyRecorder<ForecastUpdate<string>>(u => u.Key == chartKey && u.PeriodStart >= showFrom, chartUpdates)))
+            using (engine.Alerts.Subscribe(new KeyRecorder<DriftAlert<string>>(a => a.Key == chartKey && a.PeriodStart >= showFrom, chartAlerts)))
             {
                 for (int i = (int)position; i < half; i++)
                 {
@@ -52,10 +59,10 @@ internal static class EngineReplay
             log.WriteLine($"-- checkpoint saved at event {half:N0} of {events.Count:N0}; engine stopped and restored from it --");
             (engine, position) = await ForecastEngine.RestoreAsync(store, options, SnapshotKeyCodecs.Utf8String);
             var latest = new Dictionary<string, ForecastUpdate<string>>(StringComparer.Ordinal);
-            using (engine.Alerts.Subscribe(new AlertPrinter(log, () => Interlocked.Increment(ref alerts))))
+            using (engine.Alerts.Subscribe(new AlertPrinter(log, showFrom, () => Interlocked.Increment(ref alerts))))
             using (engine.Forecasts.Subscribe(new LatestForecast(latest)))
-            using (engine.Forecasts.Subscribe(new KeyRecorder<ForecastUpdate<string>>(u => u.Key == chartKey, chartUpdates)))
-            using (engine.Alerts.Subscribe(new KeyRecorder<DriftAlert<string>>(a => a.Key == chartKey, chartAlerts)))
+            using (engine.Forecasts.Subscribe(new KeyRecorder<ForecastUpdate<string>>(u => u.Key == chartKey && u.PeriodStart >= showFrom, chartUpdates)))
+            using (engine.Alerts.Subscribe(new KeyRecorder<DriftAlert<string>>(a => a.Key == chartKey && a.PeriodStart >= showFrom, chartAlerts)))
             {
                 for (int i = (int)position; i < events.Count; i++)
                 {
@@ -177,7 +184,7 @@ internal static class EngineReplay
 
     private static string F(double value) => double.IsFinite(value) ? value.ToString("0.0", CultureInfo.InvariantCulture) : "n/a";
 
-    private sealed class AlertPrinter(TextWriter log, Action counted) : IObserver<DriftAlert<string>>
+    private sealed class AlertPrinter(TextWriter log, DateTimeOffset showFrom, Action counted) : IObserver<DriftAlert<string>>
     {
         public void OnCompleted()
         {
@@ -187,6 +194,11 @@ internal static class EngineReplay
 
         public void OnNext(DriftAlert<string> alert)
         {
+            if (alert.PeriodStart < showFrom)
+            {
+                return; // the first year only warms the series up
+            }
+
             counted();
             DriftTransition t = alert.Transition;
             log.WriteLine(string.Create(CultureInfo.InvariantCulture,

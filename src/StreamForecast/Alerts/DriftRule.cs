@@ -22,8 +22,10 @@ namespace StreamForecast.Alerts;
 /// <item><description><b>Clear.</b> The episode closes when its own side's evidence has been at or below
 /// <see cref="DriftRuleOptions.ClearLevel"/> for <see cref="DriftRuleOptions.PeriodsToClear"/> consecutive periods. Only the
 /// episode's side counts: evidence for the other direction below the raise level does not keep it open.</description></item>
-/// <item><description><b>Reverse.</b> If the other side's evidence meets the raise rule while the episode is open, the episode closes
-/// with <see cref="DriftCloseReason.DirectionReversed"/>. Only one transition is returned per call, so the new episode in
+/// <item><description><b>Reverse.</b> If the other side's evidence meets the raise rule while the episode is open and is larger than
+/// the episode's own side (the tie-break used when raising), the episode closes with
+/// <see cref="DriftCloseReason.DirectionReversed"/>; while the own side is still the larger, the episode stays open, so two sides that
+/// are both beyond the limit (a CUSUM after a rise then a fall) cannot flap. Only one transition is returned per call, so the new episode in
 /// the other direction is raised on the next period that still meets the raise rule (one period later when the
 /// evidence persists).</description></item>
 /// </list>
@@ -65,6 +67,10 @@ public abstract class DriftRule
     private int _clearRun;
     private double _lastUnder;
     private double _lastOver;
+
+    // After a reversal, the direction the evidence turned to (±1), until an episode is raised or neither side qualifies:
+    // when both sides qualify, the new episode goes that way rather than flipping back on a small difference.
+    private int _reversedTo;
 
     private protected DriftRule(DriftRuleOptions options)
     {
@@ -176,7 +182,7 @@ public abstract class DriftRule
     }
 
     /// <summary>How many numbers <see cref="ExportState(Span{double})"/> writes; fixed by the rule kind.</summary>
-    public int StateLength => HeaderLength + CoreStateLength;
+    public int StateLength => HeaderLength + CoreStateLength + 1;
 
     /// <summary>Writes the full state into <paramref name="destination"/> as plain numbers.</summary>
     /// <param name="destination">At least <see cref="StateLength"/> numbers long.</param>
@@ -201,6 +207,7 @@ public abstract class DriftRule
         destination[9] = _lastUnder;
         destination[10] = _lastOver;
         ExportCore(destination.Slice(HeaderLength, CoreStateLength));
+        destination[HeaderLength + CoreStateLength] = _reversedTo;
     }
 
     /// <summary>Returns the full state as a new array of <see cref="StateLength"/> numbers.</summary>
@@ -238,7 +245,8 @@ public abstract class DriftRule
         _clearRun = (int)state[8];
         _lastUnder = state[9];
         _lastOver = state[10];
-        ImportCore(state[HeaderLength..]);
+        ImportCore(state.Slice(HeaderLength, CoreStateLength));
+        _reversedTo = (int)state[HeaderLength + CoreStateLength];
     }
 
     /// <summary>
@@ -284,10 +292,13 @@ public abstract class DriftRule
         bool over = _overRun >= o.PeriodsToRaise;
         if (!under && !over)
         {
+            _reversedTo = 0;
             return default;
         }
 
-        _direction = under && (!over || _lastUnder >= _lastOver) ? 1 : -1;
+        _direction = under && over && _reversedTo != 0 ? _reversedTo
+            : under && (!over || _lastUnder >= _lastOver) ? 1 : -1;
+        _reversedTo = 0;
         _episodeSequence++;
         _clearRun = 0;
         int escalationRun = _direction > 0 ? _underEscalationRun : _overEscalationRun;
@@ -299,11 +310,15 @@ public abstract class DriftRule
     {
         DriftRuleOptions o = _settings;
         int d = _direction;
-        if ((d > 0 ? _overRun : _underRun) >= o.PeriodsToRaise)
+        // Reverse only when the other side qualifies AND outweighs this one: the same rule that picks a side when both
+        // qualify at a raise. Otherwise two sides that both stay beyond the limit (a CUSUM after a rise and a fall: C⁺
+        // decays slowly while C⁻ builds) would close and re-raise an episode every period.
+        if ((d > 0 ? _overRun : _underRun) >= o.PeriodsToRaise && (d > 0 ? _lastOver > _lastUnder : _lastUnder > _lastOver))
         {
             double opposite = d > 0 ? _lastOver : _lastUnder;
             DriftTransition reversed = Make(DriftTransitionKind.Cleared, -d * opposite, -d * o.RaiseLevel, DriftCloseReason.DirectionReversed);
             CloseEpisode();
+            _reversedTo = -d;
             return reversed;
         }
 
@@ -364,6 +379,7 @@ public abstract class DriftRule
         _clearRun = 0;
         _lastUnder = 0;
         _lastOver = 0;
+        _reversedTo = 0;
         ResetCore();
     }
 
@@ -462,7 +478,13 @@ public abstract class DriftRule
             }
         }
 
-        return ValidateCore(state[HeaderLength..], lastUnder, lastOver, periods);
+        double reversedTo = state[HeaderLength + CoreStateLength];
+        if (reversedTo is not (-1 or 0 or 1) || (reversedTo != 0 && direction != 0))
+        {
+            return "the reversal marker must be −1, 0 or 1, and 0 while an episode is open";
+        }
+
+        return ValidateCore(state.Slice(HeaderLength, CoreStateLength), lastUnder, lastOver, periods);
     }
 
     private static bool IsWhole(double value, double max) => value >= 0 && value <= max && value == Math.Floor(value);

@@ -138,6 +138,7 @@ public abstract class CusumContractTests : DriftRuleContractTests
             var plain = PlainCusum(inputs, 0.5, h, ResetAfterAlarm);
             var rule = (CusumRule)o.CreateRule();
             int open = 0;
+            int reversedTo = 0;
             for (int t = 0; t < inputs.Length; t++)
             {
                 DriftTransition actual = rule.Evaluate(inputs[t]);
@@ -158,9 +159,19 @@ public abstract class CusumContractTests : DriftRuleContractTests
 
                 if (expectRaise)
                 {
-                    open = upAlarm && (!downAlarm || c.Upper >= c.Lower) ? 1 : -1;
+                    open = upAlarm && downAlarm && reversedTo != 0 ? reversedTo : upAlarm && (!downAlarm || c.Upper >= c.Lower) ? 1 : -1;
+                    reversedTo = 0;
                 }
-                else if (open != 0 && ((open > 0 && downAlarm) || (open < 0 && upAlarm) || (open > 0 ? c.Upper : c.Lower) == 0))
+                else if (open == 0 && !upAlarm && !downAlarm)
+                {
+                    reversedTo = 0;
+                }
+                else if (open != 0 && ((open > 0 && downAlarm && c.Lower > c.Upper) || (open < 0 && upAlarm && c.Upper > c.Lower)))
+                {
+                    reversedTo = -open; // reversed: a two-sided tie at the next raise goes the new way
+                    open = 0;
+                }
+                else if (open != 0 && (open > 0 ? c.Upper : c.Lower) == 0)
                 {
                     open = 0;
                 }
@@ -280,6 +291,58 @@ public sealed class CusumRuleTests : CusumContractTests
 
         Assert.Equal(1, raised);
         Assert.Equal(200.0, rule.UpperSum, 1e-9);
+    }
+
+    [Fact]
+    public void Evaluate_RiseThenFallWithBothSumsAboveH_DoesNotFlapBetweenEpisodes()
+    {
+        // A promotion lifts sales (z = +3 for 10 periods, C⁺ climbs to 25), then a dip follows (z = −3): C⁻ passes h while
+        // C⁺ is still far above it. The under-forecast episode stays open until C⁻ outweighs C⁺, then reverses once.
+        // Hand-computed from C⁺ = max(0, z − k + C⁺), C⁻ = max(0, −z − k + C⁻) with k = 0.5, h = 5 (Montgomery, from memory).
+        var rule = new CusumRuleOptions(warmUpPeriods: 0).CreateRule();
+        var kinds = new List<(int Period, DriftTransitionKind Kind, DriftDirection Direction)>();
+        double[] z = [.. Enumerable.Repeat(3.0, 10), .. Enumerable.Repeat(-3.0, 12), .. Enumerable.Repeat(0.0, 30)];
+        for (int t = 0; t < z.Length; t++)
+        {
+            DriftTransition tr = rule.Evaluate(DriftInput.FromError(z[t], 1.0));
+            if (!tr.IsNone)
+            {
+                kinds.Add((t, tr.Kind, tr.Direction));
+            }
+        }
+
+        // Raised (under) at t=1 (C⁺ = 5), escalated at t=3 (C⁺ = 10); C⁺ peaks at 25 (t=9) and falls by 3.5 a period;
+        // C⁻ reaches 5 at t=11 while C⁺ is still 18; C⁻ first exceeds C⁺ at t=14 (12.5 > 7.5): one reversal, and the
+        // over-forecast episode is raised at t=15.
+        Assert.Equal(1, kinds.Count(k => k.Kind == DriftTransitionKind.Raised && k.Direction == DriftDirection.UnderForecast));
+        Assert.Equal(1, kinds.Count(k => k.Kind == DriftTransitionKind.Raised && k.Direction == DriftDirection.OverForecast));
+        Assert.Equal(2, kinds.Count(k => k.Kind == DriftTransitionKind.Raised));
+        var reversal = Assert.Single(kinds, k => k.Kind == DriftTransitionKind.Cleared && k.Direction == DriftDirection.UnderForecast);
+        Assert.Equal(14, reversal.Period);
+        Assert.Contains((15, DriftTransitionKind.Raised, DriftDirection.OverForecast), kinds);
+    }
+
+    [Fact]
+    public void Evaluate_BothSumsAboveHAfterReversal_RaisesTheReversedDirectionWithoutFlippingBack()
+    {
+        // After the under-forecast episode is reversed, the two sums stay close and both above h while errors alternate:
+        // the next raise follows the reversal (over-forecast) even on a period where C⁺ edges ahead again, and it is not
+        // reversed back while C⁻ keeps the lead. (Plain CUSUM arithmetic, k = 0.5, h = 5.)
+        var rule = new CusumRuleOptions(warmUpPeriods: 0).CreateRule();
+        double[] z = [3, 3, 3, 3, -3, -3, -3, -3, -3, 2.6, -2.4, 2.6, -2.4];
+        var transitions = new List<DriftTransition>();
+        foreach (double e in z)
+        {
+            DriftTransition t = rule.Evaluate(DriftInput.FromError(e, 1.0));
+            if (!t.IsNone)
+            {
+                transitions.Add(t);
+            }
+        }
+
+        var raised = transitions.Where(t => t.Kind == DriftTransitionKind.Raised).Select(t => t.Direction).ToList();
+        Assert.Equal([DriftDirection.UnderForecast, DriftDirection.OverForecast], raised);
+        Assert.Single(transitions, t => t.Reason == DriftCloseReason.DirectionReversed);
     }
 
     [Fact]

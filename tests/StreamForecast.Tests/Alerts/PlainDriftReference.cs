@@ -20,6 +20,7 @@ public static class PlainDriftReference
     {
         var result = new DriftTransition[evidence.Length];
         int direction = 0; // +1 under-forecast, −1 over-forecast
+        int reversedTo = 0; // after a reversal, the side a two-sided tie goes to
         var severity = DriftSeverity.None;
         long episode = 0;
         int quiet = 0;
@@ -60,10 +61,13 @@ public static class PlainDriftReference
                 bool over = Held(-1, o.RaiseLevel);
                 if (!under && !over)
                 {
+                    reversedTo = 0;
                     continue;
                 }
 
-                direction = under && (!over || evidence[t].Under >= evidence[t].Over) ? +1 : -1;
+                direction = under && over && reversedTo != 0 ? reversedTo
+                    : under && (!over || evidence[t].Under >= evidence[t].Over) ? +1 : -1;
+                reversedTo = 0;
                 episode++;
                 quiet = 0;
                 severity = Held(direction, o.EscalationLevel) ? DriftSeverity.Critical : DriftSeverity.Warning;
@@ -71,9 +75,12 @@ public static class PlainDriftReference
                 continue;
             }
 
-            if (Held(-direction, o.RaiseLevel))
+            // A reversal needs the other side to qualify and to outweigh this side (the same rule that picks a side when
+            // both qualify at a raise), so two sides that both stay above the limit cannot flip the episode back and forth.
+            if (Held(-direction, o.RaiseLevel) && Side(t, -direction) > Side(t, direction))
             {
                 result[t] = Make(DriftTransitionKind.Cleared, -direction * Side(t, -direction), -direction * o.RaiseLevel, DriftCloseReason.DirectionReversed);
+                reversedTo = -direction;
                 direction = 0;
                 severity = DriftSeverity.None;
                 continue;
