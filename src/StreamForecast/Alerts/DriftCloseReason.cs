@@ -10,8 +10,8 @@ public enum DriftCloseReason
     SignalReturned = 1,
 
     /// <summary>
-    /// The signal reached the raise level on the opposite side for the required number of consecutive periods, and
-    /// outweighed the episode's own side, while the episode was open. A new episode in the new direction is raised on the next period that still meets the raise rule.
+    /// The signal reached the raise level on the opposite side for the required number of consecutive periods while the
+    /// episode was open and its own side had fallen below the raise level. A new episode in the new direction is raised on the next period that still meets the raise rule.
     /// </summary>
     DirectionReversed = 2,
 

@@ -22,10 +22,10 @@ namespace StreamForecast.Alerts;
 /// <item><description><b>Clear.</b> The episode closes when its own side's evidence has been at or below
 /// <see cref="DriftRuleOptions.ClearLevel"/> for <see cref="DriftRuleOptions.PeriodsToClear"/> consecutive periods. Only the
 /// episode's side counts: evidence for the other direction below the raise level does not keep it open.</description></item>
-/// <item><description><b>Reverse.</b> If the other side's evidence meets the raise rule while the episode is open and is larger than
-/// the episode's own side (the tie-break used when raising), the episode closes with
-/// <see cref="DriftCloseReason.DirectionReversed"/>; while the own side is still the larger, the episode stays open, so two sides that
-/// are both beyond the limit (a CUSUM after a rise then a fall) cannot flap. Only one transition is returned per call, so the new episode in
+/// <item><description><b>Reverse.</b> If the other side's evidence meets the raise rule while the episode is open and the episode's own
+/// evidence has fallen below the raise level, the episode closes with <see cref="DriftCloseReason.DirectionReversed"/>; while its
+/// own side is still beyond the raise level the episode stays open, so two sides that are both beyond the limit (a CUSUM after a
+/// rise then a fall) cannot flap. If both sides qualify at the next raise, it goes the way the evidence reversed to. Only one transition is returned per call, so the new episode in
 /// the other direction is raised on the next period that still meets the raise rule (one period later when the
 /// evidence persists).</description></item>
 /// </list>
@@ -310,10 +310,10 @@ public abstract class DriftRule
     {
         DriftRuleOptions o = _settings;
         int d = _direction;
-        // Reverse only when the other side qualifies AND outweighs this one: the same rule that picks a side when both
-        // qualify at a raise. Otherwise two sides that both stay beyond the limit (a CUSUM after a rise and a fall: C⁺
-        // decays slowly while C⁻ builds) would close and re-raise an episode every period.
-        if ((d > 0 ? _overRun : _underRun) >= o.PeriodsToRaise && (d > 0 ? _lastOver > _lastUnder : _lastUnder > _lastOver))
+        // Reverse only when the other side qualifies AND this side's own evidence has fallen below the raise level: while
+        // both sides stay beyond the limit (a CUSUM after a rise and a fall: C⁺ decays slowly while C⁻ builds, and which
+        // is larger can change every period) the episode stays as it is instead of closing and re-raising each period.
+        if ((d > 0 ? _overRun : _underRun) >= o.PeriodsToRaise && OwnEvidence() < o.RaiseThreshold)
         {
             double opposite = d > 0 ? _lastOver : _lastUnder;
             DriftTransition reversed = Make(DriftTransitionKind.Cleared, -d * opposite, -d * o.RaiseLevel, DriftCloseReason.DirectionReversed);

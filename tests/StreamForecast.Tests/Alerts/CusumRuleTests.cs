@@ -166,7 +166,7 @@ public abstract class CusumContractTests : DriftRuleContractTests
                 {
                     reversedTo = 0;
                 }
-                else if (open != 0 && ((open > 0 && downAlarm && c.Lower > c.Upper) || (open < 0 && upAlarm && c.Upper > c.Lower)))
+                else if (open != 0 && ((open > 0 && downAlarm && !upAlarm) || (open < 0 && upAlarm && !downAlarm)))
                 {
                     reversedTo = -open; // reversed: a two-sided tie at the next raise goes the new way
                     open = 0;
@@ -297,7 +297,7 @@ public sealed class CusumRuleTests : CusumContractTests
     public void Evaluate_RiseThenFallWithBothSumsAboveH_DoesNotFlapBetweenEpisodes()
     {
         // A promotion lifts sales (z = +3 for 10 periods, C⁺ climbs to 25), then a dip follows (z = −3): C⁻ passes h while
-        // C⁺ is still far above it. The under-forecast episode stays open until C⁻ outweighs C⁺, then reverses once.
+        // C⁺ is still far above it. The under-forecast episode stays open until C⁺ falls below h, then reverses once.
         // Hand-computed from C⁺ = max(0, z − k + C⁺), C⁻ = max(0, −z − k + C⁻) with k = 0.5, h = 5 (Montgomery, from memory).
         var rule = new CusumRuleOptions(warmUpPeriods: 0).CreateRule();
         var kinds = new List<(int Period, DriftTransitionKind Kind, DriftDirection Direction)>();
@@ -312,14 +312,14 @@ public sealed class CusumRuleTests : CusumContractTests
         }
 
         // Raised (under) at t=1 (C⁺ = 5), escalated at t=3 (C⁺ = 10); C⁺ peaks at 25 (t=9) and falls by 3.5 a period;
-        // C⁻ reaches 5 at t=11 while C⁺ is still 18; C⁻ first exceeds C⁺ at t=14 (12.5 > 7.5): one reversal, and the
-        // over-forecast episode is raised at t=15.
+        // C⁻ reaches 5 at t=11 while C⁺ is still 18; C⁺ first falls below h at t=15 (4 < 5, C⁻ = 15): one reversal, and
+        // the over-forecast episode is raised at t=16.
         Assert.Equal(1, kinds.Count(k => k.Kind == DriftTransitionKind.Raised && k.Direction == DriftDirection.UnderForecast));
         Assert.Equal(1, kinds.Count(k => k.Kind == DriftTransitionKind.Raised && k.Direction == DriftDirection.OverForecast));
         Assert.Equal(2, kinds.Count(k => k.Kind == DriftTransitionKind.Raised));
         var reversal = Assert.Single(kinds, k => k.Kind == DriftTransitionKind.Cleared && k.Direction == DriftDirection.UnderForecast);
-        Assert.Equal(14, reversal.Period);
-        Assert.Contains((15, DriftTransitionKind.Raised, DriftDirection.OverForecast), kinds);
+        Assert.Equal(15, reversal.Period);
+        Assert.Contains((16, DriftTransitionKind.Raised, DriftDirection.OverForecast), kinds);
     }
 
     [Fact]

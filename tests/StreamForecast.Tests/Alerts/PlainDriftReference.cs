@@ -75,9 +75,9 @@ public static class PlainDriftReference
                 continue;
             }
 
-            // A reversal needs the other side to qualify and to outweigh this side (the same rule that picks a side when
-            // both qualify at a raise), so two sides that both stay above the limit cannot flip the episode back and forth.
-            if (Held(-direction, o.RaiseLevel) && Side(t, -direction) > Side(t, direction))
+            // A reversal needs the other side to qualify and this side to have fallen below the raise level, so two sides
+            // that both stay above the limit cannot flip the episode back and forth.
+            if (Held(-direction, o.RaiseLevel) && !Reaches(Side(t, direction), o.RaiseLevel))
             {
                 result[t] = Make(DriftTransitionKind.Cleared, -direction * Side(t, -direction), -direction * o.RaiseLevel, DriftCloseReason.DirectionReversed);
                 reversedTo = -direction;
