@@ -23,6 +23,7 @@ public sealed class HostedForecastEngine<TKey>
     where TKey : notnull
 {
     private readonly TaskCompletionSource<ForecastEngine<TKey>> _started = new(TaskCreationOptions.RunContinuationsAsynchronously);
+    private ForecastEngine<TKey>? _engine;
     private long _posted;
     private EngineStart? _start;
     private CheckpointRecord? _lastCheckpoint;
@@ -33,9 +34,8 @@ public sealed class HostedForecastEngine<TKey>
 
     /// <summary>The running engine.</summary>
     /// <exception cref="InvalidOperationException">The host has not started the engine yet (see <see cref="WaitUntilStartedAsync"/>).</exception>
-    public ForecastEngine<TKey> Engine => _started.Task.IsCompletedSuccessfully
-        ? _started.Task.Result
-        : throw new InvalidOperationException("The forecast engine has not been started yet: it starts with the host (IHost.StartAsync); await WaitUntilStartedAsync first.");
+    public ForecastEngine<TKey> Engine => Volatile.Read(ref _engine)
+        ?? throw new InvalidOperationException("The forecast engine has not been started yet: it starts with the host (IHost.StartAsync); await WaitUntilStartedAsync first.");
 
     /// <summary>How the engine started: restored from which checkpoint, and the input position to replay from.</summary>
     /// <exception cref="InvalidOperationException">The host has not started the engine yet.</exception>
@@ -89,6 +89,7 @@ public sealed class HostedForecastEngine<TKey>
         Interlocked.Exchange(ref _posted, start.ReplayFrom);
         Volatile.Write(ref _start, start);
         Volatile.Write(ref _checkpoint, checkpoint);
+        Volatile.Write(ref _engine, engine);
         _started.TrySetResult(engine);
     }
 
