@@ -270,7 +270,7 @@ internal sealed class SeriesState<TKey>
 
         if (_restatable > 0)
         {
-            Retain(has, sum, output);
+            Retain(has, sum);
         }
 
         // Repeats of events in periods that can no longer change are late anyway: stop remembering their ids.
@@ -278,13 +278,13 @@ internal sealed class SeriesState<TKey>
         Apply(period, has, sum, ApplyMode.Live, output);
     }
 
-    private void Retain(bool has, double sum, ISeriesOutput<TKey> output)
+    private void Retain(bool has, double sum)
     {
         Debug.Assert(_closedSums is not null && _closedHas is not null && _lagModel is not null);
         if (_closedCount == _restatable)
         {
             // The oldest retained period leaves the horizon: move the lagged model past it, then shift.
-            ApplyToLag(_closedHas[0] == SlotHasData, _closedSums[0], output);
+            ApplyToLag(_closedHas[0] == SlotHasData, _closedSums[0]);
             Array.Copy(_closedSums, 1, _closedSums, 0, _restatable - 1);
             Array.Copy(_closedHas, 1, _closedHas, 0, _restatable - 1);
             _closedCount--;
@@ -323,7 +323,7 @@ internal sealed class SeriesState<TKey>
         }
     }
 
-    private void ApplyToLag(bool has, double sum, ISeriesOutput<TKey> output)
+    private void ApplyToLag(bool has, double sum)
     {
         Debug.Assert(_lagModel is not null);
         if (!ResolveActual(has, sum, ref _lagLastActual, ref _lagHasLastActual, out double actual, out bool scored))
@@ -346,8 +346,6 @@ internal sealed class SeriesState<TKey>
         {
             // Already reported when the live model rejected the same actual.
         }
-
-        _ = output;
     }
 
     /// <summary>Turns a period's raw input into the actual fed to the model under the gap policy; false when nothing is fed.</summary>
