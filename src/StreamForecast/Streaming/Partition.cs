@@ -1,4 +1,3 @@
-using System.Runtime.InteropServices;
 using System.Threading.Channels;
 
 namespace StreamForecast.Streaming;
@@ -7,16 +6,14 @@ namespace StreamForecast.Streaming;
 /// One owner loop: it alone reads its queue and touches its series, so per-series state needs no locks. Everything it
 /// produces is handed to the engine's publishers from this loop.
 /// </summary>
-internal sealed class Partition<TKey> : ISeriesOutput<TKey>
+internal sealed class Partition<TKey> : ISeriesHost<TKey>
     where TKey : notnull
 {
     private readonly ForecastEngine<TKey> _engine;
     private readonly Channel<Message> _queue;
-    private readonly Dictionary<TKey, SeriesState<TKey>> _series;
+    private readonly SeriesTable<TKey> _table;
     private readonly Queue<ForecastUpdate<TKey>> _pendingForecasts = new();
     private readonly Queue<DriftAlert<TKey>> _pendingAlerts = new();
-    private readonly List<TKey> _evict = [];
-    private int _idleSeries;
 
     public Partition(ForecastEngine<TKey> engine, int index)
     {
@@ -28,7 +25,7 @@ internal sealed class Partition<TKey> : ISeriesOutput<TKey>
             SingleWriter = false,
             FullMode = BoundedChannelFullMode.Wait,
         });
-        _series = new Dictionary<TKey, SeriesState<TKey>>(engine.Options.KeyComparer);
+        _table = new SeriesTable<TKey>(engine.Options.KeyComparer, this);
     }
 
     public int Index { get; }
@@ -39,27 +36,36 @@ internal sealed class Partition<TKey> : ISeriesOutput<TKey>
 
     public int QueueDepth => _queue.Reader.Count;
 
-    public int SeriesCount => Volatile.Read(ref _seriesCount);
+    public int SeriesCount => _table.Count;
 
-    private int _seriesCount;
+    int? ISeriesHost<TKey>.EvictAfterQuietPeriods => _engine.Options.EvictAfterQuietPeriods;
+
+    TimeProvider ISeriesHost<TKey>.TimeProvider => _engine.Options.TimeProvider;
 
     public void Start() => Loop = Task.Run(RunAsync);
 
-    public void Adopt(SeriesState<TKey> state)
-    {
-        _series.Add(state.Key, state);
-        _seriesCount = _series.Count;
-        if (state.Options.IdleTimeout is not null)
-        {
-            _idleSeries++;
-        }
-    }
+    public void Adopt(SeriesState<TKey> state) => _table.Adopt(state);
 
     public bool TryWrite(in Message message) => _queue.Writer.TryWrite(message);
 
     public ValueTask WriteAsync(Message message, CancellationToken cancellationToken) => _queue.Writer.WriteAsync(message, cancellationToken);
 
     public void CompleteQueue() => _queue.Writer.TryComplete();
+
+    SeriesOptions ISeriesHost<TKey>.Resolve(TKey key) => _engine.Options.Resolve(key);
+
+    bool ISeriesHost<TKey>.TryReserveSeries() => _engine.TryReserveSeries();
+
+    void ISeriesHost<TKey>.ReleaseSeries() => _engine.ReleaseSeries();
+
+    void ISeriesHost<TKey>.Rejected(TKey key, string? reason)
+    {
+        _engine.CountRejected();
+        if (reason is not null)
+        {
+            _engine.PublishFault(new SeriesFault<TKey>(key, 0, SeriesFaultKind.ObservationRejected, reason));
+        }
+    }
 
     void ISeriesOutput<TKey>.Forecast(in ForecastUpdate<TKey> update)
     {
@@ -116,45 +122,22 @@ internal sealed class Partition<TKey> : ISeriesOutput<TKey>
             switch (message.Kind)
             {
                 case MessageKind.Observation:
-                    Observe(message.Observation, message.Arrival);
+                    _table.Observe(message.Observation, message.Arrival);
                     break;
                 case MessageKind.Advance:
-                    long watermark = message.Time.UtcTicks;
-                    foreach (SeriesState<TKey> s in _series.Values)
-                    {
-                        s.CloseThrough(watermark, this);
-                    }
-
-                    EvictQuiet();
+                    _table.Advance(message.Time.UtcTicks);
                     break;
                 case MessageKind.Flush:
-                    foreach (SeriesState<TKey> s in _series.Values)
-                    {
-                        s.CloseAll(this);
-                    }
-
-                    EvictQuiet();
+                    _table.Flush();
                     break;
                 case MessageKind.IdleCheck:
-                    if (_idleSeries > 0)
-                    {
-                        foreach (SeriesState<TKey> s in _series.Values)
-                        {
-                            s.Idle(message.Arrival, _engine.Options.TimeProvider, this);
-                        }
-                    }
-
-                    EvictQuiet();
+                    _table.IdleCheck(message.Arrival);
                     break;
                 case MessageKind.Acknowledge:
-                    if (_series.TryGetValue(message.Observation.Key, out SeriesState<TKey>? series))
-                    {
-                        series.Acknowledge(this);
-                    }
-
+                    _table.Acknowledge(message.Observation.Key);
                     break;
                 case MessageKind.Snapshot:
-                    message.Snapshot!.Write(_series.Values);
+                    message.Snapshot!.Write(_table.Series);
                     break;
                 case MessageKind.Barrier:
                     break;
@@ -172,80 +155,6 @@ internal sealed class Partition<TKey> : ISeriesOutput<TKey>
             _engine.CountRejected();
             _engine.PublishFault(new SeriesFault<TKey>(message.Observation.Key, 0, SeriesFaultKind.InternalError, ex.ToString()));
         }
-    }
-
-    private void Observe(in Observation<TKey> observation, long arrival)
-    {
-        ref SeriesState<TKey>? slot = ref CollectionsMarshal.GetValueRefOrAddDefault(_series, observation.Key, out bool exists);
-        if (!exists)
-        {
-            SeriesOptions options;
-            try
-            {
-                options = _engine.Options.Resolve(observation.Key);
-            }
-            catch (Exception ex) when (ex is not OutOfMemoryException)
-            {
-                _series.Remove(observation.Key);
-                _engine.CountRejected();
-                _engine.PublishFault(new SeriesFault<TKey>(observation.Key, 0, SeriesFaultKind.ObservationRejected, "The series options could not be resolved: " + ex.Message));
-                return;
-            }
-
-            if (!_engine.TryReserveSeries())
-            {
-                _series.Remove(observation.Key);
-                _engine.CountRejected();
-                return;
-            }
-
-            slot = new SeriesState<TKey>(observation.Key, options, arrival);
-            _seriesCount = _series.Count;
-            if (options.IdleTimeout is not null)
-            {
-                _idleSeries++;
-            }
-        }
-
-        SeriesState<TKey> state = slot!;
-        if (!state.Options.Calendar.TryPeriodOf(observation.Timestamp, out long period))
-        {
-            _engine.CountRejected();
-            _engine.PublishFault(new SeriesFault<TKey>(observation.Key, 0, SeriesFaultKind.ObservationRejected, "The event time is outside the range the series' calendar supports."));
-            return;
-        }
-
-        state.Observe(observation.Timestamp, period, observation.Quantity, observation.EventId, arrival, this);
-    }
-
-    private void EvictQuiet()
-    {
-        if (_engine.Options.EvictAfterQuietPeriods is not { } quiet)
-        {
-            return;
-        }
-
-        foreach (SeriesState<TKey> s in _series.Values)
-        {
-            if (s.QuietPeriods >= quiet)
-            {
-                _evict.Add(s.Key);
-            }
-        }
-
-        foreach (TKey key in _evict)
-        {
-            if (_series.Remove(key, out SeriesState<TKey>? removed) && removed.Options.IdleTimeout is not null)
-            {
-                _idleSeries--;
-            }
-
-            Counters.Evictions++;
-            _engine.ReleaseSeries();
-        }
-
-        _evict.Clear();
-        _seriesCount = _series.Count;
     }
 
     /// <summary>One queue item: an observation, or a command ordered with the observations.</summary>

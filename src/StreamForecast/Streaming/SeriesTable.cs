@@ -1,0 +1,187 @@
+using System.Runtime.InteropServices;
+
+namespace StreamForecast.Streaming;
+
+/// <summary>
+/// What an owner of a <see cref="SeriesTable{TKey}"/> provides: where output goes, how a new key's options are
+/// resolved, and the shared limits and counters. Implemented by the engine's partitions and by any other host of the
+/// same per-series state (a grain in a cluster), so the rules for creating, routing, closing and evicting series exist once.
+/// </summary>
+internal interface ISeriesHost<TKey> : ISeriesOutput<TKey>
+{
+    /// <summary>The series options for a key seen for the first time; may throw (reported as a rejected observation).</summary>
+    SeriesOptions Resolve(TKey key);
+
+    /// <summary>Takes one slot of the series limit; <see langword="false"/> when the limit is reached.</summary>
+    bool TryReserveSeries();
+
+    /// <summary>Gives back a slot taken by <see cref="TryReserveSeries"/> (a series was evicted).</summary>
+    void ReleaseSeries();
+
+    /// <summary>An observation was rejected inside the owner: count it and, when <paramref name="reason"/> is not null, report it.</summary>
+    void Rejected(TKey key, string? reason);
+
+    /// <summary>Evict a series after this many consecutive quiet periods; <see langword="null"/> never evicts.</summary>
+    int? EvictAfterQuietPeriods { get; }
+
+    /// <summary>The clock idle timeouts are measured on.</summary>
+    TimeProvider TimeProvider { get; }
+}
+
+/// <summary>
+/// The series held by one single-writer owner, and the routing of observations and commands to them. Not thread-safe:
+/// exactly one owner (a partition loop, a grain turn) calls it at a time.
+/// </summary>
+internal sealed class SeriesTable<TKey>
+    where TKey : notnull
+{
+    private readonly Dictionary<TKey, SeriesState<TKey>> _series;
+    private readonly ISeriesHost<TKey> _host;
+    private readonly List<TKey> _evict = [];
+    private int _idleSeries;
+    private int _count;
+
+    public SeriesTable(IEqualityComparer<TKey> comparer, ISeriesHost<TKey> host)
+    {
+        _series = new Dictionary<TKey, SeriesState<TKey>>(comparer);
+        _host = host;
+    }
+
+    /// <summary>How many series are held; safe to read from other threads (a relaxed read).</summary>
+    public int Count => Volatile.Read(ref _count);
+
+    /// <summary>The series held, in no particular order (for snapshots).</summary>
+    public Dictionary<TKey, SeriesState<TKey>>.ValueCollection Series => _series.Values;
+
+    /// <summary>Looks a series up.</summary>
+    public bool TryGet(TKey key, [System.Diagnostics.CodeAnalysis.MaybeNullWhen(false)] out SeriesState<TKey> state) => _series.TryGetValue(key, out state);
+
+    /// <summary>Takes over a series restored from a snapshot (its slot of the series limit is already counted by the caller).</summary>
+    public void Adopt(SeriesState<TKey> state)
+    {
+        _series.Add(state.Key, state);
+        _count = _series.Count;
+        if (state.Options.IdleTimeout is not null)
+        {
+            _idleSeries++;
+        }
+    }
+
+    /// <summary>Routes one validated observation (finite quantity) to its series, creating the series on first sight.</summary>
+    public void Observe(in Observation<TKey> observation, long arrival)
+    {
+        ref SeriesState<TKey>? slot = ref CollectionsMarshal.GetValueRefOrAddDefault(_series, observation.Key, out bool exists);
+        if (!exists)
+        {
+            SeriesOptions options;
+            try
+            {
+                options = _host.Resolve(observation.Key);
+            }
+            catch (Exception ex) when (ex is not OutOfMemoryException)
+            {
+                _series.Remove(observation.Key);
+                _host.Rejected(observation.Key, "The series options could not be resolved: " + ex.Message);
+                return;
+            }
+
+            if (!_host.TryReserveSeries())
+            {
+                _series.Remove(observation.Key);
+                _host.Rejected(observation.Key, null);
+                return;
+            }
+
+            slot = new SeriesState<TKey>(observation.Key, options, arrival);
+            _count = _series.Count;
+            if (options.IdleTimeout is not null)
+            {
+                _idleSeries++;
+            }
+        }
+
+        SeriesState<TKey> state = slot!;
+        if (!state.Options.Calendar.TryPeriodOf(observation.Timestamp, out long period))
+        {
+            _host.Rejected(observation.Key, "The event time is outside the range the series' calendar supports.");
+            return;
+        }
+
+        state.Observe(observation.Timestamp, period, observation.Quantity, observation.EventId, arrival, _host);
+    }
+
+    /// <summary>Closes, in every series, each period that ends at or before the watermark; then evicts quiet series.</summary>
+    public void Advance(long watermarkTicks)
+    {
+        foreach (SeriesState<TKey> s in _series.Values)
+        {
+            s.CloseThrough(watermarkTicks, _host);
+        }
+
+        EvictQuiet();
+    }
+
+    /// <summary>Closes every open period of every series; then evicts quiet series.</summary>
+    public void Flush()
+    {
+        foreach (SeriesState<TKey> s in _series.Values)
+        {
+            s.CloseAll(_host);
+        }
+
+        EvictQuiet();
+    }
+
+    /// <summary>Closes the periods of series idle past their timeout (only when some series has one); then evicts quiet series.</summary>
+    public void IdleCheck(long nowTimestamp)
+    {
+        if (_idleSeries > 0)
+        {
+            foreach (SeriesState<TKey> s in _series.Values)
+            {
+                s.Idle(nowTimestamp, _host.TimeProvider, _host);
+            }
+        }
+
+        EvictQuiet();
+    }
+
+    /// <summary>Acknowledges the drift of one series; nothing happens for an unknown key.</summary>
+    public void Acknowledge(TKey key)
+    {
+        if (_series.TryGetValue(key, out SeriesState<TKey>? series))
+        {
+            series.Acknowledge(_host);
+        }
+    }
+
+    private void EvictQuiet()
+    {
+        if (_host.EvictAfterQuietPeriods is not { } quiet)
+        {
+            return;
+        }
+
+        foreach (SeriesState<TKey> s in _series.Values)
+        {
+            if (s.QuietPeriods >= quiet)
+            {
+                _evict.Add(s.Key);
+            }
+        }
+
+        foreach (TKey key in _evict)
+        {
+            if (_series.Remove(key, out SeriesState<TKey>? removed) && removed.Options.IdleTimeout is not null)
+            {
+                _idleSeries--;
+            }
+
+            _host.Counters.Evictions++;
+            _host.ReleaseSeries();
+        }
+
+        _evict.Clear();
+        _count = _series.Count;
+    }
+}
