@@ -31,7 +31,7 @@ namespace StreamForecast.Streaming;
 /// when no post runs concurrently with it.</para>
 /// <para>Forecasts and alerts are advisory and need a person's judgement before stock or staff are changed.</para>
 /// </remarks>
-public sealed class ForecastEngine<TKey> : IAsyncDisposable
+public sealed class ForecastEngine<TKey> : IForecastEngine<TKey>
     where TKey : notnull
 {
     private readonly Partition<TKey>[] _partitions;

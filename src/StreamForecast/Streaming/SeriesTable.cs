@@ -50,6 +50,9 @@ internal sealed class SeriesTable<TKey>
     /// <summary>How many series are held; safe to read from other threads (a relaxed read).</summary>
     public int Count => Volatile.Read(ref _count);
 
+    /// <summary>Whether some series has an idle timeout (so <see cref="IdleCheck"/> has work to do).</summary>
+    public bool HasIdleSeries => _idleSeries > 0;
+
     /// <summary>The series held, in no particular order (for snapshots).</summary>
     public Dictionary<TKey, SeriesState<TKey>>.ValueCollection Series => _series.Values;
 

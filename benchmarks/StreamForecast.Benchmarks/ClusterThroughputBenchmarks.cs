@@ -1,0 +1,124 @@
+using BenchmarkDotNet.Attributes;
+using Orleans.TestingHost;
+using StreamForecast.Orleans;
+using StreamForecast.Streaming;
+
+namespace StreamForecast.Benchmarks;
+
+/// <summary>
+/// Throughput of the Orleans scale-out on this machine against the single-process engine (the baseline), on the same
+/// input: 1,000 string keys, one reading per key per hour, four hours per invocation posted in batches of 1,000 and then
+/// flushed, so an invocation ends when every reading has been applied (and, in the cluster, stored). The cluster is the
+/// in-process test cluster of the tests: 3 silos on loopback, 24 buckets, grain state in one shared SQLite file.
+/// Each invocation continues the event time of the last one, so the series' state does not grow between iterations.
+/// </summary>
+[MemoryDiagnoser]
+public class ClusterThroughputBenchmarks
+{
+    private const int Keys = 1_000;
+    private const int HoursPerInvoke = 4;
+    private const int Ops = Keys * HoursPerInvoke;
+    private const int Batch = 1_000;
+    private static readonly DateTimeOffset s_t0 = new(2025, 1, 6, 0, 0, 0, TimeSpan.Zero);
+    private static readonly ForecastClusterOptions s_cluster = new(bucketCount: 24);
+
+    private string[] _keys = [];
+    private int _round;
+    private ForecastEngine<string>? _engine;
+    private InProcessTestCluster? _silos;
+    private ForecastClusterClient<string>? _client;
+    private string _directory = "";
+
+    /// <summary>Setup for the single-process engine (2 partitions, as on this 2-core machine).</summary>
+    [GlobalSetup(Target = nameof(SingleProcessEngine))]
+    public void SetupEngine()
+    {
+        Common();
+        _engine = new ForecastEngine<string>(Options());
+        for (int i = 0; i < 3; i++)
+        {
+            SingleProcessEngine();
+        }
+    }
+
+    /// <summary>Setup for the cluster: 3 silos, shared SQLite storage, one connected client.</summary>
+    [GlobalSetup(Target = nameof(ThreeSiloCluster))]
+    public void SetupCluster()
+    {
+        Common();
+        _directory = Path.Combine(Path.GetTempPath(), "sf-bench-cluster-" + Guid.NewGuid().ToString("N"));
+        Directory.CreateDirectory(_directory);
+        string path = Path.Combine(_directory, "buckets.db");
+        var builder = new InProcessTestClusterBuilder(3);
+        builder.ConfigureSilo((_, silo) => silo
+            .AddForecastBuckets(Options(), SnapshotKeyCodecs.Utf8String, s_cluster)
+            .AddSqliteCheckpointGrainStorage(path));
+        _silos = builder.Build();
+        _silos.DeployAsync().GetAwaiter().GetResult();
+        _client = ForecastCluster.ConnectAsync(_silos.Client, s_cluster, SnapshotKeyCodecs.Utf8String).GetAwaiter().GetResult();
+        for (int i = 0; i < 3; i++)
+        {
+            ThreeSiloCluster();
+        }
+    }
+
+    /// <summary>Stops what the setup started.</summary>
+    [GlobalCleanup]
+    public void Cleanup()
+    {
+        _engine?.DisposeAsync().AsTask().GetAwaiter().GetResult();
+        _client?.DisposeAsync().AsTask().GetAwaiter().GetResult();
+        _silos?.DisposeAsync().AsTask().GetAwaiter().GetResult();
+        if (_directory.Length > 0)
+        {
+            Microsoft.Data.Sqlite.SqliteConnection.ClearAllPools();
+            Directory.Delete(_directory, recursive: true);
+        }
+    }
+
+    /// <summary>The baseline: post and flush through the in-process engine.</summary>
+    [Benchmark(Baseline = true, OperationsPerInvoke = Ops)]
+    public void SingleProcessEngine() => RunAsync(_engine!).GetAwaiter().GetResult();
+
+    /// <summary>Post and flush through the cluster client: applied and stored by the bucket grains.</summary>
+    [Benchmark(OperationsPerInvoke = Ops)]
+    public void ThreeSiloCluster() => RunAsync(_client!).GetAwaiter().GetResult();
+
+    private static ForecastEngineOptions<string> Options() => new(
+        new SeriesOptions(new StreamForecast.Forecasting.MovingAverageOptions(12), StreamForecast.Periods.PeriodCalendar.FixedInterval(TimeSpan.FromHours(1)),
+            rules: [new StreamForecast.Alerts.TrackingSignalRuleOptions()]),
+        partitions: 2,
+        maxEventTimeAhead: Timeout.InfiniteTimeSpan);
+
+    private void Common()
+    {
+        _keys = new string[Keys];
+        for (int i = 0; i < Keys; i++)
+        {
+            _keys[i] = $"site-{i % 40}/sensor-{i}";
+        }
+    }
+
+    private async Task RunAsync(IForecastEngine<string> target)
+    {
+        // The same code drives both hosts: only the IForecastEngine behind it differs.
+        var batch = new Observation<string>[Batch];
+        int filled = 0;
+        for (int h = 0; h < HoursPerInvoke; h++)
+        {
+            DateTimeOffset hour = s_t0.AddHours((_round * HoursPerInvoke) + h);
+            for (int k = 0; k < Keys; k++)
+            {
+                batch[filled++] = new Observation<string>(_keys[k], hour.AddMinutes(k % 60), 10 + (k % 17) + ((h + k) % 5));
+                if (filled == Batch)
+                {
+                    await target.PostBatchAsync(batch).ConfigureAwait(false);
+                    filled = 0;
+                }
+            }
+        }
+
+        await target.FlushAsync().ConfigureAwait(false);
+        _round++;
+    }
+}

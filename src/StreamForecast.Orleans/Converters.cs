@@ -1,0 +1,394 @@
+using StreamForecast.Alerts;
+using StreamForecast.Streaming;
+
+namespace StreamForecast.Orleans;
+
+// Orleans serializes the engine's own payload types through these surrogates, so observations, forecast updates,
+// drift alerts and faults cross the cluster as the very types the in-process engine publishes. The core library
+// stays free of Orleans attributes. Field ids are the wire contract: never renumber, only append. Enums travel as
+// their numeric values (the enums belong to the core assembly, which Orleans does not generate code for).
+
+/// <summary>Wire form of <see cref="Observation{TKey}"/>.</summary>
+/// <typeparam name="TKey">The series key type; Orleans must be able to serialize it.</typeparam>
+[GenerateSerializer]
+internal struct ObservationSurrogate<TKey>
+{
+    /// <summary>The series key.</summary>
+    [Id(0)] public TKey Key;
+
+    /// <summary>The event time.</summary>
+    [Id(1)] public DateTimeOffset Timestamp;
+
+    /// <summary>The quantity.</summary>
+    [Id(2)] public double Quantity;
+
+    /// <summary>The optional event id.</summary>
+    [Id(3)] public string? EventId;
+}
+
+/// <summary>Converts <see cref="Observation{TKey}"/> to and from its wire form.</summary>
+/// <typeparam name="TKey">The series key type.</typeparam>
+[RegisterConverter]
+internal sealed class ObservationConverter<TKey> : IConverter<Observation<TKey>, ObservationSurrogate<TKey>>
+{
+    /// <inheritdoc/>
+    public Observation<TKey> ConvertFromSurrogate(in ObservationSurrogate<TKey> surrogate) =>
+        new(surrogate.Key, surrogate.Timestamp, surrogate.Quantity, surrogate.EventId);
+
+    /// <inheritdoc/>
+    public ObservationSurrogate<TKey> ConvertToSurrogate(in Observation<TKey> value) =>
+        new() { Key = value.Key, Timestamp = value.Timestamp, Quantity = value.Quantity, EventId = value.EventId };
+}
+
+/// <summary>Wire form of <see cref="ForecastPoint"/>.</summary>
+[GenerateSerializer]
+internal struct ForecastPointSurrogate
+{
+    /// <summary>The horizon.</summary>
+    [Id(0)] public int Horizon;
+
+    /// <summary>The point forecast.</summary>
+    [Id(1)] public double Value;
+
+    /// <summary>The interval's lower end.</summary>
+    [Id(2)] public double Lower;
+
+    /// <summary>The interval's upper end.</summary>
+    [Id(3)] public double Upper;
+}
+
+/// <summary>Converts <see cref="ForecastPoint"/> to and from its wire form.</summary>
+[RegisterConverter]
+internal sealed class ForecastPointConverter : IConverter<ForecastPoint, ForecastPointSurrogate>
+{
+    /// <inheritdoc/>
+    public ForecastPoint ConvertFromSurrogate(in ForecastPointSurrogate surrogate) =>
+        new(surrogate.Horizon, surrogate.Value, surrogate.Lower, surrogate.Upper);
+
+    /// <inheritdoc/>
+    public ForecastPointSurrogate ConvertToSurrogate(in ForecastPoint value) =>
+        new() { Horizon = value.Horizon, Value = value.Value, Lower = value.Lower, Upper = value.Upper };
+}
+
+/// <summary>Wire form of <see cref="ErrorSummary"/>.</summary>
+[GenerateSerializer]
+internal struct ErrorSummarySurrogate
+{
+    /// <summary>Scored periods.</summary>
+    [Id(0)] public long ScoredPeriods;
+
+    /// <summary>RSFE.</summary>
+    [Id(1)] public double Rsfe;
+
+    /// <summary>MAD.</summary>
+    [Id(2)] public double Mad;
+
+    /// <summary>Smoothed MAD.</summary>
+    [Id(3)] public double SmoothedMad;
+
+    /// <summary>MSE.</summary>
+    [Id(4)] public double Mse;
+
+    /// <summary>Bias.</summary>
+    [Id(5)] public double Bias;
+
+    /// <summary>MAPE.</summary>
+    [Id(6)] public double Mape;
+
+    /// <summary>MASE.</summary>
+    [Id(7)] public double Mase;
+
+    /// <summary>Tracking signal.</summary>
+    [Id(8)] public double TrackingSignal;
+
+    /// <summary>Trigg's signal.</summary>
+    [Id(9)] public double TriggSignal;
+
+    /// <summary>σ.</summary>
+    [Id(10)] public double Sigma;
+}
+
+/// <summary>Converts <see cref="ErrorSummary"/> to and from its wire form.</summary>
+[RegisterConverter]
+internal sealed class ErrorSummaryConverter : IConverter<ErrorSummary, ErrorSummarySurrogate>
+{
+    /// <inheritdoc/>
+    public ErrorSummary ConvertFromSurrogate(in ErrorSummarySurrogate s) =>
+        new(s.ScoredPeriods, s.Rsfe, s.Mad, s.SmoothedMad, s.Mse, s.Bias, s.Mape, s.Mase, s.TrackingSignal, s.TriggSignal, s.Sigma);
+
+    /// <inheritdoc/>
+    public ErrorSummarySurrogate ConvertToSurrogate(in ErrorSummary v) => new()
+    {
+        ScoredPeriods = v.ScoredPeriods, Rsfe = v.Rsfe, Mad = v.Mad, SmoothedMad = v.SmoothedMad, Mse = v.Mse, Bias = v.Bias,
+        Mape = v.Mape, Mase = v.Mase, TrackingSignal = v.TrackingSignal, TriggSignal = v.TriggSignal, Sigma = v.Sigma,
+    };
+}
+
+/// <summary>Wire form of <see cref="ForecastUpdate{TKey}"/>.</summary>
+/// <typeparam name="TKey">The series key type.</typeparam>
+[GenerateSerializer]
+internal struct ForecastUpdateSurrogate<TKey>
+{
+    /// <summary>The series key.</summary>
+    [Id(0)] public TKey Key;
+
+    /// <summary>The closed period.</summary>
+    [Id(1)] public long Period;
+
+    /// <summary>Where the period starts.</summary>
+    [Id(2)] public DateTimeOffset PeriodStart;
+
+    /// <summary>The actual.</summary>
+    [Id(3)] public double Actual;
+
+    /// <summary>Whether the actual was imputed.</summary>
+    [Id(4)] public bool IsImputed;
+
+    /// <summary>The forecast made for the period.</summary>
+    [Id(5)] public double ForecastForPeriod;
+
+    /// <summary>The error.</summary>
+    [Id(6)] public double Error;
+
+    /// <summary>The next-period forecast.</summary>
+    [Id(7)] public ForecastPoint Next;
+
+    /// <summary>The forecast at the series' horizon.</summary>
+    [Id(8)] public ForecastPoint AtHorizon;
+
+    /// <summary>The error statistics.</summary>
+    [Id(9)] public ErrorSummary Errors;
+
+    /// <summary>The method's name.</summary>
+    [Id(10)] public string Method;
+
+    /// <summary>Whether this restates an earlier update.</summary>
+    [Id(11)] public bool IsRestatement;
+}
+
+/// <summary>Converts <see cref="ForecastUpdate{TKey}"/> to and from its wire form.</summary>
+/// <typeparam name="TKey">The series key type.</typeparam>
+[RegisterConverter]
+internal sealed class ForecastUpdateConverter<TKey> : IConverter<ForecastUpdate<TKey>, ForecastUpdateSurrogate<TKey>>
+{
+    /// <inheritdoc/>
+    public ForecastUpdate<TKey> ConvertFromSurrogate(in ForecastUpdateSurrogate<TKey> s) =>
+        new(s.Key, s.Period, s.PeriodStart, s.Actual, s.IsImputed, s.ForecastForPeriod, s.Error, s.Next, s.AtHorizon, s.Errors, s.Method, s.IsRestatement);
+
+    /// <inheritdoc/>
+    public ForecastUpdateSurrogate<TKey> ConvertToSurrogate(in ForecastUpdate<TKey> v) => new()
+    {
+        Key = v.Key, Period = v.Period, PeriodStart = v.PeriodStart, Actual = v.Actual, IsImputed = v.IsImputed,
+        ForecastForPeriod = v.ForecastForPeriod, Error = v.Error, Next = v.Next, AtHorizon = v.AtHorizon, Errors = v.Errors,
+        Method = v.Method, IsRestatement = v.IsRestatement,
+    };
+}
+
+/// <summary>Wire form of <see cref="DriftTransition"/>.</summary>
+[GenerateSerializer]
+internal struct DriftTransitionSurrogate
+{
+    /// <summary>Raised, escalated or cleared.</summary>
+    [Id(0)] public int Kind;
+
+    /// <summary>The rule's kind.</summary>
+    [Id(1)] public int Rule;
+
+    /// <summary>The episode id.</summary>
+    [Id(2)] public long EpisodeId;
+
+    /// <summary>The direction.</summary>
+    [Id(3)] public int Direction;
+
+    /// <summary>The severity.</summary>
+    [Id(4)] public int Severity;
+
+    /// <summary>The signal's value.</summary>
+    [Id(5)] public double Signal;
+
+    /// <summary>The level crossed.</summary>
+    [Id(6)] public double Level;
+
+    /// <summary>Periods the rule has observed.</summary>
+    [Id(7)] public long PeriodsObserved;
+
+    /// <summary>Why an episode closed.</summary>
+    [Id(8)] public int Reason;
+}
+
+/// <summary>Converts <see cref="DriftTransition"/> to and from its wire form.</summary>
+[RegisterConverter]
+internal sealed class DriftTransitionConverter : IConverter<DriftTransition, DriftTransitionSurrogate>
+{
+    /// <inheritdoc/>
+    public DriftTransition ConvertFromSurrogate(in DriftTransitionSurrogate s) =>
+        new((DriftTransitionKind)s.Kind, (DriftRuleKind)s.Rule, s.EpisodeId, (DriftDirection)s.Direction, (DriftSeverity)s.Severity, s.Signal, s.Level, s.PeriodsObserved, (DriftCloseReason)s.Reason);
+
+    /// <inheritdoc/>
+    public DriftTransitionSurrogate ConvertToSurrogate(in DriftTransition v) => new()
+    {
+        Kind = (int)v.Kind, Rule = (int)v.Rule, EpisodeId = v.EpisodeId, Direction = (int)v.Direction, Severity = (int)v.Severity,
+        Signal = v.Signal, Level = v.Level, PeriodsObserved = v.PeriodsObserved, Reason = (int)v.Reason,
+    };
+}
+
+/// <summary>Wire form of <see cref="DriftAlert{TKey}"/>.</summary>
+/// <typeparam name="TKey">The series key type.</typeparam>
+[GenerateSerializer]
+internal struct DriftAlertSurrogate<TKey>
+{
+    /// <summary>The series key.</summary>
+    [Id(0)] public TKey Key;
+
+    /// <summary>The period.</summary>
+    [Id(1)] public long Period;
+
+    /// <summary>Where the period starts.</summary>
+    [Id(2)] public DateTimeOffset PeriodStart;
+
+    /// <summary>The rule's index in the series options.</summary>
+    [Id(3)] public int RuleIndex;
+
+    /// <summary>The rule's name.</summary>
+    [Id(4)] public string RuleName;
+
+    /// <summary>The transition.</summary>
+    [Id(5)] public DriftTransition Transition;
+
+    /// <summary>The error statistics.</summary>
+    [Id(6)] public ErrorSummary Errors;
+}
+
+/// <summary>Converts <see cref="DriftAlert{TKey}"/> to and from its wire form.</summary>
+/// <typeparam name="TKey">The series key type.</typeparam>
+[RegisterConverter]
+internal sealed class DriftAlertConverter<TKey> : IConverter<DriftAlert<TKey>, DriftAlertSurrogate<TKey>>
+{
+    /// <inheritdoc/>
+    public DriftAlert<TKey> ConvertFromSurrogate(in DriftAlertSurrogate<TKey> s) =>
+        new(s.Key, s.Period, s.PeriodStart, s.RuleIndex, s.RuleName, s.Transition, s.Errors);
+
+    /// <inheritdoc/>
+    public DriftAlertSurrogate<TKey> ConvertToSurrogate(in DriftAlert<TKey> v) => new()
+    {
+        Key = v.Key, Period = v.Period, PeriodStart = v.PeriodStart, RuleIndex = v.RuleIndex, RuleName = v.RuleName,
+        Transition = v.Transition, Errors = v.Errors,
+    };
+}
+
+/// <summary>Wire form of <see cref="SeriesFault{TKey}"/>.</summary>
+/// <typeparam name="TKey">The series key type.</typeparam>
+[GenerateSerializer]
+internal struct SeriesFaultSurrogate<TKey>
+{
+    /// <summary>The series key.</summary>
+    [Id(0)] public TKey Key;
+
+    /// <summary>The period, or 0.</summary>
+    [Id(1)] public long Period;
+
+    /// <summary>What went wrong.</summary>
+    [Id(2)] public int Kind;
+
+    /// <summary>The message.</summary>
+    [Id(3)] public string Message;
+}
+
+/// <summary>Converts <see cref="SeriesFault{TKey}"/> to and from its wire form.</summary>
+/// <typeparam name="TKey">The series key type.</typeparam>
+[RegisterConverter]
+internal sealed class SeriesFaultConverter<TKey> : IConverter<SeriesFault<TKey>, SeriesFaultSurrogate<TKey>>
+{
+    /// <inheritdoc/>
+    public SeriesFault<TKey> ConvertFromSurrogate(in SeriesFaultSurrogate<TKey> s) => new(s.Key, s.Period, (SeriesFaultKind)s.Kind, s.Message);
+
+    /// <inheritdoc/>
+    public SeriesFaultSurrogate<TKey> ConvertToSurrogate(in SeriesFault<TKey> v) => new() { Key = v.Key, Period = v.Period, Kind = (int)v.Kind, Message = v.Message };
+}
+
+/// <summary>Wire form of <see cref="EngineCounters"/>.</summary>
+[GenerateSerializer]
+internal struct EngineCountersSurrogate
+{
+    /// <summary>Observations.</summary>
+    [Id(0)] public long Observations;
+
+    /// <summary>Late.</summary>
+    [Id(1)] public long Late;
+
+    /// <summary>Restated.</summary>
+    [Id(2)] public long Restated;
+
+    /// <summary>Duplicates.</summary>
+    [Id(3)] public long Duplicates;
+
+    /// <summary>Dropped.</summary>
+    [Id(4)] public long Dropped;
+
+    /// <summary>Rejected.</summary>
+    [Id(5)] public long Rejected;
+
+    /// <summary>PeriodsClosed.</summary>
+    [Id(6)] public long PeriodsClosed;
+
+    /// <summary>GapPeriods.</summary>
+    [Id(7)] public long GapPeriods;
+
+    /// <summary>RejectedActuals.</summary>
+    [Id(8)] public long RejectedActuals;
+
+    /// <summary>AlertsRaised.</summary>
+    [Id(9)] public long AlertsRaised;
+
+    /// <summary>AlertsEscalated.</summary>
+    [Id(10)] public long AlertsEscalated;
+
+    /// <summary>AlertsCleared.</summary>
+    [Id(11)] public long AlertsCleared;
+
+    /// <summary>Evictions.</summary>
+    [Id(12)] public long Evictions;
+
+    /// <summary>ActiveSeries.</summary>
+    [Id(13)] public long ActiveSeries;
+
+    /// <summary>QueueDepth.</summary>
+    [Id(14)] public long QueueDepth;
+
+    /// <summary>SubscriberDrops.</summary>
+    [Id(15)] public long SubscriberDrops;
+
+    /// <summary>SubscriberFaults.</summary>
+    [Id(16)] public long SubscriberFaults;
+}
+
+/// <summary>Converts <see cref="EngineCounters"/> to and from its wire form.</summary>
+[RegisterConverter]
+internal sealed class EngineCountersConverter : IConverter<EngineCounters, EngineCountersSurrogate>
+{
+    /// <inheritdoc/>
+    public EngineCounters ConvertFromSurrogate(in EngineCountersSurrogate s) =>
+        new(s.Observations, s.Late, s.Restated, s.Duplicates, s.Dropped, s.Rejected, s.PeriodsClosed, s.GapPeriods, s.RejectedActuals, s.AlertsRaised, s.AlertsEscalated, s.AlertsCleared, s.Evictions, s.ActiveSeries, s.QueueDepth, s.SubscriberDrops, s.SubscriberFaults);
+
+    /// <inheritdoc/>
+    public EngineCountersSurrogate ConvertToSurrogate(in EngineCounters v) => new()
+    {
+        Observations = v.Observations,
+        Late = v.Late,
+        Restated = v.Restated,
+        Duplicates = v.Duplicates,
+        Dropped = v.Dropped,
+        Rejected = v.Rejected,
+        PeriodsClosed = v.PeriodsClosed,
+        GapPeriods = v.GapPeriods,
+        RejectedActuals = v.RejectedActuals,
+        AlertsRaised = v.AlertsRaised,
+        AlertsEscalated = v.AlertsEscalated,
+        AlertsCleared = v.AlertsCleared,
+        Evictions = v.Evictions,
+        ActiveSeries = v.ActiveSeries,
+        QueueDepth = v.QueueDepth,
+        SubscriberDrops = v.SubscriberDrops,
+        SubscriberFaults = v.SubscriberFaults,
+    };
+}

@@ -1,0 +1,394 @@
+using StreamForecast.Streaming;
+
+namespace StreamForecast.Orleans;
+
+/// <summary>
+/// The cluster's counterpart of <see cref="ForecastEngine{TKey}"/>: the same posting API and the same observables, with
+/// the series held by bucket grains across the silos of an Orleans cluster. Create one with <see cref="ForecastCluster.ConnectAsync{TKey}"/>.
+/// </summary>
+/// <typeparam name="TKey">The series key type; Orleans must be able to serialize it.</typeparam>
+/// <remarks>
+/// <para><b>Acceptance.</b> A post completes when every bucket it touched has applied it and stored the result. A call
+/// that fails for a transient reason (a silo died, a bucket is moving, a timeout) is retried with the same id, so a
+/// retry after a lost acknowledgement is recognised and not applied twice. An invalid observation throws before
+/// anything is sent.</para>
+/// <para><b>Order.</b> Per key, observations are applied in the order of the posts. One batch is split by bucket; the
+/// buckets are called in parallel, each bucket's part in order.</para>
+/// <para><b>Output.</b> Each bucket sends the output of every applied call to this client's subscription (a grain
+/// observer, renewed every third of <see cref="ForecastClusterOptions.SubscriptionLease"/>) after storing it. Output is
+/// numbered per bucket: a repeat is dropped, and a gap (output lost when a silo died between storing a call and sending
+/// its output, or while the subscription was lapsed) is counted in <see cref="MissedOutputs"/>; the forecasts of later
+/// periods carry the full error statistics, so state is never lost, only those events.</para>
+/// <para><b>Thread safety.</b> Every public member is thread-safe.</para>
+/// <para>Forecasts and alerts are advisory and need a person's judgement before stock or staff are changed.</para>
+/// </remarks>
+public sealed class ForecastClusterClient<TKey> : IForecastEngine<TKey>, ISeriesBucketObserver<TKey>
+    where TKey : notnull
+{
+    private readonly IGrainFactory _grains;
+    private readonly BucketMap<TKey> _map;
+    private readonly TimeProvider _time;
+    private readonly Publisher<ForecastUpdate<TKey>> _forecasts;
+    private readonly Publisher<DriftAlert<TKey>> _alerts;
+    private readonly Publisher<SeriesFault<TKey>> _faults;
+    private readonly long[] _lastSequence;
+    private readonly object _outputGate = new();
+    private readonly CancellationTokenSource _stopping = new();
+    private ISeriesBucketObserver<TKey>? _reference;
+    private Task _renewal = Task.CompletedTask;
+    private long _missedOutputs;
+    private long _repeatedOutputs;
+    private long _retries;
+    private int _disposed;
+
+    internal ForecastClusterClient(IGrainFactory grains, ForecastClusterOptions options, ISnapshotKeyCodec<TKey> keyCodec, TimeProvider time, PublishingOptions? publishing)
+    {
+        _grains = grains;
+        Options = options;
+        _map = new BucketMap<TKey>(keyCodec, options.BucketCount);
+        _time = time;
+        _forecasts = new Publisher<ForecastUpdate<TKey>>(publishing);
+        _alerts = new Publisher<DriftAlert<TKey>>(publishing);
+        _faults = new Publisher<SeriesFault<TKey>>(publishing);
+        _lastSequence = new long[options.BucketCount];
+    }
+
+    /// <summary>The cluster options this client uses (they must match the silos').</summary>
+    public ForecastClusterOptions Options { get; }
+
+    /// <inheritdoc/>
+    public IObservable<ForecastUpdate<TKey>> Forecasts => _forecasts;
+
+    /// <inheritdoc/>
+    public IObservable<DriftAlert<TKey>> Alerts => _alerts;
+
+    /// <inheritdoc/>
+    public IObservable<SeriesFault<TKey>> Faults => _faults;
+
+    /// <summary>Bucket outputs this client never received (counted from gaps in each bucket's numbering).</summary>
+    public long MissedOutputs => Interlocked.Read(ref _missedOutputs);
+
+    /// <summary>Bucket outputs received twice and dropped.</summary>
+    public long RepeatedOutputs => Interlocked.Read(ref _repeatedOutputs);
+
+    /// <summary>Calls tried again after a transient failure.</summary>
+    public long Retries => Interlocked.Read(ref _retries);
+
+    /// <summary>Subscribes to every bucket and starts renewing (called once by <see cref="ForecastCluster.ConnectAsync{TKey}"/>).</summary>
+    internal async Task StartAsync(CancellationToken cancellationToken)
+    {
+        _reference = _grains.CreateObjectReference<ISeriesBucketObserver<TKey>>(this);
+        await RenewAsync(cancellationToken).ConfigureAwait(false);
+        _renewal = RenewLoopAsync();
+    }
+
+    /// <summary>The bucket a key belongs to.</summary>
+    /// <param name="key">The key.</param>
+    /// <returns>The bucket, 0 to <see cref="ForecastClusterOptions.BucketCount"/> − 1.</returns>
+    public int BucketOf(TKey key) => _map.BucketOf(key);
+
+    /// <summary>One bucket grain, for status queries.</summary>
+    /// <param name="bucket">The bucket.</param>
+    /// <returns>The grain reference.</returns>
+    public ISeriesBucketGrain<TKey> Bucket(int bucket)
+    {
+        ArgumentOutOfRangeException.ThrowIfNegative(bucket);
+        ArgumentOutOfRangeException.ThrowIfGreaterThanOrEqual(bucket, Options.BucketCount);
+        return _grains.GetGrain<ISeriesBucketGrain<TKey>>(bucket);
+    }
+
+    /// <inheritdoc/>
+    public ValueTask PostAsync(Observation<TKey> observation, CancellationToken cancellationToken = default) =>
+        PostBatchAsync(new[] { observation }, cancellationToken);
+
+    /// <inheritdoc/>
+    /// <remarks>O(batch) to validate and group; one call per bucket part, in parallel across buckets.</remarks>
+    public async ValueTask PostBatchAsync(ReadOnlyMemory<Observation<TKey>> batch, CancellationToken cancellationToken = default)
+    {
+        ThrowIfDisposed();
+        var parts = new Dictionary<int, List<Observation<TKey>>>();
+        ReadOnlySpan<Observation<TKey>> span = batch.Span;
+        for (int i = 0; i < span.Length; i++)
+        {
+            Observation<TKey> o = span[i];
+            if (o.Key is null)
+            {
+                throw new ArgumentOutOfRangeException(nameof(batch), $"Observation {i} of the batch has no key; nothing was posted.");
+            }
+
+            if (!double.IsFinite(o.Quantity))
+            {
+                throw new ArgumentOutOfRangeException(nameof(batch), o.Quantity, $"Observation {i} of the batch is invalid; nothing was posted. The quantity must be a finite number.");
+            }
+
+            int bucket = _map.BucketOf(o.Key);
+            if (!parts.TryGetValue(bucket, out List<Observation<TKey>>? part))
+            {
+                parts[bucket] = part = [];
+            }
+
+            part.Add(o);
+        }
+
+        var calls = new List<Task>(parts.Count);
+        foreach ((int bucket, List<Observation<TKey>> part) in parts)
+        {
+            calls.Add(PostPartAsync(bucket, part, cancellationToken));
+        }
+
+        await Task.WhenAll(calls).ConfigureAwait(false);
+    }
+
+    /// <inheritdoc/>
+    public Task AdvanceAsync(DateTimeOffset watermark, CancellationToken cancellationToken = default) =>
+        EveryBucketAsync((grain, id) => grain.AdvanceAsync(id, watermark), cancellationToken);
+
+    /// <inheritdoc/>
+    public Task FlushAsync(CancellationToken cancellationToken = default) =>
+        EveryBucketAsync((grain, id) => grain.FlushAsync(id), cancellationToken);
+
+    /// <inheritdoc/>
+    public Task AcknowledgeAsync(TKey key, CancellationToken cancellationToken = default)
+    {
+        ThrowIfDisposed();
+        Guid id = Guid.NewGuid();
+        return CallAsync(Bucket(_map.BucketOf(key)), grain => grain.AcknowledgeAsync(id, key), cancellationToken);
+    }
+
+    /// <summary>The counters of every bucket, summed (each bucket read once; the sum may straddle updates).</summary>
+    /// <param name="cancellationToken">Stops waiting.</param>
+    /// <returns>The counters.</returns>
+    /// <remarks>O(<see cref="ForecastClusterOptions.BucketCount"/>) calls.</remarks>
+    public async Task<EngineCounters> GetCountersAsync(CancellationToken cancellationToken = default)
+    {
+        var reads = new Task<BucketStatus>[Options.BucketCount];
+        for (int b = 0; b < reads.Length; b++)
+        {
+            ISeriesBucketGrain<TKey> grain = Bucket(b);
+            reads[b] = CallAsync(grain, g => g.GetStatusAsync(), cancellationToken);
+        }
+
+        BucketStatus[] all = await Task.WhenAll(reads).ConfigureAwait(false);
+        EngineCounters sum = default;
+        foreach (BucketStatus s in all)
+        {
+            EngineCounters c = s.Counters;
+            sum = new EngineCounters(
+                sum.Observations + c.Observations, sum.Late + c.Late, sum.Restated + c.Restated, sum.Duplicates + c.Duplicates, 0,
+                sum.Rejected + c.Rejected, sum.PeriodsClosed + c.PeriodsClosed, sum.GapPeriods + c.GapPeriods, sum.RejectedActuals + c.RejectedActuals,
+                sum.AlertsRaised + c.AlertsRaised, sum.AlertsEscalated + c.AlertsEscalated, sum.AlertsCleared + c.AlertsCleared,
+                sum.Evictions + c.Evictions, sum.ActiveSeries + c.ActiveSeries, 0, 0, 0);
+        }
+
+        return sum;
+    }
+
+    /// <summary>Receives a bucket's output (called by the cluster through the observer reference).</summary>
+    /// <param name="output">The output.</param>
+    /// <returns>A completed task.</returns>
+    Task ISeriesBucketObserver<TKey>.OnOutputAsync(BucketOutput<TKey> output)
+    {
+        if (output is null || (uint)output.Bucket >= (uint)_lastSequence.Length)
+        {
+            return Task.CompletedTask;
+        }
+
+        lock (_outputGate)
+        {
+            long last = _lastSequence[output.Bucket];
+            if (output.Sequence <= last)
+            {
+                _repeatedOutputs++;
+                return Task.CompletedTask;
+            }
+
+            // The first output seen from a bucket sets its baseline; later gaps are outputs lost in transit.
+            if (last != 0 && output.Sequence > last + 1)
+            {
+                _missedOutputs += output.Sequence - last - 1;
+            }
+
+            _lastSequence[output.Bucket] = output.Sequence;
+            foreach (ForecastUpdate<TKey> f in output.Forecasts)
+            {
+                _forecasts.TryPublish(f);
+            }
+
+            foreach (DriftAlert<TKey> a in output.Alerts)
+            {
+                _alerts.TryPublish(a);
+            }
+
+            foreach (SeriesFault<TKey> f in output.Faults)
+            {
+                _faults.TryPublish(f);
+            }
+        }
+
+        return Task.CompletedTask;
+    }
+
+    /// <summary>Unsubscribes from every bucket (best effort), stops renewing, and completes the observables.</summary>
+    /// <returns>A task that completes when the observables' subscribers have been told.</returns>
+    public async ValueTask DisposeAsync()
+    {
+        if (Interlocked.Exchange(ref _disposed, 1) != 0)
+        {
+            return;
+        }
+
+        await _stopping.CancelAsync().ConfigureAwait(false);
+        try
+        {
+            await _renewal.ConfigureAwait(false);
+        }
+        catch (OperationCanceledException)
+        {
+        }
+
+        if (_reference is not null)
+        {
+            var leaving = new List<Task>(Options.BucketCount);
+            for (int b = 0; b < Options.BucketCount; b++)
+            {
+                leaving.Add(Bucket(b).UnsubscribeAsync(_reference));
+            }
+
+            try
+            {
+                await Task.WhenAll(leaving).WaitAsync(TimeSpan.FromSeconds(10), _time).ConfigureAwait(false);
+            }
+            catch (Exception ex) when (ex is not OutOfMemoryException)
+            {
+                // Best effort: a subscription that could not be removed simply runs out with its lease.
+            }
+
+            _grains.DeleteObjectReference<ISeriesBucketObserver<TKey>>(_reference);
+        }
+
+        _forecasts.Complete();
+        _alerts.Complete();
+        _faults.Complete();
+        await Task.WhenAll(_forecasts.Completion, _alerts.Completion, _faults.Completion).ConfigureAwait(false);
+        _stopping.Dispose();
+    }
+
+    private async Task PostPartAsync(int bucket, List<Observation<TKey>> part, CancellationToken cancellationToken)
+    {
+        ISeriesBucketGrain<TKey> grain = Bucket(bucket);
+        for (int start = 0; start < part.Count; start += Options.MaxBatchSize)
+        {
+            Observation<TKey>[] chunk = part.GetRange(start, Math.Min(Options.MaxBatchSize, part.Count - start)).ToArray();
+            Guid id = Guid.NewGuid();
+            await CallAsync(grain, g => g.PostAsync(id, chunk), cancellationToken).ConfigureAwait(false);
+        }
+    }
+
+    private Task EveryBucketAsync(Func<ISeriesBucketGrain<TKey>, Guid, Task<CallReceipt>> call, CancellationToken cancellationToken)
+    {
+        ThrowIfDisposed();
+        var calls = new Task[Options.BucketCount];
+        for (int b = 0; b < calls.Length; b++)
+        {
+            Guid id = Guid.NewGuid();
+            calls[b] = CallAsync(Bucket(b), g => call(g, id), cancellationToken);
+        }
+
+        return Task.WhenAll(calls);
+    }
+
+    private async Task<T> CallAsync<T>(ISeriesBucketGrain<TKey> grain, Func<ISeriesBucketGrain<TKey>, Task<T>> call, CancellationToken cancellationToken)
+    {
+        TimeSpan delay = Options.RetryDelay;
+        for (int attempt = 1; ; attempt++)
+        {
+            cancellationToken.ThrowIfCancellationRequested();
+            try
+            {
+                return await call(grain).ConfigureAwait(false);
+            }
+            catch (Exception ex) when (attempt < Options.MaxAttempts && IsTransient(ex))
+            {
+                Interlocked.Increment(ref _retries);
+            }
+
+            await Task.Delay(delay, _time, cancellationToken).ConfigureAwait(false);
+            delay = TimeSpan.FromTicks(Math.Min(delay.Ticks * 2, Options.MaxRetryDelay.Ticks));
+        }
+    }
+
+    private static bool IsTransient(Exception ex) =>
+        ex is not (ArgumentException or OperationCanceledException or ObjectDisposedException or NotSupportedException or InvalidDataException);
+
+    private async Task RenewAsync(CancellationToken cancellationToken)
+    {
+        var calls = new Task<int>[Options.BucketCount];
+        for (int b = 0; b < calls.Length; b++)
+        {
+            ISeriesBucketGrain<TKey> grain = Bucket(b);
+            calls[b] = CallAsync(grain, async g => { await g.SubscribeAsync(_reference!, Options.SubscriptionLease).ConfigureAwait(false); return 0; }, cancellationToken);
+        }
+
+        await Task.WhenAll(calls).ConfigureAwait(false);
+    }
+
+    private async Task RenewLoopAsync()
+    {
+        CancellationToken stop = _stopping.Token;
+        while (!stop.IsCancellationRequested)
+        {
+            await Task.Delay(Options.SubscriptionLease / 3, _time, stop).ConfigureAwait(false);
+            try
+            {
+                await RenewAsync(stop).ConfigureAwait(false);
+            }
+            catch (Exception ex) when (ex is not (OperationCanceledException or OutOfMemoryException))
+            {
+                _faults.TryPublish(new SeriesFault<TKey>(default!, 0, SeriesFaultKind.SubscriberFailed, "Renewing the cluster subscription failed; output may be missed until the next renewal: " + ex.Message));
+            }
+        }
+    }
+
+    private void ThrowIfDisposed()
+    {
+        if (Volatile.Read(ref _disposed) != 0)
+        {
+            throw new ObjectDisposedException(nameof(ForecastClusterClient<TKey>), "The cluster client has been disposed; it takes no more observations or commands.");
+        }
+    }
+}
+
+/// <summary>Connects clients to a forecast cluster.</summary>
+public static class ForecastCluster
+{
+    /// <summary>
+    /// Connects to a cluster whose silos run the buckets (see <see cref="ForecastClusterSiloExtensions.AddForecastBuckets"/>) and
+    /// subscribes to every bucket's output.
+    /// </summary>
+    /// <typeparam name="TKey">The series key type.</typeparam>
+    /// <param name="grains">The cluster client's grain factory (an <c>IClusterClient</c>, or a grain's own factory).</param>
+    /// <param name="options">The cluster options; the same as the silos'.</param>
+    /// <param name="keyCodec">How keys are encoded; the same as the silos'. Keys are mapped to buckets from these bytes.</param>
+    /// <param name="timeProvider">The clock for retry delays and lease renewal; <see cref="TimeProvider.System"/> by default.</param>
+    /// <param name="publishing">Buffering of this client's observables (as for the engine).</param>
+    /// <param name="cancellationToken">Stops connecting.</param>
+    /// <returns>The connected client.</returns>
+    /// <remarks>Subscribing calls every bucket once, activating it: O(<see cref="ForecastClusterOptions.BucketCount"/>) calls.</remarks>
+    public static async Task<ForecastClusterClient<TKey>> ConnectAsync<TKey>(
+        IGrainFactory grains,
+        ForecastClusterOptions options,
+        ISnapshotKeyCodec<TKey> keyCodec,
+        TimeProvider? timeProvider = null,
+        PublishingOptions? publishing = null,
+        CancellationToken cancellationToken = default)
+        where TKey : notnull
+    {
+        ArgumentNullException.ThrowIfNull(grains);
+        ArgumentNullException.ThrowIfNull(options);
+        ArgumentNullException.ThrowIfNull(keyCodec);
+        var client = new ForecastClusterClient<TKey>(grains, options, keyCodec, timeProvider ?? TimeProvider.System, publishing);
+        await client.StartAsync(cancellationToken).ConfigureAwait(false);
+        return client;
+    }
+
+}

@@ -1,0 +1,480 @@
+using System.Text;
+using Microsoft.Extensions.Logging;
+using StreamForecast.Streaming;
+
+namespace StreamForecast.Orleans;
+
+/// <summary>What a bucket stores: its series in the engine's snapshot format, and what it needs to ignore retries.</summary>
+[GenerateSerializer]
+[Alias("StreamForecast.Orleans.BucketState`1")]
+internal sealed class BucketState<TKey>
+    where TKey : notnull
+{
+    /// <summary>The bucket's series as an engine snapshot (codec name section, then one section of series); null before the first write.</summary>
+    [Id(0)] public byte[]? Series { get; set; }
+
+    /// <summary>The most recent applied call ids with the sequence number each got, oldest first.</summary>
+    [Id(1)] public List<AppliedCall> Applied { get; set; } = [];
+
+    /// <summary>Calls applied so far.</summary>
+    [Id(2)] public long Sequence { get; set; }
+
+    /// <summary>Calls ignored as repeats.</summary>
+    [Id(3)] public long Repeats { get; set; }
+
+    /// <summary>The series counters (see <see cref="SeriesBucketGrain{TKey}"/>), then the rejected count.</summary>
+    [Id(4)] public long[] Counters { get; set; } = [];
+
+    /// <summary>Subscribers and when their lease ends.</summary>
+    [Id(5)] public List<BucketSubscriber<TKey>> Subscribers { get; set; } = [];
+}
+
+/// <summary>One applied call id.</summary>
+[GenerateSerializer]
+[Alias("StreamForecast.Orleans.AppliedCall")]
+internal readonly record struct AppliedCall([property: Id(0)] Guid Id, [property: Id(1)] long Sequence);
+
+/// <summary>One subscriber and the end of its lease.</summary>
+[GenerateSerializer]
+[Alias("StreamForecast.Orleans.BucketSubscriber`1")]
+internal readonly record struct BucketSubscriber<TKey>([property: Id(0)] ISeriesBucketObserver<TKey> Observer, [property: Id(1)] DateTimeOffset LeaseEnds)
+    where TKey : notnull;
+
+/// <summary>Thrown when a bucket has dropped its in-memory state after a failure; the call was not applied, retry it.</summary>
+[GenerateSerializer]
+[Alias("StreamForecast.Orleans.BucketRestartingException")]
+public sealed class BucketRestartingException : Exception
+{
+    /// <summary>Creates the exception.</summary>
+    public BucketRestartingException()
+        : base("The bucket is reloading its stored state after a failure; the call was not applied. Retry it with the same id.")
+    {
+    }
+
+    /// <summary>Creates the exception with a message.</summary>
+    /// <param name="message">The message.</param>
+    public BucketRestartingException(string message)
+        : base(message)
+    {
+    }
+
+    /// <summary>Creates the exception with a message and a cause.</summary>
+    /// <param name="message">The message.</param>
+    /// <param name="innerException">The cause.</param>
+    public BucketRestartingException(string message, Exception innerException)
+        : base(message, innerException)
+    {
+    }
+}
+
+/// <summary>
+/// The grain behind <see cref="ISeriesBucketGrain{TKey}"/>: a <see cref="SeriesTable{TKey}"/> (the same routing, period,
+/// lateness, restatement, de-duplication, forecasting and drift code as an engine partition) run one call at a time,
+/// stored through the grain storage named <see cref="ForecastClusterOptions.StorageName"/> before each acknowledgement.
+/// </summary>
+internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrain<TKey>, ISeriesHost<TKey>
+    where TKey : notnull
+{
+    private const int CounterCount = 12;
+
+    private readonly IPersistentState<BucketState<TKey>> _state;
+    private readonly ForecastEngineOptions<TKey> _options;
+    private readonly ISnapshotKeyCodec<TKey> _codec;
+    private readonly ForecastClusterOptions _cluster;
+    private readonly BucketMap<TKey> _map;
+    private readonly ILogger _logger;
+    private readonly List<ForecastUpdate<TKey>> _forecasts = [];
+    private readonly List<DriftAlert<TKey>> _alerts = [];
+    private readonly List<SeriesFault<TKey>> _faults = [];
+    private readonly Dictionary<Guid, long> _applied = [];
+    private SeriesTable<TKey> _table = null!;
+    private long _rejected;
+    private int _bucket;
+    private bool _broken;
+
+    public SeriesBucketGrain(
+        [PersistentState("bucket", ForecastClusterOptions.StorageName)] IPersistentState<BucketState<TKey>> state,
+        ForecastEngineOptions<TKey> options,
+        ISnapshotKeyCodec<TKey> codec,
+        ForecastClusterOptions cluster,
+        ILogger<SeriesBucketGrain<TKey>> logger)
+    {
+        _state = state;
+        _options = options;
+        _codec = codec;
+        _cluster = cluster;
+        _map = new BucketMap<TKey>(codec, cluster.BucketCount);
+        _logger = logger;
+    }
+
+    public SeriesCounters Counters { get; } = new();
+
+    int? ISeriesHost<TKey>.EvictAfterQuietPeriods => _options.EvictAfterQuietPeriods;
+
+    TimeProvider ISeriesHost<TKey>.TimeProvider => _options.TimeProvider;
+
+    public override Task OnActivateAsync(CancellationToken cancellationToken)
+    {
+        long bucket = this.GetPrimaryKeyLong();
+        if (bucket < 0 || bucket >= _cluster.BucketCount)
+        {
+            throw new InvalidOperationException($"Bucket {bucket} does not exist: this cluster has buckets 0 to {_cluster.BucketCount - 1} (ForecastClusterOptions.BucketCount).");
+        }
+
+        _bucket = (int)bucket;
+        _table = new SeriesTable<TKey>(_options.KeyComparer, this);
+        BucketState<TKey> stored = _state.State;
+        if (stored.Series is { } bytes)
+        {
+            foreach (SeriesState<TKey> series in ReadSeries(bytes))
+            {
+                _table.Adopt(series);
+            }
+        }
+
+        foreach (AppliedCall call in stored.Applied)
+        {
+            _applied[call.Id] = call.Sequence;
+        }
+
+        if (stored.Counters.Length == CounterCount + 1)
+        {
+            SetCounters(stored.Counters);
+        }
+
+        if (_options.IdleCheckInterval > TimeSpan.Zero && _options.IdleCheckInterval != Timeout.InfiniteTimeSpan)
+        {
+            this.RegisterGrainTimer(IdleTickAsync, _options.IdleCheckInterval, _options.IdleCheckInterval);
+        }
+
+        LogActivated(_logger, _bucket, _table.Count, stored.Sequence);
+        return Task.CompletedTask;
+    }
+
+    public Task<CallReceipt> PostAsync(Guid callId, Observation<TKey>[] batch)
+    {
+        ArgumentNullException.ThrowIfNull(batch);
+        ThrowIfBroken();
+        if (!_applied.ContainsKey(callId))
+        {
+            Validate(batch);
+        }
+
+        return ApplyAsync(callId, batch, static (grain, b) =>
+        {
+            long arrival = grain._options.TimeProvider.GetTimestamp();
+            foreach (Observation<TKey> o in b)
+            {
+                grain._table.Observe(o, arrival);
+            }
+        });
+    }
+
+    public Task<CallReceipt> AdvanceAsync(Guid callId, DateTimeOffset watermark) =>
+        ApplyAsync(callId, watermark.UtcTicks, static (grain, ticks) => grain._table.Advance(ticks));
+
+    public Task<CallReceipt> FlushAsync(Guid callId) =>
+        ApplyAsync(callId, 0, static (grain, _) => grain._table.Flush());
+
+    public Task<CallReceipt> AcknowledgeAsync(Guid callId, TKey key)
+    {
+        ThrowIfBroken();
+        if (!_applied.ContainsKey(callId) && _map.BucketOf(key) != _bucket)
+        {
+            throw new ArgumentException($"The key belongs to bucket {_map.BucketOf(key)}, not {_bucket}: every client and silo must use the same ForecastClusterOptions.BucketCount and key codec.", nameof(key));
+        }
+
+        return ApplyAsync(callId, key, static (grain, k) => grain._table.Acknowledge(k));
+    }
+
+    public async Task SubscribeAsync(ISeriesBucketObserver<TKey> observer, TimeSpan lease)
+    {
+        ArgumentNullException.ThrowIfNull(observer);
+        ThrowIfBroken();
+        if (lease <= TimeSpan.Zero || lease > TimeSpan.FromDays(1))
+        {
+            throw new ArgumentOutOfRangeException(nameof(lease), lease, "A subscription lease lasts more than 0 and at most 1 day.");
+        }
+
+        List<BucketSubscriber<TKey>> subscribers = _state.State.Subscribers;
+        subscribers.RemoveAll(s => s.Observer.Equals(observer));
+        subscribers.Add(new BucketSubscriber<TKey>(observer, _options.TimeProvider.GetUtcNow() + lease));
+        await StoreAsync().ConfigureAwait(true);
+    }
+
+    public async Task UnsubscribeAsync(ISeriesBucketObserver<TKey> observer)
+    {
+        ArgumentNullException.ThrowIfNull(observer);
+        ThrowIfBroken();
+        if (_state.State.Subscribers.RemoveAll(s => s.Observer.Equals(observer)) > 0)
+        {
+            await StoreAsync().ConfigureAwait(true);
+        }
+    }
+
+    public Task<BucketStatus> GetStatusAsync()
+    {
+        ThrowIfBroken();
+        SeriesCounters c = Counters;
+        var counters = new EngineCounters(
+            c.Observations, c.Late, c.Restated, c.Duplicates, 0, _rejected, c.PeriodsClosed, c.GapPeriods, c.RejectedActuals,
+            c.AlertsRaised, c.AlertsEscalated, c.AlertsCleared, c.Evictions, _table.Count, 0, 0, 0);
+        DateTimeOffset now = _options.TimeProvider.GetUtcNow();
+        int live = _state.State.Subscribers.Count(s => s.LeaseEnds > now);
+        return Task.FromResult(new BucketStatus(_bucket, RuntimeIdentity, _table.Count, _state.State.Sequence, _state.State.Repeats, counters, live));
+    }
+
+    SeriesOptions ISeriesHost<TKey>.Resolve(TKey key) => _options.Resolve(key);
+
+    bool ISeriesHost<TKey>.TryReserveSeries() => _table.Count < _options.MaxSeries;
+
+    void ISeriesHost<TKey>.ReleaseSeries()
+    {
+        // The table's own count is the limit here: nothing to give back.
+    }
+
+    void ISeriesHost<TKey>.Rejected(TKey key, string? reason)
+    {
+        _rejected++;
+        if (reason is not null)
+        {
+            _faults.Add(new SeriesFault<TKey>(key, 0, SeriesFaultKind.ObservationRejected, reason));
+        }
+    }
+
+    void ISeriesOutput<TKey>.Forecast(in ForecastUpdate<TKey> update) => _forecasts.Add(update);
+
+    void ISeriesOutput<TKey>.Alert(in DriftAlert<TKey> alert) => _alerts.Add(alert);
+
+    void ISeriesOutput<TKey>.Fault(in SeriesFault<TKey> fault) => _faults.Add(fault);
+
+    private async Task<CallReceipt> ApplyAsync<TArg>(Guid callId, TArg argument, Action<SeriesBucketGrain<TKey>, TArg> apply)
+    {
+        ThrowIfBroken();
+        if (_applied.TryGetValue(callId, out long appliedAs))
+        {
+            _state.State.Repeats++;
+            LogRepeat(_logger, _bucket, callId, appliedAs);
+            return new CallReceipt(_bucket, appliedAs, true, 0);
+        }
+
+        long observationsBefore = Counters.Observations;
+        try
+        {
+            apply(this, argument);
+        }
+        catch (Exception ex) when (ex is not OutOfMemoryException)
+        {
+            // A defect inside the series code: the in-memory state may be half-changed. Never store it; reload instead.
+            Break(ex);
+            throw;
+        }
+
+        BucketState<TKey> state = _state.State;
+        long sequence = state.Sequence + 1;
+        _applied[callId] = sequence;
+        state.Applied.Add(new AppliedCall(callId, sequence));
+        if (state.Applied.Count > _cluster.RememberedCommands)
+        {
+            int drop = state.Applied.Count - _cluster.RememberedCommands;
+            for (int i = 0; i < drop; i++)
+            {
+                _applied.Remove(state.Applied[i].Id);
+            }
+
+            state.Applied.RemoveRange(0, drop);
+        }
+
+        state.Sequence = sequence;
+        state.Series = WriteSeries();
+        state.Counters = GetCounters();
+        await StoreAsync().ConfigureAwait(true);
+        Publish(sequence);
+        return new CallReceipt(_bucket, sequence, false, Counters.Observations - observationsBefore);
+    }
+
+    private async Task StoreAsync()
+    {
+        try
+        {
+            await _state.WriteStateAsync().ConfigureAwait(true);
+        }
+        catch (Exception ex)
+        {
+            // What is in memory is now ahead of what is stored (or another activation stored first): drop it.
+            Break(ex);
+            throw new BucketRestartingException("The bucket could not store its state; the call was not acknowledged. Retry it with the same id. " + ex.Message, ex);
+        }
+    }
+
+    private void Publish(long sequence)
+    {
+        if (_forecasts.Count == 0 && _alerts.Count == 0 && _faults.Count == 0)
+        {
+            return;
+        }
+
+        var output = new BucketOutput<TKey>(_bucket, sequence, [.. _forecasts], [.. _alerts], [.. _faults]);
+        _forecasts.Clear();
+        _alerts.Clear();
+        _faults.Clear();
+        DateTimeOffset now = _options.TimeProvider.GetUtcNow();
+        foreach (BucketSubscriber<TKey> s in _state.State.Subscribers)
+        {
+            if (s.LeaseEnds <= now)
+            {
+                continue;
+            }
+
+            try
+            {
+                _ = s.Observer.OnOutputAsync(output);
+            }
+            catch (Exception ex) when (ex is not OutOfMemoryException)
+            {
+                LogSubscriberFailed(_logger, ex, _bucket);
+            }
+        }
+
+        // Expired leases go with the next stored write.
+        _state.State.Subscribers.RemoveAll(s => s.LeaseEnds <= now);
+    }
+
+    private async Task IdleTickAsync()
+    {
+        if (_broken || !_table.HasIdleSeries)
+        {
+            return;
+        }
+
+        long closed = Counters.PeriodsClosed, evicted = Counters.Evictions;
+        try
+        {
+            _table.IdleCheck(_options.TimeProvider.GetTimestamp());
+        }
+        catch (Exception ex) when (ex is not OutOfMemoryException)
+        {
+            Break(ex);
+            return;
+        }
+
+        if (Counters.PeriodsClosed != closed || Counters.Evictions != evicted)
+        {
+            BucketState<TKey> state = _state.State;
+            state.Sequence++;
+            state.Series = WriteSeries();
+            state.Counters = GetCounters();
+            try
+            {
+                await StoreAsync().ConfigureAwait(true);
+            }
+            catch (BucketRestartingException)
+            {
+                return;
+            }
+
+            Publish(state.Sequence);
+        }
+    }
+
+    private void Validate(Observation<TKey>[] batch)
+    {
+        DateTimeOffset? latest = _options.MaxEventTimeAhead == Timeout.InfiniteTimeSpan ? null : _options.TimeProvider.GetUtcNow() + _options.MaxEventTimeAhead;
+        for (int i = 0; i < batch.Length; i++)
+        {
+            Observation<TKey> o = batch[i];
+            if (o.Key is null)
+            {
+                throw new ArgumentException($"Observation {i} of the batch has no key; nothing was applied.", nameof(batch));
+            }
+
+            if (!double.IsFinite(o.Quantity))
+            {
+                throw new ArgumentOutOfRangeException(nameof(batch), o.Quantity, $"Observation {i} of the batch has a quantity that is not a finite number; nothing was applied.");
+            }
+
+            if (latest is { } limit && o.Timestamp > limit)
+            {
+                throw new ArgumentOutOfRangeException(nameof(batch), o.Timestamp, $"Observation {i} of the batch is further ahead of the clock than the engine allows (MaxEventTimeAhead); nothing was applied.");
+            }
+
+            int home = _map.BucketOf(o.Key);
+            if (home != _bucket)
+            {
+                throw new ArgumentException($"Observation {i} of the batch belongs to bucket {home}, not {_bucket}: every client and silo must use the same ForecastClusterOptions.BucketCount and key codec. Nothing was applied.", nameof(batch));
+            }
+        }
+    }
+
+    private void ThrowIfBroken()
+    {
+        if (_broken)
+        {
+            throw new BucketRestartingException();
+        }
+    }
+
+    private void Break(Exception cause)
+    {
+        _broken = true;
+        LogBroken(_logger, cause, _bucket);
+        DeactivateOnIdle();
+    }
+
+    private byte[] WriteSeries()
+    {
+        var section = new SnapshotSection<TKey>(_codec);
+        section.Write(_table.Series);
+        using var buffer = new MemoryStream();
+        SnapshotFormat.Write(buffer, _state.State.Sequence, [Encoding.UTF8.GetBytes(_codec.FormatName), section.Bytes]);
+        return buffer.ToArray();
+    }
+
+    private List<SeriesState<TKey>> ReadSeries(byte[] bytes)
+    {
+        using var stream = new MemoryStream(bytes, writable: false);
+        SnapshotContent content = SnapshotFormat.Read(stream);
+        if (content.Sections.Count != 2 || Encoding.UTF8.GetString(content.Sections[0].Span) != _codec.FormatName)
+        {
+            throw new InvalidDataException($"Bucket {_bucket}'s stored series were not written with the {_codec.FormatName} key codec.");
+        }
+
+        var series = new List<SeriesState<TKey>>();
+        try
+        {
+            SnapshotSection<TKey>.Read(content.Sections[1], _codec, _options.Resolve, _options.TimeProvider.GetTimestamp(), series);
+        }
+        catch (Exception ex) when (ex is EndOfStreamException or ArgumentException or FormatException or OverflowException)
+        {
+            throw new InvalidDataException($"Bucket {_bucket}'s stored series do not fit the series options: " + ex.Message, ex);
+        }
+
+        return series;
+    }
+
+    private long[] GetCounters()
+    {
+        SeriesCounters c = Counters;
+        return [c.Observations, c.Late, c.Restated, c.Duplicates, c.PeriodsClosed, c.GapPeriods, c.RejectedActuals, c.AlertsRaised, c.AlertsEscalated, c.AlertsCleared, c.Evictions, 0, _rejected];
+    }
+
+    private void SetCounters(long[] v)
+    {
+        SeriesCounters c = Counters;
+        (c.Observations, c.Late, c.Restated, c.Duplicates, c.PeriodsClosed, c.GapPeriods) = (v[0], v[1], v[2], v[3], v[4], v[5]);
+        (c.RejectedActuals, c.AlertsRaised, c.AlertsEscalated, c.AlertsCleared, c.Evictions) = (v[6], v[7], v[8], v[9], v[10]);
+        _rejected = v[12];
+    }
+
+    [LoggerMessage(Level = LogLevel.Debug, Message = "Bucket {Bucket} activated with {Series} series after {Sequence} applied calls")]
+    private static partial void LogActivated(ILogger logger, int bucket, int series, long sequence);
+
+    [LoggerMessage(Level = LogLevel.Information, Message = "Bucket {Bucket} ignored call {CallId}: already applied as call {Sequence}")]
+    private static partial void LogRepeat(ILogger logger, int bucket, Guid callId, long sequence);
+
+    [LoggerMessage(Level = LogLevel.Warning, Message = "Bucket {Bucket} could not notify a subscriber")]
+    private static partial void LogSubscriberFailed(ILogger logger, Exception exception, int bucket);
+
+    [LoggerMessage(Level = LogLevel.Error, Message = "Bucket {Bucket} dropped its in-memory state after a failure and will reload the stored state")]
+    private static partial void LogBroken(ILogger logger, Exception exception, int bucket);
+}

@@ -1,0 +1,234 @@
+using Microsoft.Extensions.DependencyInjection;
+using Orleans.Configuration;
+using Orleans.Serialization;
+using Orleans.TestingHost;
+using StreamForecast.Streaming;
+
+namespace StreamForecast.Orleans.Tests;
+
+/// <summary>
+/// A 3-silo in-process cluster (loopback) with the shared SQLite grain storage, against the single-process engine on
+/// the same input as the oracle.
+/// </summary>
+public sealed class ClusterFailoverTests : IAsyncLifetime
+{
+    private static readonly ForecastClusterOptions Cluster = new(bucketCount: 12, retryDelay: TimeSpan.FromMilliseconds(100), maxRetryDelay: TimeSpan.FromSeconds(1), maxAttempts: 60);
+
+    private readonly string _directory = Path.Combine(Path.GetTempPath(), "sf-orleans-" + Guid.NewGuid().ToString("N"));
+    private InProcessTestCluster _cluster = null!;
+
+    private string DatabasePath => Path.Combine(_directory, "buckets.db");
+
+    public async Task InitializeAsync()
+    {
+        Directory.CreateDirectory(_directory);
+        var builder = new InProcessTestClusterBuilder(3);
+        string path = DatabasePath;
+        builder.ConfigureSilo((_, silo) =>
+        {
+            silo.AddForecastBuckets(ClusterScenario.EngineOptions(), SnapshotKeyCodecs.Utf8String, Cluster)
+                .AddSqliteCheckpointGrainStorage(path);
+            silo.Configure<ClusterMembershipOptions>(o =>
+            {
+                // Declare a dead silo dead within seconds, not the production default of about a minute.
+                o.ProbeTimeout = TimeSpan.FromMilliseconds(500);
+                o.NumMissedProbesLimit = 2;
+                o.NumVotesForDeathDeclaration = 1;
+                o.TableRefreshTimeout = TimeSpan.FromSeconds(1);
+                o.IAmAliveTablePublishTimeout = TimeSpan.FromSeconds(1);
+            });
+            silo.Configure<SiloMessagingOptions>(o => o.ResponseTimeout = TimeSpan.FromSeconds(5));
+        });
+        builder.ConfigureClient(client => client.Configure<ClientMessagingOptions>(o => o.ResponseTimeout = TimeSpan.FromSeconds(5)));
+        _cluster = builder.Build();
+        await _cluster.DeployAsync();
+    }
+
+    public async Task DisposeAsync()
+    {
+        await _cluster.DisposeAsync();
+        SqliteCleanup();
+    }
+
+    [Fact]
+    public async Task PostBatchAsync_SiloHostingBusiestBucketKilledMidStream_FinalStateAndForecastsEqualSingleProcessEngine()
+    {
+        List<Observation<string>> input = ClusterScenario.Stream(keys: 60, hours: 30, seed: 2026);
+
+        // Oracle: the in-process engine on the same input, in the same order.
+        ForecastEngineOptions<string> options = ClusterScenario.EngineOptions();
+        var expectedLast = new Dictionary<string, ForecastUpdate<string>>(StringComparer.Ordinal);
+        byte[] expectedSnapshot;
+        EngineCounters expectedCounters;
+        await using (var engine = new ForecastEngine<string>(options))
+        {
+            using IDisposable sub = engine.Forecasts.Subscribe(new Collector(expectedLast));
+            await engine.PostBatchAsync(input.ToArray());
+            await engine.FlushAsync();
+            using var buffer = new MemoryStream();
+            await engine.SnapshotAsync(buffer, SnapshotKeyCodecs.Utf8String, input.Count);
+            expectedSnapshot = buffer.ToArray();
+            expectedCounters = engine.GetCounters();
+        }
+
+        // The cluster: the same input in batches of 250; a silo dies after 40 % of them.
+        var actualLast = new Dictionary<string, ForecastUpdate<string>>(StringComparer.Ordinal);
+        await using ForecastClusterClient<string> client = await ForecastCluster.ConnectAsync(_cluster.Client, Cluster, SnapshotKeyCodecs.Utf8String);
+        using IDisposable clusterSub = client.Forecasts.Subscribe(new Collector(actualLast));
+        Observation<string>[][] batches = input.Chunk(250).ToArray();
+        int killAt = batches.Length * 2 / 5;
+        string killed = "";
+        for (int i = 0; i < batches.Length; i++)
+        {
+            if (i == killAt)
+            {
+                // The busiest key is sensor-0; stop the silo its bucket lives on, the hard way.
+                BucketStatus status = await client.Bucket(client.BucketOf("site-0/sensor-0")).GetStatusAsync();
+                InProcessSiloHandle victim = _cluster.Silos.Single(s => s.SiloAddress.ToString() == status.Silo || status.Silo.Contains(s.SiloAddress.ToString(), StringComparison.Ordinal));
+                killed = victim.SiloAddress.ToString();
+                await _cluster.KillSiloAsync(victim);
+            }
+
+            await client.PostBatchAsync(batches[i]);
+        }
+
+        await client.FlushAsync();
+        EngineCounters actualCounters = await client.GetCountersAsync();
+        BucketStatus after = await client.Bucket(client.BucketOf("site-0/sensor-0")).GetStatusAsync();
+
+        // The busiest bucket did move, and nothing acknowledged was lost or counted twice.
+        Assert.NotEqual(killed, after.Silo);
+        Assert.Equal(expectedCounters.Observations, actualCounters.Observations);
+        Assert.Equal(expectedCounters.Duplicates, actualCounters.Duplicates);
+        Assert.Equal(expectedCounters.PeriodsClosed, actualCounters.PeriodsClosed);
+        Assert.Equal(expectedCounters.Restated, actualCounters.Restated);
+        Assert.Equal(expectedCounters.Late, actualCounters.Late);
+        Assert.Equal(expectedCounters.AlertsRaised, actualCounters.AlertsRaised);
+
+        // Every series' stored state is bit-identical to the engine's.
+        Serializer serializer = _cluster.Client.ServiceProvider.GetRequiredService<Serializer>();
+        Dictionary<string, byte[]> expectedStates = ClusterScenario.StatesOfSnapshot(expectedSnapshot, options);
+        Dictionary<string, byte[]> actualStates = ClusterScenario.StatesOfStore(DatabasePath, serializer, options);
+        Assert.Equal(expectedStates.Keys.Order(StringComparer.Ordinal), actualStates.Keys.Order(StringComparer.Ordinal));
+        foreach ((string key, byte[] bytes) in expectedStates)
+        {
+            Assert.True(bytes.AsSpan().SequenceEqual(actualStates[key]), $"series {key} differs from the single-process engine");
+        }
+
+        // The final forecast of every series reached the subscriber and equals the engine's (the flush ran after the failover).
+        Assert.Equal(expectedLast.Count, actualLast.Count);
+        foreach ((string key, ForecastUpdate<string> update) in expectedLast)
+        {
+            Assert.Equal(update, actualLast[key]);
+        }
+    }
+
+    [Fact]
+    public async Task PostAsync_SameCallIdSentTwice_AppliedOnceAndSecondReceiptIsRepeat()
+    {
+        ForecastEngineOptions<string> options = ClusterScenario.EngineOptions();
+        List<Observation<string>> input = ClusterScenario.Stream(keys: 8, hours: 6, seed: 7);
+        await using ForecastClusterClient<string> client = await ForecastCluster.ConnectAsync(_cluster.Client, Cluster, SnapshotKeyCodecs.Utf8String);
+        int bucket = client.BucketOf("site-3/sensor-3");
+        Observation<string>[] batch = input.Where(o => client.BucketOf(o.Key) == bucket).ToArray();
+        ISeriesBucketGrain<string> grain = client.Bucket(bucket);
+        Guid id = Guid.NewGuid();
+
+        CallReceipt first = await grain.PostAsync(id, batch);
+        BucketStatus afterFirst = await grain.GetStatusAsync();
+        CallReceipt retry = await grain.PostAsync(id, batch);
+        BucketStatus afterRetry = await grain.GetStatusAsync();
+
+        Assert.False(first.Repeat);
+        Assert.True(first.Observations > 0);
+        Assert.True(retry.Repeat);
+        Assert.Equal(first.Sequence, retry.Sequence);
+        Assert.Equal(0, retry.Observations);
+        Assert.Equal(afterFirst.Counters, afterRetry.Counters);
+        Assert.Equal(afterFirst.Sequence, afterRetry.Sequence);
+        Assert.Equal(afterFirst.Repeats + 1, afterRetry.Repeats);
+
+        // And the state equals an engine that saw the batch once.
+        await using var engine = new ForecastEngine<string>(options);
+        await engine.PostBatchAsync(batch);
+        using var buffer = new MemoryStream();
+        await engine.SnapshotAsync(buffer, SnapshotKeyCodecs.Utf8String, 0);
+        await engine.FlushAsync();
+        Assert.Equal(engine.GetCounters().Observations, afterRetry.Counters.Observations);
+        Serializer serializer = _cluster.Client.ServiceProvider.GetRequiredService<Serializer>();
+        Dictionary<string, byte[]> expected = ClusterScenario.StatesOfSnapshot(buffer.ToArray(), options);
+        Dictionary<string, byte[]> actual = ClusterScenario.StatesOfStore(DatabasePath, serializer, options);
+        foreach ((string key, byte[] bytes) in expected)
+        {
+            Assert.True(bytes.AsSpan().SequenceEqual(actual[key]), $"series {key} differs");
+        }
+    }
+
+    [Fact]
+    public async Task PostAsync_KeyOfAnotherBucket_ThrowsAndAppliesNothing()
+    {
+        await using ForecastClusterClient<string> client = await ForecastCluster.ConnectAsync(_cluster.Client, Cluster, SnapshotKeyCodecs.Utf8String);
+        int home = client.BucketOf("site-1/sensor-1");
+        ISeriesBucketGrain<string> wrong = client.Bucket((home + 1) % Cluster.BucketCount);
+        BucketStatus before = await wrong.GetStatusAsync();
+
+        var batch = new[] { new Observation<string>("site-1/sensor-1", ClusterScenario.Start, 5) };
+        ArgumentException error = await Assert.ThrowsAnyAsync<ArgumentException>(() => wrong.PostAsync(Guid.NewGuid(), batch));
+
+        Assert.Contains("BucketCount", error.Message, StringComparison.Ordinal);
+        BucketStatus after = await wrong.GetStatusAsync();
+        Assert.Equal(before.Sequence, after.Sequence);
+        Assert.Equal(before.Counters, after.Counters);
+    }
+
+    [Fact]
+    public async Task PostBatchAsync_NonFiniteQuantity_ThrowsBeforeSendingAnything()
+    {
+        await using ForecastClusterClient<string> client = await ForecastCluster.ConnectAsync(_cluster.Client, Cluster, SnapshotKeyCodecs.Utf8String);
+        var batch = new[]
+        {
+            new Observation<string>("site-2/sensor-2", ClusterScenario.Start, 5),
+            new Observation<string>("site-4/sensor-4", ClusterScenario.Start, double.NaN),
+        };
+
+        await Assert.ThrowsAsync<ArgumentOutOfRangeException>(() => client.PostBatchAsync(batch).AsTask());
+
+        EngineCounters counters = await client.GetCountersAsync();
+        Assert.Equal(0, counters.Observations);
+        Assert.Equal(0, counters.ActiveSeries);
+    }
+
+    private void SqliteCleanup()
+    {
+        Microsoft.Data.Sqlite.SqliteConnection.ClearAllPools();
+        try
+        {
+            Directory.Delete(_directory, recursive: true);
+        }
+        catch (IOException)
+        {
+        }
+    }
+
+    private sealed class Collector(Dictionary<string, ForecastUpdate<string>> last) : IObserver<ForecastUpdate<string>>
+    {
+        public void OnCompleted()
+        {
+        }
+
+        public void OnError(Exception error)
+        {
+        }
+
+        public void OnNext(ForecastUpdate<string> value)
+        {
+            lock (last)
+            {
+                if (!last.TryGetValue(value.Key, out ForecastUpdate<string> seen) || value.Period > seen.Period || (value.Period == seen.Period && value.IsRestatement))
+                {
+                    last[value.Key] = value;
+                }
+            }
+        }
+    }
+}

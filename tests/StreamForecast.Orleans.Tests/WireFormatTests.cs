@@ -1,0 +1,43 @@
+using Microsoft.Extensions.DependencyInjection;
+using Orleans.Serialization;
+using StreamForecast.Alerts;
+using StreamForecast.Streaming;
+
+namespace StreamForecast.Orleans.Tests;
+
+public sealed class WireFormatTests
+{
+    private static readonly Serializer Serializer = new ServiceCollection().AddSerializer().BuildServiceProvider().GetRequiredService<Serializer>();
+
+    private static T RoundTrip<T>(T value) => Serializer.Deserialize<T>(Serializer.SerializeToArray(value))!;
+
+    [Fact]
+    public void ForecastUpdate_RoundTrip_EqualsOriginal()
+    {
+        var errors = new ErrorSummary(12, -3.5, 2.25, 2.1, 7.5, -0.29, double.NaN, 0.8, -1.55, 0.4, 2.8);
+        var update = new ForecastUpdate<string>(
+            "north/rye", 41, new DateTimeOffset(2026, 3, 2, 0, 0, 0, TimeSpan.FromHours(1)), 17, false, 15.5, 1.5,
+            new ForecastPoint(1, 16, 12.1, 19.9), new ForecastPoint(4, 16, 9.2, 22.8), errors, "MA(4)", true);
+
+        Assert.Equal(update, RoundTrip(update));
+    }
+
+    [Fact]
+    public void DriftAlert_RoundTrip_EqualsOriginal()
+    {
+        var transition = new DriftTransition(DriftTransitionKind.Raised, DriftRuleKind.Cusum, 3, DriftDirection.UnderForecast, DriftSeverity.Warning, 5.2, 5, 30, DriftCloseReason.None);
+        var alert = new DriftAlert<long>(77, 9, DateTimeOffset.UnixEpoch, 1, "CUSUM(k=0.5,h=5)", transition, default);
+
+        Assert.Equal(alert, RoundTrip(alert));
+    }
+
+    [Fact]
+    public void ObservationAndFault_RoundTrip_EqualOriginals()
+    {
+        var observation = new Observation<string>("dock-a", DateTimeOffset.UnixEpoch.AddHours(3), 12.5, "evt-9");
+        var fault = new SeriesFault<string>("dock-a", 4, SeriesFaultKind.ActualRejected, "negative");
+
+        Assert.Equal(observation, RoundTrip(observation));
+        Assert.Equal(fault, RoundTrip(fault));
+    }
+}
