@@ -7,54 +7,85 @@ using StreamForecast.Streaming;
 namespace StreamForecast.Sqlite;
 
 /// <summary>
-/// Keeps engine checkpoints in one SQLite database file: each save is one row written in a transaction together with
-/// the deletion of rows beyond the retention count, so a checkpoint is either wholly stored or absent.
+/// Keeps engine checkpoints in one SQLite database file, optionally as several named streams side by side: each save
+/// is one row written in a transaction together with the deletion of the stream's rows beyond the retention count, so
+/// a checkpoint is either wholly stored or absent.
 /// </summary>
 /// <remarks>
 /// <para><b>File.</b> The file is created, with its schema, the first time the store touches it. The schema is
 /// versioned with SQLite's <c>user_version</c> header field (version <see cref="SchemaVersion"/>) and the file is
 /// marked with an <c>application_id</c> (<see cref="ApplicationId"/>); a file of a newer schema version, a file
 /// belonging to another application, or a non-empty database without the mark is refused with an
-/// <see cref="InvalidDataException"/> rather than changed.</para>
-/// <para><b>Rows.</b> Table <c>checkpoints</c>: <c>sequence</c> (1, 2, 3… in save order), <c>input_position</c>,
-/// <c>snapshot_length</c>, <c>snapshot_sha256</c> and <c>snapshot</c>. The length and SHA-256 are checked on load,
-/// so a damaged row is detected and skipped: loading falls back to the next older checkpoint and reports the skipped
-/// one in <see cref="Checkpoint.Rejected"/>, whose locations read <c>path#sequence</c>.</para>
+/// <see cref="InvalidDataException"/> rather than changed. A version-1 file (written before streams existed) is
+/// upgraded in place, in one transaction, the first time a store opens it: its rows become stream "". The upgrade
+/// is one-way: a StreamForecast.Sqlite that reads only version 1 refuses the file afterwards, so upgrade every
+/// process that shares a file before any of them opens it with this version.</para>
+/// <para><b>Rows.</b> Table <c>checkpoints</c>: <c>sequence</c> (1, 2, 3… in save order across the whole file),
+/// <c>input_position</c>, <c>snapshot_length</c>, <c>snapshot_sha256</c>, <c>snapshot</c> and <c>stream</c> (text,
+/// "" by default), with an index on (<c>stream</c>, <c>sequence</c>). A store reads, writes and prunes only the rows
+/// of its <see cref="SqliteCheckpointStoreOptions.StreamName"/>; the retention count applies per stream. The length and
+/// SHA-256 are checked on load, so a damaged row is detected and skipped: loading falls back to the next older
+/// checkpoint of the stream and reports the skipped one in <see cref="Checkpoint.Rejected"/>. Locations read
+/// <c>path#sequence</c> for stream "" and <c>path[stream]#sequence</c> otherwise.</para>
 /// <para><b>Durability.</b> SQLite's default rollback journal with <c>synchronous=FULL</c>: a committed save
-/// survives a crash or power failure; an interrupted one is rolled back the next time the file is opened.</para>
-/// <para><b>Thread safety.</b> Thread-safe within one instance: saves run one at a time, loads run alongside them,
-/// each on its own connection. Use one instance (one process) per file. Dispose the store when done with it (it holds
-/// a semaphore); saving after that throws <see cref="ObjectDisposedException"/>.</para>
+/// survives a crash or power failure; an interrupted one is rolled back the next time the file is opened. The store
+/// does not switch the file to write-ahead logging: writers are serialised in either mode, loads (made once, when an
+/// engine starts) gain little from reading beside a writer, and with the rollback journal the database stays a
+/// single file that can be copied on its own, without the <c>-wal</c> and <c>-shm</c> files that WAL adds.</para>
+/// <para><b>Sharing a file.</b> Any number of stores, in one process or in several on the same machine, may use one
+/// file at once, each with its own stream. Every save is a <c>BEGIN IMMEDIATE</c> transaction, so writers take the
+/// file's write lock one at a time; a store that finds the file locked waits for it (SQLite's busy timeout and
+/// Microsoft.Data.Sqlite's retries, 30 seconds in all) instead of failing, and only a lock held longer than that
+/// surfaces as a <see cref="SqliteException"/> (SQLITE_BUSY). SQLite's file locks are not reliable on network file
+/// systems: keep a shared file on a local disk. Two stores given the same stream name share that stream:
+/// <see cref="SaveAsync"/> is then last-writer-wins, and <see cref="TrySaveAsync"/> detects the other writer.</para>
+/// <para><b>Thread safety.</b> Thread-safe: within one instance saves run one at a time and loads run alongside them,
+/// each on its own connection; across instances and processes the file's locks keep transactions apart. Dispose the
+/// store when done with it (it holds a semaphore); saving after that throws <see cref="ObjectDisposedException"/>.</para>
 /// </remarks>
-public sealed class SqliteCheckpointStore : ICheckpointStore, IDisposable
+public sealed class SqliteCheckpointStore : IConditionalCheckpointStore, IDisposable
 {
-    /// <summary>The schema version this store writes and reads.</summary>
-    public const int SchemaVersion = 1;
+    /// <summary>The schema version this store writes and reads; version 1 files are upgraded to it when opened.</summary>
+    public const int SchemaVersion = 2;
 
     /// <summary>The value of SQLite's <c>application_id</c> header field in a checkpoint file (the ASCII bytes "SFcp").</summary>
     public const int ApplicationId = 0x53466370;
 
+    // How long a statement waits for another connection's lock before failing with SQLITE_BUSY.
+    private const int LockWaitSeconds = 30;
+
+    // SQLite result codes (https://www.sqlite.org/rescode.html) for a lock held by another connection.
+    private const int SqliteBusy = 5;
+    private const int SqliteLocked = 6;
+
     private readonly SqliteCheckpointStoreOptions _options;
     private readonly SemaphoreSlim _gate = new(1, 1);
     private readonly string _connectionString;
+    private readonly string _locationPrefix;
+    private readonly string _streamDescription;
     private volatile bool _schemaReady;
 
     /// <summary>Creates a store over a database file, which is created (with its directory) when first used if missing.</summary>
-    /// <param name="databasePath">The database file; used only by this store.</param>
-    /// <param name="options">Retention and size limit; <see cref="SqliteCheckpointStoreOptions.Default"/> when null.</param>
+    /// <param name="databasePath">The database file; it may be shared with other stores that use other streams.</param>
+    /// <param name="options">Retention, size limit and stream name; <see cref="SqliteCheckpointStoreOptions.Default"/> when null.</param>
     /// <exception cref="ArgumentException"><paramref name="databasePath"/> is null, empty or white space.</exception>
     public SqliteCheckpointStore(string databasePath, SqliteCheckpointStoreOptions? options = null)
     {
         ArgumentException.ThrowIfNullOrWhiteSpace(databasePath);
         DatabasePath = Path.GetFullPath(databasePath);
         _options = options ?? SqliteCheckpointStoreOptions.Default;
+        string stream = _options.StreamName;
+        _locationPrefix = stream.Length == 0 ? DatabasePath : $"{DatabasePath}[{stream}]";
+        _streamDescription = stream.Length == 0 ? $"'{DatabasePath}'" : $"stream '{stream}' of '{DatabasePath}'";
 
         // No pooling: a checkpoint is written every few minutes, and an unpooled connection releases the file when closed.
+        // DefaultTimeout bounds Microsoft.Data.Sqlite's own retries on SQLITE_BUSY, including the implicit BEGIN and COMMIT.
         _connectionString = new SqliteConnectionStringBuilder
         {
             DataSource = DatabasePath,
             Mode = SqliteOpenMode.ReadWriteCreate,
             Pooling = false,
+            DefaultTimeout = LockWaitSeconds,
         }.ToString();
     }
 
@@ -65,8 +96,8 @@ public sealed class SqliteCheckpointStore : ICheckpointStore, IDisposable
     public SqliteCheckpointStoreOptions Options => _options;
 
     /// <summary>
-    /// Saves a checkpoint as a new row and deletes all but the newest <see cref="SqliteCheckpointStoreOptions.RetainCount"/>
-    /// rows, in one transaction.
+    /// Saves a checkpoint as a new row of the store's stream and deletes all but the stream's newest
+    /// <see cref="SqliteCheckpointStoreOptions.RetainCount"/> rows, in one transaction.
     /// </summary>
     /// <param name="snapshot">The snapshot's bytes.</param>
     /// <param name="inputPosition">The input position the snapshot accounts for, ≥ 0.</param>
@@ -75,78 +106,85 @@ public sealed class SqliteCheckpointStore : ICheckpointStore, IDisposable
     /// <exception cref="ArgumentOutOfRangeException"><paramref name="inputPosition"/> is negative.</exception>
     /// <exception cref="ArgumentException">The snapshot is empty or longer than <see cref="SqliteCheckpointStoreOptions.MaxSnapshotLength"/>.</exception>
     /// <exception cref="InvalidDataException">The file is not a checkpoint database this version can use.</exception>
-    /// <exception cref="SqliteException">SQLite failed (disk full, file locked...); no checkpoint was added.</exception>
+    /// <exception cref="SqliteException">SQLite failed (disk full, file locked by another writer for more than 30 seconds...); no checkpoint was added.</exception>
     /// <exception cref="ObjectDisposedException">The store has been disposed.</exception>
-    /// <remarks>Cost: one SHA-256 over the snapshot, one row insert, one delete, one synchronous commit. Saves are serialised.</remarks>
+    /// <remarks>
+    /// Cost: one SHA-256 over the snapshot, one row insert, one delete, one synchronous commit. Saves of one instance
+    /// are serialised; saves of other instances sharing the file wait for the file's write lock.
+    /// </remarks>
     public async ValueTask SaveAsync(ReadOnlyMemory<byte> snapshot, long inputPosition, CancellationToken cancellationToken = default)
     {
         ArgumentOutOfRangeException.ThrowIfNegative(inputPosition);
-        if (snapshot.IsEmpty || snapshot.Length > _options.MaxSnapshotLength)
-        {
-            throw new ArgumentException(
-                string.Create(CultureInfo.InvariantCulture, $"The snapshot is {snapshot.Length} bytes; a checkpoint holds 1 to {_options.MaxSnapshotLength} bytes (SqliteCheckpointStoreOptions.MaxSnapshotLength)."),
-                nameof(snapshot));
-        }
-
-        byte[] hash = SHA256.HashData(snapshot.Span);
-        byte[] bytes = snapshot.ToArray();
-        await _gate.WaitAsync(cancellationToken).ConfigureAwait(false);
-        try
-        {
-            using SqliteConnection connection = await OpenAsync(cancellationToken).ConfigureAwait(false);
-            using SqliteTransaction transaction = connection.BeginTransaction(deferred: false);
-            using (SqliteCommand insert = connection.CreateCommand())
-            {
-                insert.Transaction = transaction;
-                insert.CommandText =
-                    "INSERT INTO checkpoints (input_position, snapshot_length, snapshot_sha256, snapshot) VALUES ($position, $length, $hash, $snapshot)";
-                insert.Parameters.AddWithValue("$position", inputPosition);
-                insert.Parameters.AddWithValue("$length", (long)bytes.Length);
-                insert.Parameters.AddWithValue("$hash", hash);
-                insert.Parameters.AddWithValue("$snapshot", bytes);
-                await insert.ExecuteNonQueryAsync(cancellationToken).ConfigureAwait(false);
-            }
-
-            using (SqliteCommand prune = connection.CreateCommand())
-            {
-                prune.Transaction = transaction;
-                prune.CommandText = "DELETE FROM checkpoints WHERE sequence NOT IN (SELECT sequence FROM checkpoints ORDER BY sequence DESC LIMIT $keep)";
-                prune.Parameters.AddWithValue("$keep", _options.RetainCount);
-                await prune.ExecuteNonQueryAsync(cancellationToken).ConfigureAwait(false);
-            }
-
-            cancellationToken.ThrowIfCancellationRequested();
-            await transaction.CommitAsync(CancellationToken.None).ConfigureAwait(false);
-        }
-        finally
-        {
-            _gate.Release();
-        }
+        ValidateSnapshot(snapshot);
+        bool saved = await SaveCoreAsync(snapshot, inputPosition, conditional: false, expectedLatestPosition: null, cancellationToken).ConfigureAwait(false);
+        System.Diagnostics.Debug.Assert(saved, "An unconditional save always stores its checkpoint.");
     }
 
     /// <summary>
-    /// Loads the newest checkpoint whose length and SHA-256 match its bytes, falling back to older rows.
+    /// Saves a checkpoint as <see cref="SaveAsync"/> does, but only if the stream's newest valid checkpoint accounts for
+    /// <paramref name="expectedLatestPosition"/>; the comparison, the insert and the pruning are one transaction.
+    /// </summary>
+    /// <param name="snapshot">The snapshot's bytes.</param>
+    /// <param name="inputPosition">The input position the snapshot accounts for, ≥ 0.</param>
+    /// <param name="expectedLatestPosition">
+    /// The input position of the stream's newest checkpoint that passes validation (the one <see cref="LoadLatestAsync"/>
+    /// returns), ≥ 0; or <see langword="null"/> to save only when the stream holds no valid checkpoint (no row at all,
+    /// or only damaged rows, the case in which <see cref="LoadLatestAsync"/> throws).
+    /// </param>
+    /// <param name="cancellationToken">Cancels the save before the commit; the stored checkpoints are then unchanged.</param>
+    /// <returns>
+    /// <see langword="true"/> once the transaction has committed; <see langword="false"/> when the expectation did not
+    /// match, in which case nothing was written or deleted.
+    /// </returns>
+    /// <exception cref="ArgumentOutOfRangeException"><paramref name="inputPosition"/> or <paramref name="expectedLatestPosition"/> is negative.</exception>
+    /// <exception cref="ArgumentException">The snapshot is empty or longer than <see cref="SqliteCheckpointStoreOptions.MaxSnapshotLength"/>.</exception>
+    /// <exception cref="InvalidDataException">The file is not a checkpoint database this version can use.</exception>
+    /// <exception cref="SqliteException">SQLite failed (disk full, file locked by another writer for more than 30 seconds...); no checkpoint was added.</exception>
+    /// <exception cref="ObjectDisposedException">The store has been disposed.</exception>
+    /// <remarks>
+    /// <para><b>Newest.</b> Damaged rows are skipped exactly as <see cref="LoadLatestAsync"/> skips them, so a position
+    /// just loaded is always a matching expectation: when the newest row is damaged and the load fell back to an older
+    /// checkpoint, the older checkpoint's position matches and the damaged row's position does not.</para>
+    /// <para>Cost: that of <see cref="SaveAsync"/>, plus reading and hashing the stream's newest stored snapshot (and
+    /// older ones only while the newer are damaged) inside the write transaction.</para>
+    /// <para><b>Thread safety.</b> Atomic with respect to every save to the file, from this instance, other instances
+    /// or other processes: of several conditional saves made with the same expectation, at most one returns
+    /// <see langword="true"/>.</para>
+    /// </remarks>
+    public async ValueTask<bool> TrySaveAsync(ReadOnlyMemory<byte> snapshot, long inputPosition, long? expectedLatestPosition, CancellationToken cancellationToken = default)
+    {
+        ArgumentOutOfRangeException.ThrowIfNegative(inputPosition);
+        if (expectedLatestPosition is long expected)
+        {
+            ArgumentOutOfRangeException.ThrowIfNegative(expected, nameof(expectedLatestPosition));
+        }
+
+        ValidateSnapshot(snapshot);
+        return await SaveCoreAsync(snapshot, inputPosition, conditional: true, expectedLatestPosition, cancellationToken).ConfigureAwait(false);
+    }
+
+    /// <summary>
+    /// Loads the stream's newest checkpoint whose length and SHA-256 match its bytes, falling back to older rows.
     /// </summary>
     /// <param name="cancellationToken">Cancels the load.</param>
-    /// <returns>The checkpoint, with any newer rows skipped; null when the database holds no checkpoint (a new file).</returns>
+    /// <returns>The checkpoint, with any newer rows skipped; null when the stream holds no checkpoint (a new file or stream).</returns>
     /// <exception cref="InvalidDataException">
-    /// Checkpoints exist but none is usable (the message lists each and why), or the file is not a checkpoint database
-    /// this version can use (a newer schema version, another application's file, a damaged file).
+    /// Checkpoints of the stream exist but none is usable (the message lists each and why), or the file is not a
+    /// checkpoint database this version can use (a newer schema version, another application's file, a damaged file).
     /// </exception>
-    /// <remarks>Reads rows newest first and stops at the first valid one; usually reads one snapshot.</remarks>
+    /// <exception cref="SqliteException">Another connection held the file locked for more than 30 seconds (SQLITE_BUSY).</exception>
+    /// <remarks>Reads the stream's rows newest first and stops at the first valid one; usually reads one snapshot.</remarks>
     public async ValueTask<Checkpoint?> LoadLatestAsync(CancellationToken cancellationToken = default)
     {
         var rejected = new List<CheckpointRejection>();
         try
         {
             using SqliteConnection connection = await OpenAsync(cancellationToken).ConfigureAwait(false);
-            using SqliteCommand select = connection.CreateCommand();
-            select.CommandText = "SELECT sequence, input_position, snapshot_length, snapshot_sha256, snapshot FROM checkpoints ORDER BY sequence DESC";
+            using SqliteCommand select = SelectNewestFirst(connection, transaction: null);
             using SqliteDataReader reader = await select.ExecuteReaderAsync(cancellationToken).ConfigureAwait(false);
             while (await reader.ReadAsync(cancellationToken).ConfigureAwait(false))
             {
-                long sequence = reader.GetInt64(0);
-                string location = string.Create(CultureInfo.InvariantCulture, $"{DatabasePath}#{sequence}");
+                string location = Location(reader.GetInt64(0));
                 if (TryReadRow(reader, out long position, out byte[]? snapshot, out string? problem))
                 {
                     return new Checkpoint(snapshot, position, location, rejected);
@@ -155,7 +193,7 @@ public sealed class SqliteCheckpointStore : ICheckpointStore, IDisposable
                 rejected.Add(new CheckpointRejection(location, problem));
             }
         }
-        catch (SqliteException ex)
+        catch (SqliteException ex) when (!IsLockTimeout(ex))
         {
             throw new InvalidDataException($"The checkpoint database '{DatabasePath}' could not be read: {ex.Message}", ex);
         }
@@ -166,7 +204,7 @@ public sealed class SqliteCheckpointStore : ICheckpointStore, IDisposable
         }
 
         var message = new StringBuilder();
-        message.Append(CultureInfo.InvariantCulture, $"None of the {rejected.Count} checkpoints in '{DatabasePath}' is usable:");
+        message.Append(CultureInfo.InvariantCulture, $"None of the {rejected.Count} checkpoints in {_streamDescription} is usable:");
         foreach (CheckpointRejection rejection in rejected)
         {
             message.Append(CultureInfo.InvariantCulture, $" {rejection.Location}: {rejection.Reason}");
@@ -177,6 +215,98 @@ public sealed class SqliteCheckpointStore : ICheckpointStore, IDisposable
 
     /// <summary>Releases the semaphore that serialises saves. The file is not touched. Idempotent.</summary>
     public void Dispose() => _gate.Dispose();
+
+    private void ValidateSnapshot(ReadOnlyMemory<byte> snapshot)
+    {
+        if (snapshot.IsEmpty || snapshot.Length > _options.MaxSnapshotLength)
+        {
+            throw new ArgumentException(
+                string.Create(CultureInfo.InvariantCulture, $"The snapshot is {snapshot.Length} bytes; a checkpoint holds 1 to {_options.MaxSnapshotLength} bytes (SqliteCheckpointStoreOptions.MaxSnapshotLength)."),
+                nameof(snapshot));
+        }
+    }
+
+    private async ValueTask<bool> SaveCoreAsync(ReadOnlyMemory<byte> snapshot, long inputPosition, bool conditional, long? expectedLatestPosition, CancellationToken cancellationToken)
+    {
+        byte[] hash = SHA256.HashData(snapshot.Span);
+        byte[] bytes = snapshot.ToArray();
+        await _gate.WaitAsync(cancellationToken).ConfigureAwait(false);
+        try
+        {
+            using SqliteConnection connection = await OpenAsync(cancellationToken).ConfigureAwait(false);
+            using SqliteTransaction transaction = connection.BeginTransaction(deferred: false);
+            if (conditional)
+            {
+                long? latest = await NewestValidPositionAsync(connection, transaction, cancellationToken).ConfigureAwait(false);
+                if (latest != expectedLatestPosition)
+                {
+                    return false; // disposing the transaction rolls it back; nothing was written
+                }
+            }
+
+            using (SqliteCommand insert = connection.CreateCommand())
+            {
+                insert.Transaction = transaction;
+                insert.CommandText =
+                    "INSERT INTO checkpoints (stream, input_position, snapshot_length, snapshot_sha256, snapshot) VALUES ($stream, $position, $length, $hash, $snapshot)";
+                insert.Parameters.AddWithValue("$stream", _options.StreamName);
+                insert.Parameters.AddWithValue("$position", inputPosition);
+                insert.Parameters.AddWithValue("$length", (long)bytes.Length);
+                insert.Parameters.AddWithValue("$hash", hash);
+                insert.Parameters.AddWithValue("$snapshot", bytes);
+                await insert.ExecuteNonQueryAsync(cancellationToken).ConfigureAwait(false);
+            }
+
+            using (SqliteCommand prune = connection.CreateCommand())
+            {
+                prune.Transaction = transaction;
+                prune.CommandText = """
+                    DELETE FROM checkpoints WHERE stream = $stream AND sequence NOT IN
+                        (SELECT sequence FROM checkpoints WHERE stream = $stream ORDER BY sequence DESC LIMIT $keep)
+                    """;
+                prune.Parameters.AddWithValue("$stream", _options.StreamName);
+                prune.Parameters.AddWithValue("$keep", _options.RetainCount);
+                await prune.ExecuteNonQueryAsync(cancellationToken).ConfigureAwait(false);
+            }
+
+            cancellationToken.ThrowIfCancellationRequested();
+            await transaction.CommitAsync(CancellationToken.None).ConfigureAwait(false);
+            return true;
+        }
+        finally
+        {
+            _gate.Release();
+        }
+    }
+
+    private async Task<long?> NewestValidPositionAsync(SqliteConnection connection, SqliteTransaction transaction, CancellationToken cancellationToken)
+    {
+        using SqliteCommand select = SelectNewestFirst(connection, transaction);
+        using SqliteDataReader reader = await select.ExecuteReaderAsync(cancellationToken).ConfigureAwait(false);
+        while (await reader.ReadAsync(cancellationToken).ConfigureAwait(false))
+        {
+            if (TryReadRow(reader, out long position, out _, out _))
+            {
+                return position;
+            }
+        }
+
+        return null;
+    }
+
+    private SqliteCommand SelectNewestFirst(SqliteConnection connection, SqliteTransaction? transaction)
+    {
+        SqliteCommand select = connection.CreateCommand();
+        select.Transaction = transaction;
+        select.CommandText =
+            "SELECT sequence, input_position, snapshot_length, snapshot_sha256, snapshot FROM checkpoints WHERE stream = $stream ORDER BY sequence DESC";
+        select.Parameters.AddWithValue("$stream", _options.StreamName);
+        return select;
+    }
+
+    private string Location(long sequence) => string.Create(CultureInfo.InvariantCulture, $"{_locationPrefix}#{sequence}");
+
+    private static bool IsLockTimeout(SqliteException ex) => ex.SqliteErrorCode is SqliteBusy or SqliteLocked;
 
     private bool TryReadRow(SqliteDataReader reader, out long position, [System.Diagnostics.CodeAnalysis.NotNullWhen(true)] out byte[]? snapshot, [System.Diagnostics.CodeAnalysis.NotNullWhen(false)] out string? problem)
     {
@@ -235,6 +365,15 @@ public sealed class SqliteCheckpointStore : ICheckpointStore, IDisposable
         try
         {
             await connection.OpenAsync(cancellationToken).ConfigureAwait(false);
+
+            // SQLite's own busy handler: a statement that meets another connection's lock sleeps in short, growing
+            // steps and retries, up to the same limit as Microsoft.Data.Sqlite's retries, instead of failing at once.
+            using (SqliteCommand busy = connection.CreateCommand())
+            {
+                busy.CommandText = string.Create(CultureInfo.InvariantCulture, $"PRAGMA busy_timeout = {LockWaitSeconds * 1000}");
+                await busy.ExecuteNonQueryAsync(cancellationToken).ConfigureAwait(false);
+            }
+
             if (!_schemaReady)
             {
                 EnsureSchema(connection);
@@ -262,19 +401,18 @@ public sealed class SqliteCheckpointStore : ICheckpointStore, IDisposable
                 throw new InvalidDataException($"'{DatabasePath}' is an SQLite database that already holds other tables; checkpoints need a file of their own.");
             }
 
-            using SqliteCommand create = connection.CreateCommand();
-            create.Transaction = transaction;
-            create.CommandText = string.Create(CultureInfo.InvariantCulture, $"""
+            Execute(connection, transaction, string.Create(CultureInfo.InvariantCulture, $"""
                 CREATE TABLE checkpoints (
                     sequence INTEGER PRIMARY KEY AUTOINCREMENT,
                     input_position INTEGER NOT NULL,
                     snapshot_length INTEGER NOT NULL,
                     snapshot_sha256 BLOB NOT NULL,
-                    snapshot BLOB NOT NULL);
+                    snapshot BLOB NOT NULL,
+                    stream TEXT NOT NULL DEFAULT '');
+                CREATE INDEX checkpoints_stream_sequence ON checkpoints (stream, sequence);
                 PRAGMA application_id = {ApplicationId};
                 PRAGMA user_version = {SchemaVersion};
-                """);
-            create.ExecuteNonQuery();
+                """));
             transaction.Commit();
             return;
         }
@@ -291,13 +429,31 @@ public sealed class SqliteCheckpointStore : ICheckpointStore, IDisposable
                 $"The checkpoint database '{DatabasePath}' has schema version {version}, newer than version {SchemaVersion} that this StreamForecast.Sqlite reads. Use the newer StreamForecast.Sqlite that wrote it, or another file."));
         }
 
-        if (version != SchemaVersion)
+        if (version == 1)
+        {
+            // Version 1 had no streams: its rows become stream "". The column goes last, so an upgraded table has the
+            // same columns, in the same order, as one created at version 2. All of it commits or none of it does.
+            Execute(connection, transaction, string.Create(CultureInfo.InvariantCulture, $"""
+                ALTER TABLE checkpoints ADD COLUMN stream TEXT NOT NULL DEFAULT '';
+                CREATE INDEX checkpoints_stream_sequence ON checkpoints (stream, sequence);
+                PRAGMA user_version = {SchemaVersion};
+                """));
+        }
+        else if (version != SchemaVersion)
         {
             throw new InvalidDataException(string.Create(CultureInfo.InvariantCulture,
-                $"The checkpoint database '{DatabasePath}' has schema version {version}, which this StreamForecast.Sqlite does not know (it reads version {SchemaVersion})."));
+                $"The checkpoint database '{DatabasePath}' has schema version {version}, which this StreamForecast.Sqlite does not know (it reads versions 1 and {SchemaVersion})."));
         }
 
         transaction.Commit();
+    }
+
+    private static void Execute(SqliteConnection connection, SqliteTransaction transaction, string sql)
+    {
+        using SqliteCommand command = connection.CreateCommand();
+        command.Transaction = transaction;
+        command.CommandText = sql;
+        command.ExecuteNonQuery();
     }
 
     private static long Scalar(SqliteConnection connection, SqliteTransaction transaction, string sql)

@@ -1,3 +1,5 @@
+using System.Globalization;
+
 namespace StreamForecast.Sqlite;
 
 /// <summary>Settings of a <see cref="SqliteCheckpointStore"/>.</summary>
@@ -16,14 +18,25 @@ public sealed record SqliteCheckpointStoreOptions
     /// <summary>The largest limit accepted: 1,000,000,000 bytes, SQLite's default limit on one value.</summary>
     public const long MaxSnapshotLengthLimit = 1_000_000_000;
 
+    /// <summary>The longest stream name accepted: 256 characters.</summary>
+    public const int MaxStreamNameLength = 256;
+
     /// <summary>Creates SQLite checkpoint store options.</summary>
     /// <param name="retainCount">
     /// How many of the newest checkpoints to keep, 1 to 1,000; default 3. Older rows are deleted in the same
     /// transaction as each save. Keep at least 2 so that a damaged newest checkpoint has a fallback.
     /// </param>
     /// <param name="maxSnapshotLength">The largest snapshot saved or loaded, in bytes, 1 to 1,000,000,000; default 512 MiB.</param>
-    /// <exception cref="ArgumentOutOfRangeException">A value is out of range.</exception>
-    public SqliteCheckpointStoreOptions(int retainCount = DefaultRetainCount, long maxSnapshotLength = DefaultMaxSnapshotLength)
+    /// <param name="streamName">
+    /// The stream whose checkpoints the store reads, writes and prunes, so that several stores (in one process or
+    /// several) can keep separate checkpoints in one file; default "" (the stream of files written before streams
+    /// existed). 0 to 256 characters, no control characters and no unpaired surrogates; compared ordinally
+    /// (case-sensitive).
+    /// </param>
+    /// <exception cref="ArgumentOutOfRangeException"><paramref name="retainCount"/> or <paramref name="maxSnapshotLength"/> is out of range.</exception>
+    /// <exception cref="ArgumentNullException"><paramref name="streamName"/> is null.</exception>
+    /// <exception cref="ArgumentException"><paramref name="streamName"/> is longer than 256 characters or holds a control character or an unpaired surrogate.</exception>
+    public SqliteCheckpointStoreOptions(int retainCount = DefaultRetainCount, long maxSnapshotLength = DefaultMaxSnapshotLength, string streamName = "")
     {
         if (retainCount is < 1 or > MaxRetainCount)
         {
@@ -35,8 +48,11 @@ public sealed record SqliteCheckpointStoreOptions
             throw new ArgumentOutOfRangeException(nameof(maxSnapshotLength), maxSnapshotLength, "A snapshot may be limited to between 1 and 1,000,000,000 bytes (SQLite's default limit on one value).");
         }
 
+        ArgumentNullException.ThrowIfNull(streamName);
+        ValidateStreamName(streamName);
         RetainCount = retainCount;
         MaxSnapshotLength = maxSnapshotLength;
+        StreamName = streamName;
     }
 
     /// <summary>The options with every default.</summary>
@@ -47,4 +63,39 @@ public sealed record SqliteCheckpointStoreOptions
 
     /// <summary>The largest snapshot saved or loaded, in bytes.</summary>
     public long MaxSnapshotLength { get; }
+
+    /// <summary>The stream whose checkpoints the store reads, writes and prunes; "" by default.</summary>
+    public string StreamName { get; }
+
+    private static void ValidateStreamName(string streamName)
+    {
+        if (streamName.Length > MaxStreamNameLength)
+        {
+            throw new ArgumentException(
+                string.Create(CultureInfo.InvariantCulture, $"The stream name is {streamName.Length} characters long; a stream name has at most {MaxStreamNameLength} characters."),
+                nameof(streamName));
+        }
+
+        for (int i = 0; i < streamName.Length; i++)
+        {
+            char c = streamName[i];
+            if (char.IsControl(c))
+            {
+                throw new ArgumentException(
+                    string.Create(CultureInfo.InvariantCulture, $"The stream name holds the control character U+{(int)c:X4} at index {i}; a stream name may hold any characters except control characters."),
+                    nameof(streamName));
+            }
+
+            if (char.IsHighSurrogate(c) && i + 1 < streamName.Length && char.IsLowSurrogate(streamName[i + 1]))
+            {
+                i++;
+            }
+            else if (char.IsSurrogate(c))
+            {
+                throw new ArgumentException(
+                    string.Create(CultureInfo.InvariantCulture, $"The stream name holds an unpaired surrogate U+{(int)c:X4} at index {i}; a stream name must be well-formed UTF-16, since it is stored as UTF-8."),
+                    nameof(streamName));
+            }
+        }
+    }
 }

@@ -6,7 +6,7 @@ using StreamForecast.Streaming;
 
 namespace StreamForecast.Hosting.Tests.Sqlite;
 
-public sealed class SqliteCheckpointStoreTests : IDisposable
+public sealed partial class SqliteCheckpointStoreTests : IDisposable
 {
     private readonly TempPath _temp = new();
 
@@ -119,7 +119,7 @@ public sealed class SqliteCheckpointStoreTests : IDisposable
 
         var ex = await Assert.ThrowsAsync<InvalidDataException>(async () => await store.LoadLatestAsync());
 
-        Assert.Contains("schema version 7, newer than version 1", ex.Message, StringComparison.Ordinal);
+        Assert.Contains($"schema version 7, newer than version {SqliteCheckpointStore.SchemaVersion}", ex.Message, StringComparison.Ordinal);
         Assert.Equal(7, Pragma(path, "user_version"));
     }
 
