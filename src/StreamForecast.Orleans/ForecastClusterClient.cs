@@ -31,7 +31,7 @@ public sealed class ForecastClusterClient<TKey> : IForecastEngine<TKey>, ISeries
     private readonly Publisher<ForecastUpdate<TKey>> _forecasts;
     private readonly Publisher<DriftAlert<TKey>> _alerts;
     private readonly Publisher<SeriesFault<TKey>> _faults;
-    private readonly long[] _lastSequence;
+    private readonly long[] _lastNumber;
     private readonly object _outputGate = new();
     private readonly CancellationTokenSource _stopping = new();
     private ISeriesBucketObserver<TKey>? _reference;
@@ -50,7 +50,7 @@ public sealed class ForecastClusterClient<TKey> : IForecastEngine<TKey>, ISeries
         _forecasts = new Publisher<ForecastUpdate<TKey>>(publishing);
         _alerts = new Publisher<DriftAlert<TKey>>(publishing);
         _faults = new Publisher<SeriesFault<TKey>>(publishing);
-        _lastSequence = new long[options.BucketCount];
+        _lastNumber = new long[options.BucketCount];
     }
 
     /// <summary>The cluster options this client uses (they must match the silos').</summary>
@@ -188,27 +188,27 @@ public sealed class ForecastClusterClient<TKey> : IForecastEngine<TKey>, ISeries
     /// <returns>A completed task.</returns>
     Task ISeriesBucketObserver<TKey>.OnOutputAsync(BucketOutput<TKey> output)
     {
-        if (output is null || (uint)output.Bucket >= (uint)_lastSequence.Length)
+        if (output is null || (uint)output.Bucket >= (uint)_lastNumber.Length)
         {
             return Task.CompletedTask;
         }
 
         lock (_outputGate)
         {
-            long last = _lastSequence[output.Bucket];
-            if (output.Sequence <= last)
+            long last = _lastNumber[output.Bucket];
+            if (output.Number <= last)
             {
                 _repeatedOutputs++;
                 return Task.CompletedTask;
             }
 
             // The first output seen from a bucket sets its baseline; later gaps are outputs lost in transit.
-            if (last != 0 && output.Sequence > last + 1)
+            if (last != 0 && output.Number > last + 1)
             {
-                _missedOutputs += output.Sequence - last - 1;
+                _missedOutputs += output.Number - last - 1;
             }
 
-            _lastSequence[output.Bucket] = output.Sequence;
+            _lastNumber[output.Bucket] = output.Number;
             foreach (ForecastUpdate<TKey> f in output.Forecasts)
             {
                 _forecasts.TryPublish(f);

@@ -27,6 +27,12 @@ internal sealed class BucketState<TKey>
 
     /// <summary>Subscribers and when their lease ends.</summary>
     [Id(5)] public List<BucketSubscriber<TKey>> Subscribers { get; set; } = [];
+
+    /// <summary>Outputs numbered so far (a call that produced nothing gets no number).</summary>
+    [Id(6)] public long Outputs { get; set; }
+
+    /// <summary>The newest output, sent again by the next activation in case the silo died before sending it.</summary>
+    [Id(7)] public BucketOutput<TKey>? LastOutput { get; set; }
 }
 
 /// <summary>One applied call id.</summary>
@@ -148,6 +154,9 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
         }
 
         LogActivated(_logger, _bucket, _table.Count, stored.Sequence);
+
+        // The previous activation may have died between storing its last output and sending it: send it again.
+        Publish();
         return Task.CompletedTask;
     }
 
@@ -288,8 +297,13 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
         state.Sequence = sequence;
         state.Series = WriteSeries();
         state.Counters = GetCounters();
+        bool hasOutput = TakeOutput(sequence);
         await StoreAsync().ConfigureAwait(true);
-        Publish(sequence);
+        if (hasOutput)
+        {
+            Publish();
+        }
+
         return new CallReceipt(_bucket, sequence, false, Counters.Observations - observationsBefore);
     }
 
@@ -307,17 +321,31 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
         }
     }
 
-    private void Publish(long sequence)
+    /// <summary>Moves the collected output, if any, into the state as the next numbered output (stored with the state).</summary>
+    private bool TakeOutput(long sequence)
     {
         if (_forecasts.Count == 0 && _alerts.Count == 0 && _faults.Count == 0)
+        {
+            return false;
+        }
+
+        BucketState<TKey> state = _state.State;
+        state.Outputs++;
+        state.LastOutput = new BucketOutput<TKey>(_bucket, state.Outputs, sequence, [.. _forecasts], [.. _alerts], [.. _faults]);
+        _forecasts.Clear();
+        _alerts.Clear();
+        _faults.Clear();
+        return true;
+    }
+
+    /// <summary>Sends the newest stored output to every live subscriber (one-way; receivers drop numbers they have seen).</summary>
+    private void Publish()
+    {
+        if (_state.State.LastOutput is not { } output)
         {
             return;
         }
 
-        var output = new BucketOutput<TKey>(_bucket, sequence, [.. _forecasts], [.. _alerts], [.. _faults]);
-        _forecasts.Clear();
-        _alerts.Clear();
-        _faults.Clear();
         DateTimeOffset now = _options.TimeProvider.GetUtcNow();
         foreach (BucketSubscriber<TKey> s in _state.State.Subscribers)
         {
@@ -364,6 +392,7 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
             state.Sequence++;
             state.Series = WriteSeries();
             state.Counters = GetCounters();
+            bool hasOutput = TakeOutput(state.Sequence);
             try
             {
                 await StoreAsync().ConfigureAwait(true);
@@ -373,7 +402,10 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
                 return;
             }
 
-            Publish(state.Sequence);
+            if (hasOutput)
+            {
+                Publish();
+            }
         }
     }
 

@@ -93,7 +93,7 @@ internal static class ClusterScenario
         while (reader.Read())
         {
             byte[] stored = reader.GetFieldValue<byte[]>(0);
-            BucketState<string> state = serializer.Deserialize<BucketState<string>>(stored.AsMemory(1));
+            BucketState<string> state = serializer.Deserialize<BucketState<string>>(stored.AsMemory(1))!;
             if (state.Series is null)
             {
                 continue;
