@@ -53,6 +53,7 @@ public class ClusterThroughputBenchmarks
         Directory.CreateDirectory(_directory);
         string path = Path.Combine(_directory, "buckets.db");
         var builder = new InProcessTestClusterBuilder(3);
+        builder.Options.ConfigureFileLogging = false; // no log files in the working directory
         builder.ConfigureSilo((_, silo) => silo
             .AddForecastBuckets(Options(), SnapshotKeyCodecs.Utf8String, s_cluster)
             .AddSqliteCheckpointGrainStorage(path));

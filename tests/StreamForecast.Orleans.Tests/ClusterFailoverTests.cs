@@ -27,6 +27,7 @@ public sealed class ClusterFailoverTests : IAsyncLifetime
     {
         Directory.CreateDirectory(_directory);
         var builder = new InProcessTestClusterBuilder(3);
+        builder.Options.ConfigureFileLogging = false; // no log files in the working directory
         string path = DatabasePath;
         builder.ConfigureSilo((_, silo) =>
         {

@@ -16,6 +16,7 @@ public sealed class StorageFailureTests : IAsyncLifetime
         Directory.CreateDirectory(_directory);
         string path = Path.Combine(_directory, "buckets.db");
         var builder = new InProcessTestClusterBuilder(1);
+        builder.Options.ConfigureFileLogging = false; // no log files in the working directory
         builder.ConfigureSilo((_, silo) => silo
             .AddForecastBuckets(ClusterScenario.EngineOptions(), SnapshotKeyCodecs.Utf8String, Cluster)
             .AddCheckpointGrainStorage((_, stream) => new FlakyStore(new SqliteCheckpointStore(path, new SqliteCheckpointStoreOptions(2, streamName: stream)))));
