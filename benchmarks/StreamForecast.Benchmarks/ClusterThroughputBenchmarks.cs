@@ -11,6 +11,8 @@ namespace StreamForecast.Benchmarks;
 /// flushed, so an invocation ends when every reading has been applied (and, in the cluster, stored). The cluster is the
 /// in-process test cluster of the tests: 3 silos on loopback, 24 buckets, grain state in one shared SQLite file.
 /// Each invocation continues the event time of the last one, so the series' state does not grow between iterations.
+/// <see cref="ThreeSiloClusterNotDurable"/> runs the same cluster with Orleans' in-memory grain storage, which loses a
+/// bucket when its silo dies (never use it for the buckets): the difference between the two is the cost of the durable writes.
 /// </summary>
 [MemoryDiagnoser]
 public class ClusterThroughputBenchmarks
@@ -46,7 +48,13 @@ public class ClusterThroughputBenchmarks
 
     /// <summary>Setup for the cluster: 3 silos, shared SQLite storage, one connected client.</summary>
     [GlobalSetup(Target = nameof(ThreeSiloCluster))]
-    public void SetupCluster()
+    public void SetupCluster() => StartCluster(durable: true);
+
+    /// <summary>Setup for the same cluster on Orleans' in-memory storage.</summary>
+    [GlobalSetup(Target = nameof(ThreeSiloClusterNotDurable))]
+    public void SetupClusterNotDurable() => StartCluster(durable: false);
+
+    private void StartCluster(bool durable)
     {
         Common();
         _directory = Path.Combine(Path.GetTempPath(), "sf-bench-cluster-" + Guid.NewGuid().ToString("N"));
@@ -54,15 +62,24 @@ public class ClusterThroughputBenchmarks
         string path = Path.Combine(_directory, "buckets.db");
         var builder = new InProcessTestClusterBuilder(3);
         builder.Options.ConfigureFileLogging = false; // no log files in the working directory
-        builder.ConfigureSilo((_, silo) => silo
-            .AddForecastBuckets(Options(), SnapshotKeyCodecs.Utf8String, s_cluster)
-            .AddSqliteCheckpointGrainStorage(path));
+        builder.ConfigureSilo((_, silo) =>
+        {
+            silo.AddForecastBuckets(Options(), SnapshotKeyCodecs.Utf8String, s_cluster);
+            if (durable)
+            {
+                silo.AddSqliteCheckpointGrainStorage(path);
+            }
+            else
+            {
+                silo.AddMemoryGrainStorage(ForecastClusterOptions.StorageName);
+            }
+        });
         _silos = builder.Build();
         _silos.DeployAsync().GetAwaiter().GetResult();
         _client = ForecastCluster.ConnectAsync(_silos.Client, s_cluster, SnapshotKeyCodecs.Utf8String).GetAwaiter().GetResult();
         for (int i = 0; i < 3; i++)
         {
-            ThreeSiloCluster();
+            RunAsync(_client).GetAwaiter().GetResult();
         }
     }
 
@@ -87,6 +104,10 @@ public class ClusterThroughputBenchmarks
     /// <summary>Post and flush through the cluster client: applied and stored by the bucket grains.</summary>
     [Benchmark(OperationsPerInvoke = Ops)]
     public void ThreeSiloCluster() => RunAsync(_client!).GetAwaiter().GetResult();
+
+    /// <summary>The same on in-memory grain storage (not durable; for the comparison only).</summary>
+    [Benchmark(OperationsPerInvoke = Ops)]
+    public void ThreeSiloClusterNotDurable() => RunAsync(_client!).GetAwaiter().GetResult();
 
     private static ForecastEngineOptions<string> Options() => new(
         new SeriesOptions(new StreamForecast.Forecasting.MovingAverageOptions(12), StreamForecast.Periods.PeriodCalendar.FixedInterval(TimeSpan.FromHours(1)),

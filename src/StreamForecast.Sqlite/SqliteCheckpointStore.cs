@@ -40,8 +40,9 @@ namespace StreamForecast.Sqlite;
 /// systems: keep a shared file on a local disk. Two stores given the same stream name share that stream:
 /// <see cref="SaveAsync"/> is then last-writer-wins, and <see cref="TrySaveAsync"/> detects the other writer.</para>
 /// <para><b>Thread safety.</b> Thread-safe: within one instance saves run one at a time and loads run alongside them,
-/// each on its own connection; across instances and processes the file's locks keep transactions apart. Dispose the
-/// store when done with it (it holds a semaphore); saving after that throws <see cref="ObjectDisposedException"/>.</para>
+/// each on its own connection; the saves of every instance on the same file in one process queue on one in-process
+/// gate (so they never sleep in SQLite's busy handler waiting for each other); across processes the file's locks keep
+/// transactions apart. Saving after <see cref="Dispose"/> throws <see cref="ObjectDisposedException"/>.</para>
 /// </remarks>
 public sealed class SqliteCheckpointStore : IConditionalCheckpointStore, IDisposable
 {
@@ -59,7 +60,12 @@ public sealed class SqliteCheckpointStore : IConditionalCheckpointStore, IDispos
     private const int SqliteLocked = 6;
 
     private readonly SqliteCheckpointStoreOptions _options;
-    private readonly SemaphoreSlim _gate = new(1, 1);
+    // One writer gate per database file and process, shared by every store on that file: writers of one process queue
+    // here, in order, instead of meeting on SQLite's file lock, whose busy handler sleeps (1 ms, then longer) between
+    // retries. Other processes still meet on the file lock. Never disposed: a file's gate lives as long as the process.
+    private static readonly System.Collections.Concurrent.ConcurrentDictionary<string, SemaphoreSlim> s_fileGates = new(StringComparer.Ordinal);
+    private readonly SemaphoreSlim _gate;
+    private int _disposed;
     private readonly string _connectionString;
     private readonly string _locationPrefix;
     private readonly string _streamDescription;
@@ -74,6 +80,7 @@ public sealed class SqliteCheckpointStore : IConditionalCheckpointStore, IDispos
         ArgumentException.ThrowIfNullOrWhiteSpace(databasePath);
         DatabasePath = Path.GetFullPath(databasePath);
         _options = options ?? SqliteCheckpointStoreOptions.Default;
+        _gate = s_fileGates.GetOrAdd(DatabasePath, static _ => new SemaphoreSlim(1, 1));
         string stream = _options.StreamName;
         _locationPrefix = stream.Length == 0 ? DatabasePath : $"{DatabasePath}[{stream}]";
         _streamDescription = stream.Length == 0 ? $"'{DatabasePath}'" : $"stream '{stream}' of '{DatabasePath}'";
@@ -109,8 +116,8 @@ public sealed class SqliteCheckpointStore : IConditionalCheckpointStore, IDispos
     /// <exception cref="SqliteException">SQLite failed (disk full, file locked by another writer for more than 30 seconds...); no checkpoint was added.</exception>
     /// <exception cref="ObjectDisposedException">The store has been disposed.</exception>
     /// <remarks>
-    /// Cost: one SHA-256 over the snapshot, one row insert, one delete, one synchronous commit. Saves of one instance
-    /// are serialised; saves of other instances sharing the file wait for the file's write lock.
+    /// Cost: one SHA-256 over the snapshot, one row insert, one delete, one synchronous commit. Saves to one file from
+    /// one process are serialised on an in-process gate; saves from other processes wait for the file's write lock.
     /// </remarks>
     public async ValueTask SaveAsync(ReadOnlyMemory<byte> snapshot, long inputPosition, CancellationToken cancellationToken = default)
     {
@@ -213,8 +220,8 @@ public sealed class SqliteCheckpointStore : IConditionalCheckpointStore, IDispos
         throw new InvalidDataException(message.ToString());
     }
 
-    /// <summary>Releases the semaphore that serialises saves. The file is not touched. Idempotent.</summary>
-    public void Dispose() => _gate.Dispose();
+    /// <summary>Ends this store: later saves throw <see cref="ObjectDisposedException"/>. The file is not touched. Idempotent.</summary>
+    public void Dispose() => Volatile.Write(ref _disposed, 1);
 
     private void ValidateSnapshot(ReadOnlyMemory<byte> snapshot)
     {
@@ -228,6 +235,7 @@ public sealed class SqliteCheckpointStore : IConditionalCheckpointStore, IDispos
 
     private async ValueTask<bool> SaveCoreAsync(ReadOnlyMemory<byte> snapshot, long inputPosition, bool conditional, long? expectedLatestPosition, CancellationToken cancellationToken)
     {
+        ObjectDisposedException.ThrowIf(Volatile.Read(ref _disposed) != 0, this);
         byte[] hash = SHA256.HashData(snapshot.Span);
         byte[] bytes = snapshot.ToArray();
         await _gate.WaitAsync(cancellationToken).ConfigureAwait(false);
