@@ -10,8 +10,11 @@ namespace StreamForecast.Orleans;
 /// <remarks>
 /// <para><b>Acceptance.</b> A post completes when every bucket it touched has applied it and stored the result. A call
 /// that fails for a transient reason (a silo died, a bucket is moving, a timeout) is retried with the same id, so a
-/// retry after a lost acknowledgement is recognised and not applied twice. An invalid observation throws before
-/// anything is sent.</para>
+/// retry after a lost acknowledgement is recognised and not applied twice. An invalid observation (no key, a quantity
+/// that is not finite, and, when the client was given the engine options, an event time too far ahead) throws before
+/// anything is sent. A post that fails after retries may have been applied by some buckets and not others: post it
+/// again (buckets that applied their part count the observations again unless they carry event ids and the series
+/// options keep a duplicate window).</para>
 /// <para><b>Order.</b> Per key, observations are applied in the order of the posts. One batch is split by bucket; the
 /// buckets are called in parallel, each bucket's part in order.</para>
 /// <para><b>Output.</b> Each bucket sends the output of every applied call to this client's subscription (a grain
@@ -28,6 +31,7 @@ public sealed class ForecastClusterClient<TKey> : IForecastEngine<TKey>, ISeries
     private readonly IGrainFactory _grains;
     private readonly BucketMap<TKey> _map;
     private readonly TimeProvider _time;
+    private readonly TimeSpan _maxEventTimeAhead;
     private readonly Publisher<ForecastUpdate<TKey>> _forecasts;
     private readonly Publisher<DriftAlert<TKey>> _alerts;
     private readonly Publisher<SeriesFault<TKey>> _faults;
@@ -41,9 +45,10 @@ public sealed class ForecastClusterClient<TKey> : IForecastEngine<TKey>, ISeries
     private long _retries;
     private int _disposed;
 
-    internal ForecastClusterClient(IGrainFactory grains, ForecastClusterOptions options, ISnapshotKeyCodec<TKey> keyCodec, TimeProvider time, PublishingOptions? publishing)
+    internal ForecastClusterClient(IGrainFactory grains, ForecastClusterOptions options, ISnapshotKeyCodec<TKey> keyCodec, TimeProvider time, TimeSpan maxEventTimeAhead, PublishingOptions? publishing)
     {
         _grains = grains;
+        _maxEventTimeAhead = maxEventTimeAhead;
         Options = options;
         _map = new BucketMap<TKey>(keyCodec, options.BucketCount);
         _time = time;
@@ -107,6 +112,7 @@ public sealed class ForecastClusterClient<TKey> : IForecastEngine<TKey>, ISeries
     {
         ThrowIfDisposed();
         var parts = new Dictionary<int, List<Observation<TKey>>>();
+        DateTimeOffset? latest = _maxEventTimeAhead == Timeout.InfiniteTimeSpan ? null : _time.GetUtcNow() + _maxEventTimeAhead;
         ReadOnlySpan<Observation<TKey>> span = batch.Span;
         for (int i = 0; i < span.Length; i++)
         {
@@ -119,6 +125,11 @@ public sealed class ForecastClusterClient<TKey> : IForecastEngine<TKey>, ISeries
             if (!double.IsFinite(o.Quantity))
             {
                 throw new ArgumentOutOfRangeException(nameof(batch), o.Quantity, $"Observation {i} of the batch is invalid; nothing was posted. The quantity must be a finite number.");
+            }
+
+            if (latest is { } limit && o.Timestamp > limit)
+            {
+                throw new ArgumentOutOfRangeException(nameof(batch), o.Timestamp, $"Observation {i} of the batch is invalid; nothing was posted. The event time is further ahead of the clock than the engine allows (MaxEventTimeAhead).");
             }
 
             int bucket = _map.BucketOf(o.Key);
@@ -369,7 +380,13 @@ public static class ForecastCluster
     /// <param name="grains">The cluster client's grain factory (an <c>IClusterClient</c>, or a grain's own factory).</param>
     /// <param name="options">The cluster options; the same as the silos'.</param>
     /// <param name="keyCodec">How keys are encoded; the same as the silos'. Keys are mapped to buckets from these bytes.</param>
-    /// <param name="timeProvider">The clock for retry delays and lease renewal; <see cref="TimeProvider.System"/> by default.</param>
+    /// <param name="engineOptions">
+    /// The silos' engine options, when the client has them: the client then also refuses, before sending anything, an
+    /// observation further ahead of the clock than <see cref="ForecastEngineOptions{TKey}.MaxEventTimeAhead"/>, as the
+    /// engine does, so a refused batch is never partly applied. Without them the client checks keys and quantities, and a
+    /// bucket that refuses its part of a batch for its time fails the post after other buckets may have applied theirs.
+    /// </param>
+    /// <param name="timeProvider">The clock for retry delays, lease renewal and the event-time check; the engine options' clock, else <see cref="TimeProvider.System"/>.</param>
     /// <param name="publishing">Buffering of this client's observables (as for the engine).</param>
     /// <param name="cancellationToken">Stops connecting.</param>
     /// <returns>The connected client.</returns>
@@ -378,6 +395,7 @@ public static class ForecastCluster
         IGrainFactory grains,
         ForecastClusterOptions options,
         ISnapshotKeyCodec<TKey> keyCodec,
+        ForecastEngineOptions<TKey>? engineOptions = null,
         TimeProvider? timeProvider = null,
         PublishingOptions? publishing = null,
         CancellationToken cancellationToken = default)
@@ -386,7 +404,9 @@ public static class ForecastCluster
         ArgumentNullException.ThrowIfNull(grains);
         ArgumentNullException.ThrowIfNull(options);
         ArgumentNullException.ThrowIfNull(keyCodec);
-        var client = new ForecastClusterClient<TKey>(grains, options, keyCodec, timeProvider ?? TimeProvider.System, publishing);
+        TimeProvider time = timeProvider ?? engineOptions?.TimeProvider ?? TimeProvider.System;
+        TimeSpan ahead = engineOptions?.MaxEventTimeAhead ?? Timeout.InfiniteTimeSpan;
+        var client = new ForecastClusterClient<TKey>(grains, options, keyCodec, time, ahead, publishing);
         await client.StartAsync(cancellationToken).ConfigureAwait(false);
         return client;
     }

@@ -290,6 +290,37 @@ public sealed class ClusterFailoverTests : IAsyncLifetime
         Assert.Equal(0, counters.ActiveSeries);
     }
 
+    [Fact]
+    public async Task PostBatchAsync_EventTooFarAheadWithEngineOptions_ThrowsBeforeSendingAnything()
+    {
+        ForecastEngineOptions<string> options = ClusterScenario.EngineOptions();
+        await using ForecastClusterClient<string> client = await ForecastCluster.ConnectAsync(_cluster.Client, Cluster, SnapshotKeyCodecs.Utf8String, options);
+        var batch = new[]
+        {
+            new Observation<string>("site-2/sensor-2", ClusterScenario.Start, 5),
+            new Observation<string>("site-4/sensor-4", DateTimeOffset.UtcNow + options.MaxEventTimeAhead + TimeSpan.FromHours(1), 5),
+        };
+
+        ArgumentOutOfRangeException error = await Assert.ThrowsAsync<ArgumentOutOfRangeException>(() => client.PostBatchAsync(batch).AsTask());
+
+        Assert.Contains("MaxEventTimeAhead", error.Message, StringComparison.Ordinal);
+        EngineCounters counters = await client.GetCountersAsync();
+        Assert.Equal(0, counters.Observations);
+    }
+
+    [Fact]
+    public async Task PostAsync_EventTooFarAheadWithoutEngineOptions_BucketRefusesIt()
+    {
+        await using ForecastClusterClient<string> client = await ForecastCluster.ConnectAsync(_cluster.Client, Cluster, SnapshotKeyCodecs.Utf8String);
+        var observation = new Observation<string>("site-4/sensor-4", DateTimeOffset.UtcNow + TimeSpan.FromDays(3), 5);
+
+        await Assert.ThrowsAsync<ArgumentOutOfRangeException>(() => client.PostAsync(observation).AsTask());
+
+        BucketStatus status = await client.Bucket(client.BucketOf(observation.Key)).GetStatusAsync();
+        Assert.Equal(0, status.Series);
+        Assert.Equal(0, status.Sequence);
+    }
+
     private void SqliteCleanup()
     {
         Microsoft.Data.Sqlite.SqliteConnection.ClearAllPools();
