@@ -464,13 +464,16 @@ internal sealed class SeriesState<TKey>
         ErrorTracker tracker = _model.Tracker;
         var errors = ErrorSummary.Of(tracker);
         DateTimeOffset start = _options.Calendar.StartOf(period);
+        ForecastPoint next = Point(1);
+        ForecastPoint atHorizon = _options.Horizon == 1 ? next : Point(_options.Horizon); // the same point: compute it once
         output.Forecast(new ForecastUpdate<TKey>(
             _key, period, start, actual, !has, score.Forecast, score.Error,
-            Point(1), Point(_options.Horizon), errors, _options.MethodLabel, restated));
+            next, atHorizon, errors, _options.MethodLabel, restated));
 
         if (!restated && score.IsScored)
         {
-            var input = new DriftInput(score.Error, tracker.Sigma, tracker.TrackingSignal, tracker.TriggSignal);
+            // The summary already holds σ and both signals of the tracker's current state: the rules read those.
+            var input = new DriftInput(score.Error, errors.Sigma, errors.TrackingSignal, errors.TriggSignal);
             for (int i = 0; i < RuleCount; i++)
             {
                 DriftRule rule = RuleAt(i);
