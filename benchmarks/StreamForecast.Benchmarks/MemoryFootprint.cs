@@ -62,7 +62,29 @@ internal static class MemoryFootprint
 
         await ReportEngineAsync("engine, long keys: MA(12) + error tracking, no alert rule (SeriesState in the partition's dictionary)", count, noRules, time).ConfigureAwait(false);
         await ReportEngineAsync("engine, long keys: MA(12) + error tracking + tracking-signal rule", count, oneRule, time).ConfigureAwait(false);
+
+        // Where the bytes go: what creating each part allocates (objects and arrays it creates, headers included).
+        Console.WriteLine();
+        Console.WriteLine("| Part, created once | Bytes allocated |");
+        Console.WriteLine("|---|---:|");
+        Part("MovingAverage MA(12) (object + its ring of 12)", () => ma12.CreateForecaster());
+        Part("ErrorTracker, default options (m = 1)", () => ErrorTrackerOptions.Default.CreateTracker());
+        Part("TrackedForecaster MA(12) (its object + the two above)", () => new TrackedForecaster(ma12));
+        var signalRule = new TrackingSignalRuleOptions();
+        Part("TrackingSignalRule, default options", () => signalRule.CreateRule());
+        Part("SeriesState<long>, no rule (the TrackedForecaster included)", () => new SeriesState<long>(1, noRules, 0));
+        Part("SeriesState<long>, one tracking-signal rule (TrackedForecaster and rule included)", () => new SeriesState<long>(1, oneRule, 0));
         return 0;
+    }
+
+    private static void Part(string what, Func<object> create)
+    {
+        GC.KeepAlive(create()); // JIT and type loading first, so only the instances are counted
+        long before = GC.GetAllocatedBytesForCurrentThread();
+        object created = create();
+        long after = GC.GetAllocatedBytesForCurrentThread();
+        GC.KeepAlive(created);
+        Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"| {what} | {after - before} |"));
     }
 
     private static void Report(string what, int count, Func<object> build)

@@ -7,11 +7,18 @@ using StreamForecast.Benchmarks;
 //   dotnet run -c Release --project benchmarks/StreamForecast.Benchmarks -- --filter '*' --job Dry
 // Bytes per series at 1M series (heap before and after building the states):
 //   dotnet run -c Release --project benchmarks/StreamForecast.Benchmarks -- memory
+// The keyed paths as a plain program, for valgrind (see benchmarks/README.md):
+//   dotnet run -c Release --project benchmarks/StreamForecast.Benchmarks -- keyed-sim <engine|dictionary> <keys> <rounds>
 // Charts from the result CSVs of a run:
 //   dotnet run -c Release --project benchmarks/StreamForecast.Benchmarks -- chart <results folder> <output folder>
 if (args.Length > 0 && args[0] == "memory")
 {
     return await MemoryFootprint.RunAsync(args.Length > 1 ? int.Parse(args[1], System.Globalization.CultureInfo.InvariantCulture) : 1_000_000).ConfigureAwait(false);
+}
+
+if (args.Length == 4 && args[0] == "keyed-sim")
+{
+    return KeyedSimulation.Run(args[1], int.Parse(args[2], System.Globalization.CultureInfo.InvariantCulture), int.Parse(args[3], System.Globalization.CultureInfo.InvariantCulture));
 }
 
 if (args.Length > 0 && args[0] == "chart")

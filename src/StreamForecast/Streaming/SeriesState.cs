@@ -1,4 +1,5 @@
 using System.Diagnostics;
+using System.Runtime.CompilerServices;
 using StreamForecast.Alerts;
 using StreamForecast.Periods;
 using StreamForecast.Tracking;
@@ -38,21 +39,33 @@ internal sealed class SeriesCounters
 /// duplicate suppression, the forecaster with its error tracker, and the drift rules. One owner at a time.
 /// The same object serves the keyed engine, replays and tests, so the period rules exist once.
 /// </summary>
+/// <remarks>
+/// <para><b>Layout.</b> The keyed engine holds one of these per key, up to millions, so the state is kept in as few heap
+/// objects as it can be: everything shared by the series of one <see cref="SeriesOptions"/> (calendar, lateness, the
+/// rules' settings) is read from the options rather than copied; the open periods of the common case (no lateness:
+/// at most two open at once) are held inline, the restatement state exists only when restatement is on, and a single
+/// drift rule is held without an array. Memory and keyed speed are measured in <c>benchmarks/</c>.</para>
+/// </remarks>
 internal sealed class SeriesState<TKey>
 {
     private const byte SlotEmpty = 0;
     private const byte SlotHasData = 1;
 
+    /// <summary>The most open periods held inline, without an array: enough for a series with no lateness.</summary>
+    internal const int InlineOpenPeriods = 2;
+
     private readonly TKey _key;
     private readonly SeriesOptions _options;
-    private readonly PeriodCalendar _calendar;
-    private readonly long _latenessTicks;
     private readonly TrackedForecaster _model;
-    private readonly DriftRule[] _rules;
 
-    // Open periods [_nextToClose, _nextToClose + capacity): sums in a ring indexed by period mod capacity.
-    private readonly double[] _openSums;
-    private readonly byte[] _openHas;
+    // Drift rules: none (both null), one (held directly), or several (the array, in the options' order).
+    private readonly DriftRule? _singleRule;
+    private readonly DriftRule[]? _ruleArray;
+
+    // Open periods [_nextToClose, _nextToClose + capacity): a ring indexed by period mod capacity, held inline while
+    // the capacity is at most InlineOpenPeriods, else in _openSpill.
+    private OpenPeriods _openInline;
+    private readonly OpenPeriod[]? _openSpill;
     private bool _started;
     private long _nextToClose;
     private long _nextCloseEndTicks;
@@ -63,15 +76,8 @@ internal sealed class SeriesState<TKey>
     private long _quietPeriods;
     private long _lastArrival;
 
-    // Restatement: the model as it was before the oldest retained closed period, and those periods' raw inputs.
-    private readonly int _restatable;
-    private readonly TrackedForecaster? _lagModel;
-    private readonly double[]? _closedSums;
-    private readonly byte[]? _closedHas;
-    private readonly double[]? _scratch;
-    private int _closedCount;
-    private double _lagLastActual;
-    private bool _lagHasLastActual;
+    // Restatement (null when the options allow none): the lagged model and the retained closed periods.
+    private readonly Restatement? _restatement;
 
     private EventIdWindow? _ids;
 
@@ -79,25 +85,31 @@ internal sealed class SeriesState<TKey>
     {
         _key = key;
         _options = options;
-        _calendar = options.Calendar;
-        _latenessTicks = options.Lateness.AllowedLateness.Ticks;
         _model = new TrackedForecaster(options.Method, options.Tracking);
-        _rules = new DriftRule[options.Rules.Length];
-        for (int i = 0; i < _rules.Length; i++)
+        int rules = options.Rules.Length;
+        if (rules == 1)
         {
-            _rules[i] = options.Rules[i].CreateRule();
+            _singleRule = options.Rules[0].CreateRule();
+        }
+        else if (rules > 1)
+        {
+            _ruleArray = new DriftRule[rules];
+            for (int i = 0; i < rules; i++)
+            {
+                _ruleArray[i] = options.Rules[i].CreateRule();
+            }
         }
 
-        int capacity = OpenCapacity(_calendar, options.Lateness.AllowedLateness);
-        _openSums = new double[capacity];
-        _openHas = new byte[capacity];
-        _restatable = options.Lateness.RestatementPeriods;
-        if (_restatable > 0)
+        int capacity = OpenCapacity(options.Calendar, options.Lateness.AllowedLateness);
+        if (capacity > InlineOpenPeriods)
         {
-            _lagModel = new TrackedForecaster(options.Method, options.Tracking);
-            _closedSums = new double[_restatable];
-            _closedHas = new byte[_restatable];
-            _scratch = new double[_model.StateLength];
+            _openSpill = new OpenPeriod[capacity];
+        }
+
+        int restatable = options.Lateness.RestatementPeriods;
+        if (restatable > 0)
+        {
+            _restatement = new Restatement(restatable, options, _model.StateLength);
         }
 
         _lastArrival = arrivalTimestamp;
@@ -119,6 +131,19 @@ internal sealed class SeriesState<TKey>
 
     /// <summary>Consecutive closed periods without any observation.</summary>
     public long QuietPeriods => _quietPeriods;
+
+    /// <summary>How many periods can be open at once (see <see cref="OpenCapacity"/>).</summary>
+    internal int OpenPeriodCapacity => _openSpill?.Length ?? InlineOpenPeriods;
+
+    /// <summary>Whether the open periods live in an array of their own rather than inline.</summary>
+    internal bool OpenPeriodsSpilled => _openSpill is not null;
+
+    private int RuleCount => _options.Rules.Length;
+
+    private int ClosedCount => _restatement?.ClosedCount ?? 0;
+
+    /// <summary>The open-period ring: the inline pair, or the array when the lateness needs more.</summary>
+    private Span<OpenPeriod> Open => _openSpill is null ? _openInline : _openSpill;
 
     /// <summary>How many periods can be open at once: the lateness spans at most this many periods plus the current one.</summary>
     internal static int OpenCapacity(PeriodCalendar calendar, TimeSpan lateness)
@@ -149,14 +174,14 @@ internal sealed class SeriesState<TKey>
         {
             _started = true;
             _nextToClose = period;
-            _nextCloseEndTicks = _calendar.EndOf(period).UtcTicks;
+            _nextCloseEndTicks = _options.Calendar.EndOf(period).UtcTicks;
             _maxEventTicks = ticks;
         }
 
         if (ticks > _maxEventTicks)
         {
             _maxEventTicks = ticks;
-            CloseThrough(ticks - _latenessTicks, output);
+            CloseThrough(ticks - _options.Lateness.AllowedLateness.Ticks, output);
         }
 
         if (period < _nextToClose)
@@ -167,14 +192,15 @@ internal sealed class SeriesState<TKey>
 
         // The lateness bound keeps every open period inside the ring; a calendar whose periods are shorter than
         // its nominal estimate could still overrun it, so close the oldest rather than overwrite.
-        while (period - _nextToClose >= _openSums.Length)
+        int capacity = OpenPeriodCapacity;
+        while (period - _nextToClose >= capacity)
         {
             CloseNext(output);
         }
 
-        int slot = Slot(period);
-        _openSums[slot] += quantity;
-        _openHas[slot] = SlotHasData;
+        ref OpenPeriod open = ref Open[Slot(period, capacity)];
+        open.Sum += quantity;
+        open.Has = true;
     }
 
     /// <summary>Closes every period that ends at or before <paramref name="watermarkTicks"/> (UTC ticks).</summary>
@@ -199,7 +225,7 @@ internal sealed class SeriesState<TKey>
             return;
         }
 
-        long last = _calendar.PeriodOf(new DateTimeOffset(_maxEventTicks, TimeSpan.Zero));
+        long last = _options.Calendar.PeriodOf(new DateTimeOffset(_maxEventTicks, TimeSpan.Zero));
         while (_nextToClose <= last)
         {
             CloseNext(output);
@@ -221,7 +247,7 @@ internal sealed class SeriesState<TKey>
         if (quiet >= timeout)
         {
             long estimate = _maxEventTicks > DateTimeOffset.MaxValue.UtcTicks - quiet.Ticks ? DateTimeOffset.MaxValue.UtcTicks : _maxEventTicks + quiet.Ticks;
-            CloseThrough(estimate - _latenessTicks, output);
+            CloseThrough(estimate - _options.Lateness.AllowedLateness.Ticks, output);
         }
     }
 
@@ -233,100 +259,106 @@ internal sealed class SeriesState<TKey>
     public void Acknowledge(ISeriesOutput<TKey> output)
     {
         _model.ResetErrors();
-        if (_restatable > 0)
+        if (_restatement is { } r)
         {
-            _model.ExportState(_scratch!);
-            _lagModel!.ImportState(_scratch);
-            _lagLastActual = _lastActual;
-            _lagHasLastActual = _hasLastActual;
-            _closedCount = 0;
+            _model.ExportState(r.Scratch);
+            r.LagModel.ImportState(r.Scratch);
+            r.LagLastActual = _lastActual;
+            r.LagHasLastActual = _hasLastActual;
+            r.ClosedCount = 0;
         }
 
-        for (int i = 0; i < _rules.Length; i++)
+        for (int i = 0; i < RuleCount; i++)
         {
-            DriftTransition t = _rules[i].Rebaseline();
+            DriftTransition t = RuleAt(i).Rebaseline();
             Publish(i, t, _nextToClose - 1, output);
         }
     }
 
-    private int Slot(long period)
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private DriftRule RuleAt(int index)
     {
-        long m = period % _openSums.Length;
-        return (int)(m < 0 ? m + _openSums.Length : m);
+        Debug.Assert(index >= 0 && index < RuleCount);
+        return _ruleArray is null ? _singleRule! : _ruleArray[index];
+    }
+
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private static int Slot(long period, int capacity)
+    {
+        long m = period % capacity;
+        return (int)(m < 0 ? m + capacity : m);
     }
 
     private void CloseNext(ISeriesOutput<TKey> output)
     {
         long period = _nextToClose;
-        int slot = Slot(period);
-        bool has = _openHas[slot] == SlotHasData;
-        double sum = _openSums[slot];
-        _openSums[slot] = 0;
-        _openHas[slot] = SlotEmpty;
+        ref OpenPeriod open = ref Open[Slot(period, OpenPeriodCapacity)];
+        bool has = open.Has;
+        double sum = open.Sum;
+        open = default;
         _nextToClose = period + 1;
-        _nextCloseEndTicks = _calendar.EndOf(period + 1).UtcTicks;
+        _nextCloseEndTicks = _options.Calendar.EndOf(period + 1).UtcTicks;
         output.Counters.PeriodsClosed++;
         _quietPeriods = has ? 0 : _quietPeriods + 1;
 
-        if (_restatable > 0)
+        if (_restatement is not null)
         {
-            Retain(has, sum);
+            Retain(_restatement, has, sum);
         }
 
         // Repeats of events in periods that can no longer change are late anyway: stop remembering their ids.
-        _ids?.ForgetBefore(_nextToClose - _closedCount);
+        _ids?.ForgetBefore(_nextToClose - ClosedCount);
         Apply(period, has, sum, ApplyMode.Live, output);
     }
 
-    private void Retain(bool has, double sum)
+    private void Retain(Restatement r, bool has, double sum)
     {
-        Debug.Assert(_closedSums is not null && _closedHas is not null && _lagModel is not null);
-        if (_closedCount == _restatable)
+        int restatable = r.ClosedSums.Length;
+        if (r.ClosedCount == restatable)
         {
             // The oldest retained period leaves the horizon: move the lagged model past it, then shift.
-            ApplyToLag(_closedHas[0] == SlotHasData, _closedSums[0]);
-            Array.Copy(_closedSums, 1, _closedSums, 0, _restatable - 1);
-            Array.Copy(_closedHas, 1, _closedHas, 0, _restatable - 1);
-            _closedCount--;
+            ApplyToLag(r, r.ClosedHas[0] == SlotHasData, r.ClosedSums[0]);
+            Array.Copy(r.ClosedSums, 1, r.ClosedSums, 0, restatable - 1);
+            Array.Copy(r.ClosedHas, 1, r.ClosedHas, 0, restatable - 1);
+            r.ClosedCount--;
         }
 
-        _closedSums[_closedCount] = sum;
-        _closedHas[_closedCount] = has ? SlotHasData : SlotEmpty;
-        _closedCount++;
+        r.ClosedSums[r.ClosedCount] = sum;
+        r.ClosedHas[r.ClosedCount] = has ? SlotHasData : SlotEmpty;
+        r.ClosedCount++;
     }
 
     private void Late(long period, double quantity, ISeriesOutput<TKey> output)
     {
         long age = _nextToClose - period; // 1 = the last closed period
-        if (age > _closedCount)
+        if (age > ClosedCount)
         {
             output.Counters.Late++;
             return;
         }
 
-        Debug.Assert(_closedSums is not null && _closedHas is not null && _lagModel is not null && _scratch is not null);
-        int index = (int)(_closedCount - age);
-        _closedSums[index] += quantity;
-        _closedHas[index] = SlotHasData;
+        Restatement r = _restatement!; // a closed period is retained only when restatement is on
+        int index = (int)(r.ClosedCount - age);
+        r.ClosedSums[index] += quantity;
+        r.ClosedHas[index] = SlotHasData;
         output.Counters.Restated++;
 
         // Roll the model back to before the oldest retained period and replay the retained periods. Drift rules are
         // not rolled back: they keep their episodes and see the corrected statistics from the next period on.
-        _lagModel.ExportState(_scratch);
-        _model.ImportState(_scratch);
-        _lastActual = _lagLastActual;
-        _hasLastActual = _lagHasLastActual;
-        long first = _nextToClose - _closedCount;
-        for (int i = 0; i < _closedCount; i++)
+        r.LagModel.ExportState(r.Scratch);
+        _model.ImportState(r.Scratch);
+        _lastActual = r.LagLastActual;
+        _hasLastActual = r.LagHasLastActual;
+        long first = _nextToClose - r.ClosedCount;
+        for (int i = 0; i < r.ClosedCount; i++)
         {
-            Apply(first + i, _closedHas[i] == SlotHasData, _closedSums[i], i >= index ? ApplyMode.Restated : ApplyMode.Silent, output);
+            Apply(first + i, r.ClosedHas[i] == SlotHasData, r.ClosedSums[i], i >= index ? ApplyMode.Restated : ApplyMode.Silent, output);
         }
     }
 
-    private void ApplyToLag(bool has, double sum)
+    private void ApplyToLag(Restatement r, bool has, double sum)
     {
-        Debug.Assert(_lagModel is not null);
-        if (!ResolveActual(has, sum, ref _lagLastActual, ref _lagHasLastActual, out double actual, out bool scored))
+        if (!ResolveActual(has, sum, ref r.LagLastActual, ref r.LagHasLastActual, out double actual, out bool scored))
         {
             return;
         }
@@ -335,11 +367,11 @@ internal sealed class SeriesState<TKey>
         {
             if (scored)
             {
-                _lagModel.Update(actual);
+                r.LagModel.Update(actual);
             }
             else
             {
-                _lagModel.UpdateUnscored(actual);
+                r.LagModel.UpdateUnscored(actual);
             }
         }
         catch (ArgumentOutOfRangeException)
@@ -431,19 +463,23 @@ internal sealed class SeriesState<TKey>
 
         ErrorTracker tracker = _model.Tracker;
         var errors = ErrorSummary.Of(tracker);
-        DateTimeOffset start = _calendar.StartOf(period);
+        DateTimeOffset start = _options.Calendar.StartOf(period);
+        ForecastPoint next = Point(1);
+        ForecastPoint atHorizon = _options.Horizon == 1 ? next : Point(_options.Horizon); // the same point: compute it once
         output.Forecast(new ForecastUpdate<TKey>(
             _key, period, start, actual, !has, score.Forecast, score.Error,
-            Point(1), Point(_options.Horizon), errors, _options.MethodLabel, restated));
+            next, atHorizon, errors, _options.MethodLabel, restated));
 
         if (!restated && score.IsScored)
         {
-            var input = new DriftInput(score.Error, tracker.Sigma, tracker.TrackingSignal, tracker.TriggSignal);
-            for (int i = 0; i < _rules.Length; i++)
+            // The summary already holds σ and both signals of the tracker's current state: the rules read those.
+            var input = new DriftInput(score.Error, errors.Sigma, errors.TrackingSignal, errors.TriggSignal);
+            for (int i = 0; i < RuleCount; i++)
             {
-                if (DriftInputFits(_rules[i], input))
+                DriftRule rule = RuleAt(i);
+                if (DriftInputFits(rule, input))
                 {
-                    Publish(i, _rules[i].Evaluate(input), period, output, errors, start);
+                    Publish(i, rule.Evaluate(input), period, output, errors, start);
                 }
             }
         }
@@ -477,7 +513,7 @@ internal sealed class SeriesState<TKey>
         }
 
         output.Alert(new DriftAlert<TKey>(
-            _key, period, start ?? (_started ? _calendar.StartOf(period) : default), ruleIndex, _options.RuleLabels[ruleIndex],
+            _key, period, start ?? (_started ? _options.Calendar.StartOf(period) : default), ruleIndex, _options.RuleLabels[ruleIndex],
             transition, errors ?? ErrorSummary.Of(_model.Tracker)));
     }
 
@@ -502,42 +538,43 @@ internal sealed class SeriesState<TKey>
         writer.WriteBoolean(_hasLastActual);
         writer.WriteInt64(_quietPeriods);
 
+        Span<OpenPeriod> openPeriods = Open;
         int open = 0;
-        for (int i = 0; i < _openHas.Length; i++)
+        foreach (OpenPeriod o in openPeriods)
         {
-            open += _openHas[i];
+            open += o.Has ? 1 : 0;
         }
 
         writer.WriteInt32(open);
-        for (long p = _nextToClose; p < _nextToClose + _openSums.Length; p++)
+        for (long p = _nextToClose; p < _nextToClose + openPeriods.Length; p++)
         {
-            int slot = Slot(p);
-            if (_openHas[slot] == SlotHasData)
+            OpenPeriod o = openPeriods[Slot(p, openPeriods.Length)];
+            if (o.Has)
             {
                 writer.WriteInt64(p);
-                writer.WriteDouble(_openSums[slot]);
+                writer.WriteDouble(o.Sum);
             }
         }
 
         writer.WriteDoubles(_model.ExportState());
-        writer.WriteInt32(_rules.Length);
-        foreach (DriftRule rule in _rules)
+        writer.WriteInt32(RuleCount);
+        for (int i = 0; i < RuleCount; i++)
         {
-            writer.WriteDoubles(rule.ExportState());
+            writer.WriteDoubles(RuleAt(i).ExportState());
         }
 
-        writer.WriteInt32(_closedCount);
-        if (_restatable > 0)
+        writer.WriteInt32(ClosedCount);
+        if (_restatement is { } r)
         {
-            for (int i = 0; i < _closedCount; i++)
+            for (int i = 0; i < r.ClosedCount; i++)
             {
-                writer.WriteDouble(_closedSums![i]);
-                writer.WriteByte(_closedHas![i]);
+                writer.WriteDouble(r.ClosedSums[i]);
+                writer.WriteByte(r.ClosedHas[i]);
             }
 
-            writer.WriteDoubles(_lagModel!.ExportState());
-            writer.WriteDouble(_lagLastActual);
-            writer.WriteBoolean(_lagHasLastActual);
+            writer.WriteDoubles(r.LagModel.ExportState());
+            writer.WriteDouble(r.LagLastActual);
+            writer.WriteBoolean(r.LagHasLastActual);
         }
 
         int ids = _ids?.Count ?? 0;
@@ -572,17 +609,19 @@ internal sealed class SeriesState<TKey>
         _quietPeriods = reader.ReadInt64();
         if (_started)
         {
-            if (_nextToClose < _calendar.MinPeriod || _nextToClose > _calendar.MaxPeriod
+            PeriodCalendar calendar = _options.Calendar;
+            if (_nextToClose < calendar.MinPeriod || _nextToClose > calendar.MaxPeriod
                 || _maxEventTicks < DateTimeOffset.MinValue.UtcTicks || _maxEventTicks > DateTimeOffset.MaxValue.UtcTicks)
             {
                 throw new InvalidDataException("The snapshot's period position is outside the calendar.");
             }
 
-            _nextCloseEndTicks = _calendar.EndOf(_nextToClose).UtcTicks;
+            _nextCloseEndTicks = calendar.EndOf(_nextToClose).UtcTicks;
         }
 
+        int capacity = OpenPeriodCapacity;
         int open = reader.ReadInt32();
-        if (open < 0 || open > _openSums.Length)
+        if (open < 0 || open > capacity)
         {
             throw new InvalidDataException("The snapshot's open-period count does not fit the lateness window.");
         }
@@ -591,46 +630,46 @@ internal sealed class SeriesState<TKey>
         {
             long p = reader.ReadInt64();
             double sum = ReadFinite(reader);
-            if (p < _nextToClose || p - _nextToClose >= _openSums.Length)
+            if (p < _nextToClose || p - _nextToClose >= capacity)
             {
                 throw new InvalidDataException("The snapshot holds an open period outside the lateness window.");
             }
 
-            int slot = Slot(p);
-            _openSums[slot] = sum;
-            _openHas[slot] = SlotHasData;
+            ref OpenPeriod o = ref Open[Slot(p, capacity)];
+            o.Sum = sum;
+            o.Has = true;
         }
 
         ImportInto(reader, _model.ImportState);
         int rules = reader.ReadInt32();
-        if (rules != _rules.Length)
+        if (rules != RuleCount)
         {
-            throw new InvalidDataException($"The snapshot holds {rules} drift rules but the options for this key have {_rules.Length}.");
+            throw new InvalidDataException($"The snapshot holds {rules} drift rules but the options for this key have {RuleCount}.");
         }
 
-        foreach (DriftRule rule in _rules)
+        for (int i = 0; i < RuleCount; i++)
         {
-            ImportInto(reader, rule.ImportState);
+            ImportInto(reader, RuleAt(i).ImportState);
         }
 
         int closed = reader.ReadInt32();
-        if (closed < 0 || closed > _restatable)
+        if (closed < 0 || closed > (_restatement?.ClosedSums.Length ?? 0))
         {
             throw new InvalidDataException("The snapshot's restatement window does not fit the options for this key.");
         }
 
-        _closedCount = closed;
-        if (_restatable > 0)
+        if (_restatement is { } r)
         {
+            r.ClosedCount = closed;
             for (int i = 0; i < closed; i++)
             {
-                _closedSums![i] = ReadFinite(reader);
-                _closedHas![i] = reader.ReadByte() == SlotHasData ? SlotHasData : SlotEmpty;
+                r.ClosedSums[i] = ReadFinite(reader);
+                r.ClosedHas[i] = reader.ReadByte() == SlotHasData ? SlotHasData : SlotEmpty;
             }
 
-            ImportInto(reader, _lagModel!.ImportState);
-            _lagLastActual = ReadFinite(reader);
-            _lagHasLastActual = reader.ReadBoolean();
+            ImportInto(reader, r.LagModel.ImportState);
+            r.LagLastActual = ReadFinite(reader);
+            r.LagHasLastActual = reader.ReadBoolean();
         }
 
         int ids = reader.ReadInt32();
@@ -673,5 +712,48 @@ internal sealed class SeriesState<TKey>
     {
         double v = reader.ReadDouble();
         return double.IsFinite(v) ? v : throw new InvalidDataException("The snapshot holds a number that is not finite.");
+    }
+
+    /// <summary>One open period: the sum of its observations so far, and whether it has any.</summary>
+    private struct OpenPeriod
+    {
+        public double Sum;
+        public bool Has;
+    }
+
+    /// <summary>The open-period ring of a series with no lateness, held inside the series object.</summary>
+    [InlineArray(InlineOpenPeriods)]
+    private struct OpenPeriods
+    {
+        private OpenPeriod _first;
+    }
+
+    /// <summary>
+    /// What restatement needs, created only when the options allow it: the model as it was before the oldest retained
+    /// closed period, those periods' raw inputs, and a buffer to copy model states through.
+    /// </summary>
+    private sealed class Restatement
+    {
+        public Restatement(int periods, SeriesOptions options, int modelStateLength)
+        {
+            LagModel = new TrackedForecaster(options.Method, options.Tracking);
+            ClosedSums = new double[periods];
+            ClosedHas = new byte[periods];
+            Scratch = new double[modelStateLength];
+        }
+
+        public TrackedForecaster LagModel { get; }
+
+        public double[] ClosedSums { get; }
+
+        public byte[] ClosedHas { get; }
+
+        public double[] Scratch { get; }
+
+        public int ClosedCount;
+
+        public double LagLastActual;
+
+        public bool LagHasLastActual;
     }
 }

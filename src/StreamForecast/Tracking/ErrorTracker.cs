@@ -34,7 +34,7 @@ namespace StreamForecast.Tracking;
 /// series runs (tested: 10⁷ periods agree with an exact integer recomputation to 1e-12 relative).</para>
 /// <para><b>Bad input.</b> NaN and infinities are rejected with <see cref="ArgumentOutOfRangeException"/>, as is a
 /// period whose error statistics would overflow to infinity. A rejected call leaves the state exactly as it was.</para>
-/// <para><b>Cost.</b> O(1) and allocation-free per recorded period; creation allocates a buffer of m actuals.</para>
+/// <para><b>Cost.</b> O(1) and allocation-free per recorded period; creation allocates the tracker and, for a MASE season length m above 1, a buffer of m actuals.</para>
 /// <para><b>Snapshots.</b> <see cref="ExportState(Span{double})"/> writes the full state as <see cref="StateLength"/>
 /// plain numbers; <see cref="ImportState"/> validates and reads them back into a tracker created from equal options.
 /// Continuing after an import is bit-identical to an uninterrupted run.</para>
@@ -60,11 +60,8 @@ public sealed class ErrorTracker
     private const int FixedStateLength = 19;
     private const double MaxExportedCount = 9_007_199_254_740_992; // 2^53: every whole number up to it is exact
 
+    // One tracker per series: the weights are read from the shared options rather than copied into every tracker.
     private readonly ErrorTrackerOptions _options;
-    private readonly double _smoothedMadWeight;
-    private readonly double _smoothedMadKeep;
-    private readonly double _triggBeta;
-    private readonly double _triggKeep;
 
     private long _count;
     private long _zeroActualCount;
@@ -79,7 +76,7 @@ public sealed class ErrorTracker
     private double _triggError;
     private double _triggAbsError;
     private double _lastError;
-    private RingWindow _recent;
+    private LagWindow _recent; // the last m actuals; push k is actual number k, so _actualCount positions it
 
     /// <summary>Creates an empty tracker.</summary>
     /// <param name="options">Validated options.</param>
@@ -88,11 +85,7 @@ public sealed class ErrorTracker
     {
         ArgumentNullException.ThrowIfNull(options);
         _options = options;
-        _smoothedMadWeight = options.SmoothedMadWeight;
-        _smoothedMadKeep = 1 - options.SmoothedMadWeight;
-        _triggBeta = options.TriggBeta;
-        _triggKeep = 1 - options.TriggBeta;
-        _recent = new RingWindow(options.SeasonLength);
+        _recent = new LagWindow(options.SeasonLength);
     }
 
     /// <summary>The validated options this tracker was created from.</summary>
@@ -399,9 +392,13 @@ public sealed class ErrorTracker
 
         staged.AbsActualSum = _absActualSum;
         staged.AbsActualSum.Add(Math.Abs(actual));
-        staged.SmoothedMad = _count == 0 ? absError : (_smoothedMadWeight * absError) + (_smoothedMadKeep * _smoothedMad);
-        staged.TriggError = (_triggBeta * error) + (_triggKeep * _triggError);
-        staged.TriggAbsError = (_triggBeta * absError) + (_triggKeep * _triggAbsError);
+        ErrorTrackerOptions options = _options;
+        double madWeight = options.SmoothedMadWeight;
+        double beta = options.TriggBeta;
+        double triggKeep = 1 - beta;
+        staged.SmoothedMad = _count == 0 ? absError : (madWeight * absError) + ((1 - madWeight) * _smoothedMad);
+        staged.TriggError = (beta * error) + (triggKeep * _triggError);
+        staged.TriggAbsError = (beta * absError) + (triggKeep * _triggAbsError);
         staged.NaiveSum = StageNaive(actual);
 
         if (!(double.IsFinite(error)
@@ -456,7 +453,7 @@ public sealed class ErrorTracker
         }
 
         _naiveSum = staged.NaiveSum;
-        _recent.Push(staged.Actual);
+        _recent.Push(staged.Actual, _actualCount);
         _actualCount++;
     }
 
@@ -557,7 +554,7 @@ public sealed class ErrorTracker
         _triggError = state[TriggErrorIndex];
         _triggAbsError = state[TriggAbsErrorIndex];
         _lastError = state[LastErrorIndex];
-        _recent.LoadRaw(state[FixedStateLength..], _actualCount);
+        _recent.LoadRaw(state[FixedStateLength..]);
     }
 
     /// <summary>The number of recorded actuals in a state that <see cref="Validate"/> accepted.</summary>
@@ -570,10 +567,9 @@ public sealed class ErrorTracker
     private CompensatedSum StageNaive(double actual)
     {
         CompensatedSum naive = _naiveSum;
-        if (_recent.IsFull)
+        if (_actualCount >= _recent.Length)
         {
-            // The oldest value in a full ring of m is the actual m periods before this one.
-            naive.Add(Math.Abs(actual - _recent.Recent(_recent.Length - 1)));
+            naive.Add(Math.Abs(actual - _recent.Lagged(_actualCount))); // the actual m periods before this one
         }
 
         return naive;

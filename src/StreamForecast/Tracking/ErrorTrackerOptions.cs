@@ -115,6 +115,6 @@ public sealed record ErrorTrackerOptions
 
     /// <summary>Creates a new, empty tracker for one series.</summary>
     /// <returns>A tracker that has recorded nothing.</returns>
-    /// <remarks>Allocates the tracker and a buffer of <see cref="SeasonLength"/> numbers once; recording allocates nothing afterwards.</remarks>
+    /// <remarks>Allocates the tracker once, and a buffer of <see cref="SeasonLength"/> numbers when it is above 1; recording allocates nothing afterwards.</remarks>
     public ErrorTracker CreateTracker() => new(this);
 }
