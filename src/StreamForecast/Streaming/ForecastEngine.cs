@@ -389,6 +389,8 @@ public sealed class ForecastEngine<TKey> : IForecastEngine<TKey>
         return _partitions[(int)((ulong)hash * (ulong)_partitions.Length >> 32)];
     }
 
+    // Under sustained load the queue is full for most posts, so this path is hot: pool its state machine.
+    [System.Runtime.CompilerServices.AsyncMethodBuilder(typeof(System.Runtime.CompilerServices.PoolingAsyncValueTaskMethodBuilder))]
     private async ValueTask WriteSlowAsync(Observation<TKey> observation, CancellationToken cancellationToken)
     {
         Partition<TKey> p = PartitionOf(observation.Key);
