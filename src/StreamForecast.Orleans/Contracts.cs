@@ -50,9 +50,12 @@ public interface ISeriesBucketGrain<TKey> : IGrainWithIntegerKey
     /// <summary>Sends this bucket's output to <paramref name="observer"/> until the lease runs out or it unsubscribes; calling again renews the lease.</summary>
     /// <param name="observer">A reference made with <c>IGrainFactory.CreateObjectReference</c>.</param>
     /// <param name="lease">How long the subscription lasts without renewal.</param>
-    /// <returns>A task that completes when the subscription is stored.</returns>
+    /// <returns>
+    /// The number of the bucket's newest output when the subscription was stored (0 before the first): a new subscriber
+    /// starts counting from it, so an older output sent again later is recognised as old.
+    /// </returns>
     [Alias("Subscribe")]
-    Task SubscribeAsync(ISeriesBucketObserver<TKey> observer, TimeSpan lease);
+    Task<long> SubscribeAsync(ISeriesBucketObserver<TKey> observer, TimeSpan lease);
 
     /// <summary>Stops sending output to <paramref name="observer"/>.</summary>
     /// <param name="observer">The subscribed reference.</param>

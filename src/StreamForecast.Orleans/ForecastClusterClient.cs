@@ -19,9 +19,11 @@ namespace StreamForecast.Orleans;
 /// buckets are called in parallel, each bucket's part in order.</para>
 /// <para><b>Output.</b> Each bucket sends the output of every applied call to this client's subscription (a grain
 /// observer, renewed every third of <see cref="ForecastClusterOptions.SubscriptionLease"/>) after storing it. Output is
-/// numbered per bucket: a repeat is dropped, and a gap (output lost when a silo died between storing a call and sending
-/// its output, or while the subscription was lapsed) is counted in <see cref="MissedOutputs"/>; the forecasts of later
-/// periods carry the full error statistics, so state is never lost, only those events.</para>
+/// numbered per bucket and delivered in number order: an output that arrives early waits for the gap before it (up to
+/// <see cref="ForecastClusterOptions.OutputReorderWindow"/>), a repeat is dropped, and a gap that is never filled
+/// (output lost when a silo died before sending it, or while the subscription was lapsed) is counted in
+/// <see cref="MissedOutputs"/>; the forecasts of later periods carry the full error statistics, so state is never lost,
+/// only those events.</para>
 /// <para><b>Thread safety.</b> Every public member is thread-safe.</para>
 /// <para>Forecasts and alerts are advisory and need a person's judgement before stock or staff are changed.</para>
 /// </remarks>
@@ -35,7 +37,11 @@ public sealed class ForecastClusterClient<TKey> : IForecastEngine<TKey>, ISeries
     private readonly Publisher<ForecastUpdate<TKey>> _forecasts;
     private readonly Publisher<DriftAlert<TKey>> _alerts;
     private readonly Publisher<SeriesFault<TKey>> _faults;
+    private const int MaxWaitingOutputs = 4096;
+
     private readonly long[] _lastNumber;
+    private readonly SortedList<long, (BucketOutput<TKey> Output, long Arrived)>?[] _waiting;
+    private ITimer? _gapTimer;
     private readonly object _outputGate = new();
     private readonly CancellationTokenSource _stopping = new();
     private ISeriesBucketObserver<TKey>? _reference;
@@ -56,6 +62,7 @@ public sealed class ForecastClusterClient<TKey> : IForecastEngine<TKey>, ISeries
         _alerts = new Publisher<DriftAlert<TKey>>(publishing);
         _faults = new Publisher<SeriesFault<TKey>>(publishing);
         _lastNumber = new long[options.BucketCount];
+        _waiting = new SortedList<long, (BucketOutput<TKey> Output, long Arrived)>?[options.BucketCount];
     }
 
     /// <summary>The cluster options this client uses (they must match the silos').</summary>
@@ -83,7 +90,9 @@ public sealed class ForecastClusterClient<TKey> : IForecastEngine<TKey>, ISeries
     internal async Task StartAsync(CancellationToken cancellationToken)
     {
         _reference = _grains.CreateObjectReference<ISeriesBucketObserver<TKey>>(this);
-        await RenewAsync(cancellationToken).ConfigureAwait(false);
+        TimeSpan tick = Options.OutputReorderWindow / 2;
+        _gapTimer = _time.CreateTimer(static state => ((ForecastClusterClient<TKey>)state!).SkipStaleGaps(all: false), this, tick, tick);
+        await RenewAsync(first: true, cancellationToken).ConfigureAwait(false);
         _renewal = RenewLoopAsync();
     }
 
@@ -197,6 +206,12 @@ public sealed class ForecastClusterClient<TKey> : IForecastEngine<TKey>, ISeries
     /// <summary>Receives a bucket's output (called by the cluster through the observer reference).</summary>
     /// <param name="output">The output.</param>
     /// <returns>A completed task.</returns>
+    /// <remarks>
+    /// Outputs of one bucket are numbered 1, 2, 3, … but may arrive out of order (they can take different gateways, and
+    /// a reactivated bucket sends its newest output again). They are delivered in number order: an early one waits
+    /// until the gap before it is filled, for at most <see cref="ForecastClusterOptions.OutputReorderWindow"/>; a number
+    /// already delivered is dropped.
+    /// </remarks>
     Task ISeriesBucketObserver<TKey>.OnOutputAsync(BucketOutput<TKey> output)
     {
         if (output is null || (uint)output.Bucket >= (uint)_lastNumber.Length)
@@ -206,33 +221,26 @@ public sealed class ForecastClusterClient<TKey> : IForecastEngine<TKey>, ISeries
 
         lock (_outputGate)
         {
-            long last = _lastNumber[output.Bucket];
-            if (output.Number <= last)
+            int b = output.Bucket;
+            SortedList<long, (BucketOutput<TKey> Output, long Arrived)>? waiting = _waiting[b];
+            if (output.Number <= _lastNumber[b] || (waiting is not null && waiting.ContainsKey(output.Number)))
             {
                 _repeatedOutputs++;
                 return Task.CompletedTask;
             }
 
-            // The first output seen from a bucket sets its baseline; later gaps are outputs lost in transit.
-            if (last != 0 && output.Number > last + 1)
+            if (output.Number == _lastNumber[b] + 1)
             {
-                _missedOutputs += output.Number - last - 1;
+                Deliver(output);
+                DeliverWaiting(b);
+                return Task.CompletedTask;
             }
 
-            _lastNumber[output.Bucket] = output.Number;
-            foreach (ForecastUpdate<TKey> f in output.Forecasts)
+            waiting ??= _waiting[b] = [];
+            waiting.Add(output.Number, (output, _time.GetTimestamp()));
+            if (waiting.Count > MaxWaitingOutputs)
             {
-                _forecasts.TryPublish(f);
-            }
-
-            foreach (DriftAlert<TKey> a in output.Alerts)
-            {
-                _alerts.TryPublish(a);
-            }
-
-            foreach (SeriesFault<TKey> f in output.Faults)
-            {
-                _faults.TryPublish(f);
+                SkipGap(b);
             }
         }
 
@@ -277,11 +285,87 @@ public sealed class ForecastClusterClient<TKey> : IForecastEngine<TKey>, ISeries
             _grains.DeleteObjectReference<ISeriesBucketObserver<TKey>>(_reference);
         }
 
+        if (_gapTimer is not null)
+        {
+            await _gapTimer.DisposeAsync().ConfigureAwait(false);
+        }
+
+        SkipStaleGaps(all: true);
         _forecasts.Complete();
         _alerts.Complete();
         _faults.Complete();
         await Task.WhenAll(_forecasts.Completion, _alerts.Completion, _faults.Completion).ConfigureAwait(false);
         _stopping.Dispose();
+    }
+
+    private void Deliver(BucketOutput<TKey> output)
+    {
+        _lastNumber[output.Bucket] = output.Number;
+        foreach (ForecastUpdate<TKey> f in output.Forecasts)
+        {
+            _forecasts.TryPublish(f);
+        }
+
+        foreach (DriftAlert<TKey> a in output.Alerts)
+        {
+            _alerts.TryPublish(a);
+        }
+
+        foreach (SeriesFault<TKey> f in output.Faults)
+        {
+            _faults.TryPublish(f);
+        }
+    }
+
+    /// <summary>Delivers the waiting outputs that now follow on without a gap. Under <see cref="_outputGate"/>.</summary>
+    private void DeliverWaiting(int bucket)
+    {
+        SortedList<long, (BucketOutput<TKey> Output, long Arrived)>? waiting = _waiting[bucket];
+        while (waiting is { Count: > 0 } && waiting.Keys[0] <= _lastNumber[bucket])
+        {
+            // Made before the first subscription's starting number: already accounted for.
+            waiting.RemoveAt(0);
+            _repeatedOutputs++;
+        }
+
+        while (waiting is { Count: > 0 } && waiting.Keys[0] == _lastNumber[bucket] + 1)
+        {
+            BucketOutput<TKey> next = waiting.Values[0].Output;
+            waiting.RemoveAt(0);
+            Deliver(next);
+        }
+    }
+
+    /// <summary>Gives up on the gap before the oldest waiting output: counts it as missed and delivers on. Under <see cref="_outputGate"/>.</summary>
+    private void SkipGap(int bucket)
+    {
+        DeliverWaiting(bucket);
+        SortedList<long, (BucketOutput<TKey> Output, long Arrived)>? waiting = _waiting[bucket];
+        if (waiting is not { Count: > 0 })
+        {
+            return;
+        }
+
+        long first = waiting.Keys[0];
+        _missedOutputs += first - _lastNumber[bucket] - 1;
+        _lastNumber[bucket] = first - 1;
+        DeliverWaiting(bucket);
+    }
+
+    /// <summary>Skips every gap that has waited longer than the reorder window (or, when stopping, every gap).</summary>
+    private void SkipStaleGaps(bool all)
+    {
+        long now = _time.GetTimestamp();
+        lock (_outputGate)
+        {
+            for (int b = 0; b < _waiting.Length; b++)
+            {
+                while (_waiting[b] is { Count: > 0 } waiting && (all || _time.GetElapsedTime(waiting.Values[0].Arrived, now) >= Options.OutputReorderWindow))
+                {
+                    SkipGap(b);
+                }
+            }
+        }
     }
 
     private async Task PostPartAsync(int bucket, List<Observation<TKey>> part, CancellationToken cancellationToken)
@@ -331,16 +415,32 @@ public sealed class ForecastClusterClient<TKey> : IForecastEngine<TKey>, ISeries
     private static bool IsTransient(Exception ex) =>
         ex is not (ArgumentException or OperationCanceledException or ObjectDisposedException or NotSupportedException or InvalidDataException);
 
-    private async Task RenewAsync(CancellationToken cancellationToken)
+    private async Task RenewAsync(bool first, CancellationToken cancellationToken)
     {
-        var calls = new Task<int>[Options.BucketCount];
+        var calls = new Task<long>[Options.BucketCount];
         for (int b = 0; b < calls.Length; b++)
         {
             ISeriesBucketGrain<TKey> grain = Bucket(b);
-            calls[b] = CallAsync(grain, async g => { await g.SubscribeAsync(_reference!, Options.SubscriptionLease).ConfigureAwait(false); return 0; }, cancellationToken);
+            calls[b] = CallAsync(grain, g => g.SubscribeAsync(_reference!, Options.SubscriptionLease), cancellationToken);
         }
 
-        await Task.WhenAll(calls).ConfigureAwait(false);
+        long[] newest = await Task.WhenAll(calls).ConfigureAwait(false);
+        if (!first)
+        {
+            // A renewal must not move the counting: outputs numbered below its answer may still be on their way here.
+            return;
+        }
+
+        lock (_outputGate)
+        {
+            for (int b = 0; b < newest.Length; b++)
+            {
+                // The first subscription sets where counting starts: outputs up to this number were made before this
+                // client listened (one of them may still be sent again by a reactivated bucket, and must be dropped).
+                _lastNumber[b] = Math.Max(_lastNumber[b], newest[b]);
+                DeliverWaiting(b);
+            }
+        }
     }
 
     private async Task RenewLoopAsync()
@@ -351,7 +451,7 @@ public sealed class ForecastClusterClient<TKey> : IForecastEngine<TKey>, ISeries
             await Task.Delay(Options.SubscriptionLease / 3, _time, stop).ConfigureAwait(false);
             try
             {
-                await RenewAsync(stop).ConfigureAwait(false);
+                await RenewAsync(first: false, stop).ConfigureAwait(false);
             }
             catch (Exception ex) when (ex is not (OperationCanceledException or OutOfMemoryException))
             {

@@ -28,6 +28,7 @@ public sealed record ForecastClusterOptions
     /// <param name="retryDelay">The first wait between attempts; it doubles up to <paramref name="maxRetryDelay"/>. Between 0 and 1 minute.</param>
     /// <param name="maxRetryDelay">The longest wait between attempts, at least <paramref name="retryDelay"/> and at most 10 minutes.</param>
     /// <param name="subscriptionLease">How long a bucket keeps sending output to a subscriber that has not renewed; the client renews every third of it. Between 5 seconds and 1 day.</param>
+    /// <param name="outputReorderWindow">How long a client holds a bucket's output that arrived ahead of an earlier one before it gives the earlier one up as lost. Between 100 milliseconds and 10 minutes; 5 seconds by default.</param>
     /// <exception cref="ArgumentOutOfRangeException">A value is outside its range.</exception>
     public ForecastClusterOptions(
         int bucketCount = DefaultBucketCount,
@@ -36,11 +37,13 @@ public sealed record ForecastClusterOptions
         int maxAttempts = 10,
         TimeSpan? retryDelay = null,
         TimeSpan? maxRetryDelay = null,
-        TimeSpan? subscriptionLease = null)
+        TimeSpan? subscriptionLease = null,
+        TimeSpan? outputReorderWindow = null)
     {
         TimeSpan first = retryDelay ?? TimeSpan.FromMilliseconds(200);
         TimeSpan longest = maxRetryDelay ?? TimeSpan.FromSeconds(5);
         TimeSpan lease = subscriptionLease ?? TimeSpan.FromMinutes(2);
+        TimeSpan reorder = outputReorderWindow ?? TimeSpan.FromSeconds(5);
         Check(bucketCount is >= 1 and <= MaxBucketCount, nameof(bucketCount), bucketCount, "between 1 and 65,536 buckets");
         Check(rememberedCommands is >= 16 and <= 100_000, nameof(rememberedCommands), rememberedCommands, "between 16 and 100,000 remembered ids");
         Check(maxBatchSize is >= 1 and <= 100_000, nameof(maxBatchSize), maxBatchSize, "between 1 and 100,000 observations per call");
@@ -48,6 +51,7 @@ public sealed record ForecastClusterOptions
         Check(first >= TimeSpan.Zero && first <= TimeSpan.FromMinutes(1), nameof(retryDelay), first, "a first retry delay between 0 and 1 minute");
         Check(longest >= first && longest <= TimeSpan.FromMinutes(10), nameof(maxRetryDelay), longest, "a longest retry delay at least the first one and at most 10 minutes");
         Check(lease >= TimeSpan.FromSeconds(5) && lease <= TimeSpan.FromDays(1), nameof(subscriptionLease), lease, "a subscription lease between 5 seconds and 1 day");
+        Check(reorder >= TimeSpan.FromMilliseconds(100) && reorder <= TimeSpan.FromMinutes(10), nameof(outputReorderWindow), reorder, "an output reorder window between 100 milliseconds and 10 minutes");
         BucketCount = bucketCount;
         RememberedCommands = rememberedCommands;
         MaxBatchSize = maxBatchSize;
@@ -55,6 +59,7 @@ public sealed record ForecastClusterOptions
         RetryDelay = first;
         MaxRetryDelay = longest;
         SubscriptionLease = lease;
+        OutputReorderWindow = reorder;
     }
 
     /// <summary>How many buckets (grains) the key space is split into.</summary>
@@ -77,6 +82,9 @@ public sealed record ForecastClusterOptions
 
     /// <summary>How long a subscription lasts without renewal.</summary>
     public TimeSpan SubscriptionLease { get; }
+
+    /// <summary>How long a client waits for a bucket's missing output before it delivers the later ones without it.</summary>
+    public TimeSpan OutputReorderWindow { get; }
 
     private static void Check(bool ok, string name, object value, string allowed)
     {

@@ -196,7 +196,7 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
         return ApplyAsync(callId, key, static (grain, k) => grain._table.Acknowledge(k));
     }
 
-    public async Task SubscribeAsync(ISeriesBucketObserver<TKey> observer, TimeSpan lease)
+    public async Task<long> SubscribeAsync(ISeriesBucketObserver<TKey> observer, TimeSpan lease)
     {
         ArgumentNullException.ThrowIfNull(observer);
         ThrowIfBroken();
@@ -209,6 +209,7 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
         subscribers.RemoveAll(s => s.Observer.Equals(observer));
         subscribers.Add(new BucketSubscriber<TKey>(observer, _options.TimeProvider.GetUtcNow() + lease));
         await StoreAsync().ConfigureAwait(true);
+        return _state.State.Outputs;
     }
 
     public async Task UnsubscribeAsync(ISeriesBucketObserver<TKey> observer)
