@@ -530,7 +530,7 @@ internal sealed class SeriesState<TKey>
     /// <summary>Writes the complete state (everything but the key and options, which the caller writes or re-resolves).</summary>
     public void Write(SnapshotPayloadWriter writer)
     {
-        writer.WriteString(_options.Method.MethodName);
+        writer.WriteString(_options.MethodLabel);
         writer.WriteBoolean(_started);
         writer.WriteInt64(_nextToClose);
         writer.WriteInt64(_maxEventTicks);
@@ -596,9 +596,9 @@ internal sealed class SeriesState<TKey>
     public void Read(SnapshotPayloadReader reader)
     {
         string method = reader.ReadString();
-        if (method != _options.Method.MethodName)
+        if (method != _options.MethodLabel)
         {
-            throw new InvalidDataException($"The snapshot holds a {method} series but the options for this key say {_options.Method.MethodName}.");
+            throw new InvalidDataException($"The snapshot holds a {method} series but the options for this key say {_options.MethodLabel}.");
         }
 
         _started = reader.ReadBoolean();
