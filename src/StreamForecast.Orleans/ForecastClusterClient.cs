@@ -121,24 +121,14 @@ public sealed class ForecastClusterClient<TKey> : IForecastEngine<TKey>, ISeries
     {
         ThrowIfDisposed();
         var parts = new Dictionary<int, List<Observation<TKey>>>();
-        DateTimeOffset? latest = _maxEventTimeAhead == Timeout.InfiniteTimeSpan ? null : _time.GetUtcNow() + _maxEventTimeAhead;
+        DateTimeOffset? latest = ObservationRules.LatestEventTime(_maxEventTimeAhead, _time);
         ReadOnlySpan<Observation<TKey>> span = batch.Span;
         for (int i = 0; i < span.Length; i++)
         {
             Observation<TKey> o = span[i];
-            if (o.Key is null)
+            if (ObservationRules.Problem(o, latest) is { } problem)
             {
-                throw new ArgumentOutOfRangeException(nameof(batch), $"Observation {i} of the batch has no key; nothing was posted.");
-            }
-
-            if (!double.IsFinite(o.Quantity))
-            {
-                throw new ArgumentOutOfRangeException(nameof(batch), o.Quantity, $"Observation {i} of the batch is invalid; nothing was posted. The quantity must be a finite number.");
-            }
-
-            if (latest is { } limit && o.Timestamp > limit)
-            {
-                throw new ArgumentOutOfRangeException(nameof(batch), o.Timestamp, $"Observation {i} of the batch is invalid; nothing was posted. The event time is further ahead of the clock than the engine allows (MaxEventTimeAhead).");
+                throw new ArgumentOutOfRangeException(nameof(batch), $"Observation {i} of the batch is invalid ({problem}); nothing was posted.");
             }
 
             int bucket = _map.BucketOf(o.Key);

@@ -81,7 +81,7 @@ public sealed class BucketRestartingException : Exception
 internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrain<TKey>, ISeriesHost<TKey>
     where TKey : notnull
 {
-    private const int CounterCount = 12;
+    private const int CounterCount = 11;
 
     private readonly IPersistentState<BucketState<TKey>> _state;
     private readonly ForecastEngineOptions<TKey> _options;
@@ -295,15 +295,7 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
             state.Applied.RemoveRange(0, drop);
         }
 
-        state.Sequence = sequence;
-        state.Series = WriteSeries();
-        state.Counters = GetCounters();
-        bool hasOutput = TakeOutput(sequence);
-        await StoreAsync().ConfigureAwait(true);
-        if (hasOutput)
-        {
-            Publish();
-        }
+        await CommitAsync(sequence).ConfigureAwait(true);
 
         return new CallReceipt(_bucket, sequence, false, Counters.Observations - observationsBefore);
     }
@@ -389,49 +381,43 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
 
         if (Counters.PeriodsClosed != closed || Counters.Evictions != evicted)
         {
-            BucketState<TKey> state = _state.State;
-            state.Sequence++;
-            state.Series = WriteSeries();
-            state.Counters = GetCounters();
-            bool hasOutput = TakeOutput(state.Sequence);
             try
             {
-                await StoreAsync().ConfigureAwait(true);
+                await CommitAsync(_state.State.Sequence + 1).ConfigureAwait(true);
             }
             catch (BucketRestartingException)
             {
-                return;
+                // Logged when the bucket broke; the next activation reloads the stored state.
             }
+        }
+    }
 
-            if (hasOutput)
-            {
-                Publish();
-            }
+    /// <summary>Stores the series, counters and output of change number <paramref name="sequence"/>, then sends the output.</summary>
+    private async Task CommitAsync(long sequence)
+    {
+        BucketState<TKey> state = _state.State;
+        state.Sequence = sequence;
+        state.Series = WriteSeries();
+        state.Counters = GetCounters();
+        bool hasOutput = TakeOutput(sequence);
+        await StoreAsync().ConfigureAwait(true);
+        if (hasOutput)
+        {
+            Publish();
         }
     }
 
     private void Validate(Observation<TKey>[] batch)
     {
-        DateTimeOffset? latest = _options.MaxEventTimeAhead == Timeout.InfiniteTimeSpan ? null : _options.TimeProvider.GetUtcNow() + _options.MaxEventTimeAhead;
+        DateTimeOffset? latest = ObservationRules.LatestEventTime(_options.MaxEventTimeAhead, _options.TimeProvider);
         for (int i = 0; i < batch.Length; i++)
         {
-            Observation<TKey> o = batch[i];
-            if (o.Key is null)
+            if (ObservationRules.Problem(batch[i], latest) is { } problem)
             {
-                throw new ArgumentException($"Observation {i} of the batch has no key; nothing was applied.", nameof(batch));
+                throw new ArgumentOutOfRangeException(nameof(batch), $"Observation {i} of the batch is invalid ({problem}); nothing was applied.");
             }
 
-            if (!double.IsFinite(o.Quantity))
-            {
-                throw new ArgumentOutOfRangeException(nameof(batch), o.Quantity, $"Observation {i} of the batch has a quantity that is not a finite number; nothing was applied.");
-            }
-
-            if (latest is { } limit && o.Timestamp > limit)
-            {
-                throw new ArgumentOutOfRangeException(nameof(batch), o.Timestamp, $"Observation {i} of the batch is further ahead of the clock than the engine allows (MaxEventTimeAhead); nothing was applied.");
-            }
-
-            int home = _map.BucketOf(o.Key);
+            int home = _map.BucketOf(batch[i].Key);
             if (home != _bucket)
             {
                 throw new ArgumentException($"Observation {i} of the batch belongs to bucket {home}, not {_bucket}: every client and silo must use the same ForecastClusterOptions.BucketCount and key codec. Nothing was applied.", nameof(batch));
@@ -488,7 +474,7 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
     private long[] GetCounters()
     {
         SeriesCounters c = Counters;
-        return [c.Observations, c.Late, c.Restated, c.Duplicates, c.PeriodsClosed, c.GapPeriods, c.RejectedActuals, c.AlertsRaised, c.AlertsEscalated, c.AlertsCleared, c.Evictions, 0, _rejected];
+        return [c.Observations, c.Late, c.Restated, c.Duplicates, c.PeriodsClosed, c.GapPeriods, c.RejectedActuals, c.AlertsRaised, c.AlertsEscalated, c.AlertsCleared, c.Evictions, _rejected];
     }
 
     private void SetCounters(long[] v)
@@ -496,7 +482,7 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
         SeriesCounters c = Counters;
         (c.Observations, c.Late, c.Restated, c.Duplicates, c.PeriodsClosed, c.GapPeriods) = (v[0], v[1], v[2], v[3], v[4], v[5]);
         (c.RejectedActuals, c.AlertsRaised, c.AlertsEscalated, c.AlertsCleared, c.Evictions) = (v[6], v[7], v[8], v[9], v[10]);
-        _rejected = v[12];
+        _rejected = v[CounterCount];
     }
 
     [LoggerMessage(Level = LogLevel.Debug, Message = "Bucket {Bucket} activated with {Series} series after {Sequence} applied calls")]

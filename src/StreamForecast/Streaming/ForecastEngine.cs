@@ -370,15 +370,10 @@ public sealed class ForecastEngine<TKey> : IForecastEngine<TKey>
 
     private void Validate(in Observation<TKey> observation)
     {
-        if (!double.IsFinite(observation.Quantity))
+        if (ObservationRules.Problem(observation, ObservationRules.LatestEventTime(Options.MaxEventTimeAhead, Options.TimeProvider)) is { } problem)
         {
-            ThrowHelper.ThrowOutOfRange(nameof(observation), observation.Quantity, "the quantity must be a finite number; the observation was not posted");
-        }
-
-        if (Options.MaxEventTimeAhead != Timeout.InfiniteTimeSpan
-            && observation.Timestamp > Options.TimeProvider.GetUtcNow() + Options.MaxEventTimeAhead)
-        {
-            ThrowHelper.ThrowOutOfRange(nameof(observation), observation.Timestamp, "the event time is further ahead of the clock than the engine allows (MaxEventTimeAhead); the observation was not posted");
+            object? value = double.IsFinite(observation.Quantity) ? observation.Timestamp : observation.Quantity;
+            ThrowHelper.ThrowOutOfRange(nameof(observation), value, problem + "; the observation was not posted");
         }
     }
 
