@@ -360,6 +360,9 @@ internal struct EngineCountersSurrogate
 
     /// <summary>SubscriberFaults.</summary>
     [Id(16)] public long SubscriberFaults;
+
+    /// <summary>SkippedPeriods.</summary>
+    [Id(17)] public long SkippedPeriods;
 }
 
 /// <summary>Converts <see cref="EngineCounters"/> to and from its wire form.</summary>
@@ -368,7 +371,7 @@ internal sealed class EngineCountersConverter : IConverter<EngineCounters, Engin
 {
     /// <inheritdoc/>
     public EngineCounters ConvertFromSurrogate(in EngineCountersSurrogate s) =>
-        new(s.Observations, s.Late, s.Restated, s.Duplicates, s.Dropped, s.Rejected, s.PeriodsClosed, s.GapPeriods, s.RejectedActuals, s.AlertsRaised, s.AlertsEscalated, s.AlertsCleared, s.Evictions, s.ActiveSeries, s.QueueDepth, s.SubscriberDrops, s.SubscriberFaults);
+        new(s.Observations, s.Late, s.Restated, s.Duplicates, s.Dropped, s.Rejected, s.PeriodsClosed, s.GapPeriods, s.RejectedActuals, s.AlertsRaised, s.AlertsEscalated, s.AlertsCleared, s.Evictions, s.ActiveSeries, s.QueueDepth, s.SubscriberDrops, s.SubscriberFaults, s.SkippedPeriods);
 
     /// <inheritdoc/>
     public EngineCountersSurrogate ConvertToSurrogate(in EngineCounters v) => new()
@@ -390,5 +393,6 @@ internal sealed class EngineCountersConverter : IConverter<EngineCounters, Engin
         QueueDepth = v.QueueDepth,
         SubscriberDrops = v.SubscriberDrops,
         SubscriberFaults = v.SubscriberFaults,
+        SkippedPeriods = v.SkippedPeriods,
     };
 }

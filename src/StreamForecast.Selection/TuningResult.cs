@@ -75,6 +75,7 @@ public sealed class TuningResult
             template.Horizon,
             template.IntervalMultiplier,
             template.IdleTimeout,
-            template.DuplicateWindow);
+            template.DuplicateWindow,
+            template.MaxCatchUpPeriods);
     }
 }

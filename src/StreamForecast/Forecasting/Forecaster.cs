@@ -15,8 +15,8 @@ namespace StreamForecast.Forecasting;
 /// convention needs before its first forecast (one for the naive forecast, <c>n</c> for an
 /// <c>n</c>-period moving average, two seasons for Holt-Winters, the first non-zero demand for Croston...).
 /// Until then <see cref="Forecast"/> throws and <see cref="TryForecast"/> returns <see langword="false"/>.</para>
-/// <para><b>Bad input.</b> NaN and infinities are rejected with <see cref="ArgumentOutOfRangeException"/>, as
-/// is any value outside a method's domain (for example negative demand for the intermittent methods). A
+/// <para><b>Bad input.</b> NaN, infinities and magnitudes beyond <see cref="NumericDomain.MaxMagnitude"/> are rejected
+/// with <see cref="ArgumentOutOfRangeException"/>, as is any value outside a method's domain (for example negative demand for the intermittent methods). A
 /// rejected update leaves the state exactly as it was.</para>
 /// <para><b>Cost.</b> Updates are O(1) and allocation-free unless a method's documentation says otherwise
 /// (an arbitrary-weight moving average costs O(n) per update as one vectorised dot product).</para>
@@ -45,16 +45,20 @@ public abstract class Forecaster
     public abstract bool IsWarm { get; }
 
     /// <summary>Takes the actual of the period that just closed.</summary>
-    /// <param name="actual">The period's actual; must be finite and inside the method's domain.</param>
+    /// <param name="actual">
+    /// The period's actual; must be finite, of magnitude at most <see cref="NumericDomain.MaxMagnitude"/>, and inside
+    /// the method's domain.
+    /// </param>
     /// <exception cref="ArgumentOutOfRangeException">
-    /// <paramref name="actual"/> is NaN, infinite, or outside the method's domain. The state is unchanged.
+    /// <paramref name="actual"/> is NaN, infinite, beyond <see cref="NumericDomain.MaxMagnitude"/>, or outside the
+    /// method's domain. The state is unchanged.
     /// </exception>
     /// <remarks>O(1) and allocation-free unless the method says otherwise. Not thread-safe.</remarks>
     public void Update(double actual)
     {
-        if (!double.IsFinite(actual))
+        if (!NumericDomain.Contains(actual))
         {
-            ThrowHelper.ThrowNonFiniteActual(actual);
+            ThrowOutside(actual);
         }
 
         UpdateCore(actual);
@@ -180,6 +184,16 @@ public abstract class Forecaster
 
         ImportCore(core, (long)count);
         Count = (long)count;
+    }
+
+    private static void ThrowOutside(double actual)
+    {
+        if (!double.IsFinite(actual))
+        {
+            ThrowHelper.ThrowNonFiniteActual(actual);
+        }
+
+        ThrowHelper.ThrowOutsideDomain(actual);
     }
 
     /// <summary>Validates the method's domain for <paramref name="actual"/> (already finite), then updates the state.</summary>

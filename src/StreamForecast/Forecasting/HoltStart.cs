@@ -83,15 +83,12 @@ public readonly record struct HoltStart
     /// The NIST rule with a given initial trend (NIST/SEMATECH e-Handbook §6.4.3.3): S₁ = y₁ and b₁ =
     /// <paramref name="trend"/>; warm after the first actual, whose forecast for period 2 is F₂ = S₁ + φ·b₁.
     /// </summary>
-    /// <param name="trend">The initial trend b₁ per period; must be finite.</param>
+    /// <param name="trend">The initial trend b₁ per period; must be finite, of magnitude at most <see cref="NumericDomain.MaxMagnitude"/>.</param>
     /// <returns>The start rule.</returns>
-    /// <exception cref="ArgumentOutOfRangeException"><paramref name="trend"/> is NaN or infinite.</exception>
+    /// <exception cref="ArgumentOutOfRangeException"><paramref name="trend"/> is NaN, infinite or beyond <see cref="NumericDomain.MaxMagnitude"/>.</exception>
     public static HoltStart FirstActualAndTrend(double trend)
     {
-        if (!double.IsFinite(trend))
-        {
-            ThrowHelper.ThrowOutOfRange(nameof(trend), trend, "the initial trend must be a finite number");
-        }
+        ThrowHelper.CheckInDomain(trend, nameof(trend), "the initial trend");
 
         return new HoltStart(HoltStartKind.FirstActualAndTrend, 0, 0, trend);
     }
@@ -101,21 +98,14 @@ public readonly record struct HoltStart
     /// values). The forecaster is warm immediately (<see cref="Forecaster.IsWarm"/> is true at
     /// <see cref="Forecaster.Count"/> 0) and the equations run from y₁ on.
     /// </summary>
-    /// <param name="level">The starting level ℓ₀; must be finite.</param>
-    /// <param name="trend">The starting trend b₀; must be finite.</param>
+    /// <param name="level">The starting level ℓ₀; must be finite, of magnitude at most <see cref="NumericDomain.MaxMagnitude"/>.</param>
+    /// <param name="trend">The starting trend b₀; must be finite, of magnitude at most <see cref="NumericDomain.MaxMagnitude"/>.</param>
     /// <returns>The start rule.</returns>
-    /// <exception cref="ArgumentOutOfRangeException"><paramref name="level"/> or <paramref name="trend"/> is NaN or infinite.</exception>
+    /// <exception cref="ArgumentOutOfRangeException"><paramref name="level"/> or <paramref name="trend"/> is NaN, infinite or beyond <see cref="NumericDomain.MaxMagnitude"/>.</exception>
     public static HoltStart Given(double level, double trend)
     {
-        if (!double.IsFinite(level))
-        {
-            ThrowHelper.ThrowOutOfRange(nameof(level), level, "the given starting level must be a finite number");
-        }
-
-        if (!double.IsFinite(trend))
-        {
-            ThrowHelper.ThrowOutOfRange(nameof(trend), trend, "the given starting trend must be a finite number");
-        }
+        ThrowHelper.CheckInDomain(level, nameof(level), "the given starting level");
+        ThrowHelper.CheckInDomain(trend, nameof(trend), "the given starting trend");
 
         return new HoltStart(HoltStartKind.Given, 0, level, trend);
     }

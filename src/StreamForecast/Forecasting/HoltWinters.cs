@@ -167,9 +167,12 @@ public sealed record HoltWintersOptions : ForecasterOptions
 /// <remarks>
 /// <para><b>Equations and start.</b> See <see cref="HoltWintersOptions"/>. Warm after c·m actuals (c =
 /// <see cref="HoltWintersOptions.StartSeasons"/>, 2 by default).</para>
-/// <para><b>Multiplicative domain.</b> Negative actuals are rejected. A zero actual is allowed as long as the
-/// level and the seasonal indices stay positive: an update that would make the level or a seasonal index zero,
-/// negative or non-finite is rejected (for example a zero actual with level weight 1 or seasonal weight 1). In the
+/// <para><b>Multiplicative domain.</b> Negative actuals are rejected. When the trend would carry the level to zero or
+/// below (a steep fall), the step is taken without the trend (ℓ = α·y/s + (1−α)·ℓ, and the trend restarts from that
+/// change), so the level stays positive and the series keeps taking actuals; published check values never reach this
+/// case. The level and the indices are held at or above 10^-30 (far below any meaningful value), so a long run of
+/// zeros or a tiny actual cannot underflow them to zero; with actuals inside <see cref="NumericDomain"/> every ratio
+/// then stays finite. In the
 /// start window a zero is rejected when it would leave a start season with mean zero (the last actual of an
 /// all-zero season) or a start index of zero (a zero in the last start season at a position that was zero in every
 /// earlier start season), and the actual that completes the window is rejected when running the start seasons
@@ -200,6 +203,9 @@ public sealed class HoltWinters : Forecaster
     private readonly double _gamma;
     private readonly double _oneMinusGamma;
     private readonly double _phi;
+    /// <summary>The smallest level and seasonal index multiplicative seasonality holds (see the remarks).</summary>
+    internal const double MultiplicativeFloor = 1e-30;
+
     private readonly double[] _seasonal;    // slot t mod m holds the latest index of that season position
     private readonly double[] _startWindow; // the first c·m actuals while warming up; zero afterwards
     private double _level;
@@ -317,6 +323,16 @@ public sealed class HoltWinters : Forecaster
     {
         Span<double> seasonMeans = stackalloc double[_startSeasons];
         SeasonalStartValues.Compute(_startWindow, _seasonLength, _multiplicative, seasonMeans, _seasonal, out level, out trend);
+        if (_multiplicative)
+        {
+            // Tiny positive actuals can give a start index or level that underflows: hold them at the floor.
+            level = Math.Max(level, MultiplicativeFloor);
+            for (int i = 0; i < _seasonal.Length; i++)
+            {
+                _seasonal[i] = Math.Max(_seasonal[i], MultiplicativeFloor);
+            }
+        }
+
         for (int t = _seasonLength; t < _startWindow.Length; t++)
         {
             int slot = t % _seasonLength;
@@ -337,9 +353,22 @@ public sealed class HoltWinters : Forecaster
         if (_multiplicative)
         {
             newLevel = (_alpha * (actual / seasonal)) + (_oneMinusAlpha * (level + dampedTrend));
+            if (!(newLevel > 0))
+            {
+                // The trend would carry the level to zero or below, where multiplicative seasonality breaks down (it
+                // divides by the level). Drop the trend for this step: the level becomes a weighted mean of the
+                // deseasonalised actual and the old level, positive whenever either is, and the trend restarts from
+                // the change that step makes. Without this a steep fall would refuse every later actual.
+                dampedTrend = 0;
+                newLevel = (_alpha * (actual / seasonal)) + (_oneMinusAlpha * level);
+            }
+
+            // A long run of zeros shrinks the level and the indices geometrically; held at the floor they never underflow
+            // to zero, so the next actual can always be divided by them.
+            newLevel = Math.Max(newLevel, MultiplicativeFloor);
             newTrend = (_beta * (newLevel - level)) + (_oneMinusBeta * dampedTrend);
-            newSeasonal = (_gamma * (actual / newLevel)) + (_oneMinusGamma * seasonal);
-            return newLevel > 0 && newSeasonal > 0 && double.IsFinite(newLevel) && double.IsFinite(newTrend) && double.IsFinite(newSeasonal);
+            newSeasonal = Math.Max((_gamma * (actual / newLevel)) + (_oneMinusGamma * seasonal), MultiplicativeFloor);
+            return double.IsFinite(newLevel) && double.IsFinite(newTrend) && double.IsFinite(newSeasonal);
         }
 
         newLevel = (_alpha * (actual - seasonal)) + (_oneMinusAlpha * (level + dampedTrend));
@@ -438,14 +467,14 @@ public sealed class HoltWinters : Forecaster
 
             if (_multiplicative)
             {
-                if (!(state[0] > 0))
+                if (!(state[0] >= MultiplicativeFloor))
                 {
-                    return "multiplicative seasonality needs a positive level";
+                    return "multiplicative seasonality needs a positive level (at least 1e-30)";
                 }
 
                 foreach (double s in seasonal)
                 {
-                    if (!(s > 0))
+                    if (!(s >= MultiplicativeFloor))
                     {
                         return "multiplicative seasonality needs positive seasonal indices";
                     }

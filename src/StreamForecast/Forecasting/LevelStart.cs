@@ -78,15 +78,12 @@ public readonly record struct LevelStart
     /// forecaster is warm immediately (<see cref="Forecaster.IsWarm"/> is true at <see cref="Forecaster.Count"/>
     /// 0, forecasting ℓ₀), and the first actual is already smoothed: ℓ₁ = α·y₁ + (1−α)·ℓ₀.
     /// </summary>
-    /// <param name="level">The starting level; must be finite.</param>
+    /// <param name="level">The starting level; must be finite, of magnitude at most <see cref="NumericDomain.MaxMagnitude"/>.</param>
     /// <returns>The start rule.</returns>
-    /// <exception cref="ArgumentOutOfRangeException"><paramref name="level"/> is NaN or infinite.</exception>
+    /// <exception cref="ArgumentOutOfRangeException"><paramref name="level"/> is NaN, infinite or beyond <see cref="NumericDomain.MaxMagnitude"/>.</exception>
     public static LevelStart Given(double level)
     {
-        if (!double.IsFinite(level))
-        {
-            ThrowHelper.ThrowOutOfRange(nameof(level), level, "the given starting level must be a finite number");
-        }
+        ThrowHelper.CheckInDomain(level, nameof(level), "the given starting level");
 
         return new LevelStart(LevelStartKind.Given, 0, level);
     }

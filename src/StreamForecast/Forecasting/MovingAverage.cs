@@ -112,7 +112,11 @@ public sealed class MovingAverage : Forecaster
             return "slots not yet filled must be zero";
         }
 
-        return CompensatedSum.Agrees(state.Slice(n, 2), raw) ? null : "the running sum does not match the window";
+        // Since the last re-seed the sum has taken at most n − 1 pushes (an add and a remove each) of values inside the
+        // numeric domain; values already evicted are unknown, so the domain's bound stands in for them.
+        return CompensatedSum.Agrees(state.Slice(n, 2), raw, 2 * n, NumericDomain.MaxMagnitude)
+            ? null
+            : "the running sum does not match the window";
     }
 
     private protected override void ImportCore(ReadOnlySpan<double> state, long count)

@@ -28,10 +28,10 @@ public sealed record WeightedMovingAverageOptions : ForecasterOptions
 
     /// <summary>Creates weighted moving-average options.</summary>
     /// <param name="weights">
-    /// One weight per period in the window, 1 to 1,000,000 of them: finite, non-negative, not all zero.
+    /// One weight per period in the window, 1 to 1,000,000 of them: each 0 or between <see cref="NumericDomain.MinWeight"/> and <see cref="NumericDomain.MaxMagnitude"/>, not all zero.
     /// </param>
     /// <param name="order">Which end of the window the first weight applies to; by default the most recent period.</param>
-    /// <exception cref="ArgumentOutOfRangeException">A weight is negative or not finite, or there are no or too many weights.</exception>
+    /// <exception cref="ArgumentOutOfRangeException">A weight is negative, not finite, non-zero below <see cref="NumericDomain.MinWeight"/> or above <see cref="NumericDomain.MaxMagnitude"/>, or there are no or too many weights.</exception>
     /// <exception cref="ArgumentException">All weights are zero.</exception>
     public WeightedMovingAverageOptions(ReadOnlySpan<double> weights, WeightOrder order = WeightOrder.MostRecentFirst)
     {
@@ -49,9 +49,10 @@ public sealed record WeightedMovingAverageOptions : ForecasterOptions
         for (int i = 0; i < weights.Length; i++)
         {
             double w = weights[i];
-            if (!double.IsFinite(w) || w < 0)
+            if (!(w == 0 || (w >= NumericDomain.MinWeight && w <= NumericDomain.MaxMagnitude)))
             {
-                ThrowHelper.ThrowOutOfRange(nameof(weights), w, string.Create(CultureInfo.InvariantCulture, $"weight {i + 1} must be finite and non-negative"));
+                ThrowHelper.ThrowOutOfRange(nameof(weights), w, string.Create(CultureInfo.InvariantCulture,
+                    $"weight {i + 1} must be 0 or between {NumericDomain.MinWeight:E0} and {NumericDomain.MaxMagnitude:E0} (NumericDomain), so the weighted sums cannot overflow or vanish"));
             }
 
             total += w;
@@ -143,6 +144,7 @@ public sealed class WeightedMovingAverage : Forecaster
     private CompensatedSum _sum;      // linear path: S
     private CompensatedSum _weighted; // linear path: W with integer weights 1 (oldest) … n (newest)
     private double _forecast;         // arbitrary path: cached once warm
+    private double _peak;             // linear path: the largest |actual| in the window at the last re-seed or pushed since (bounds the sums' rounding)
 
     /// <summary>Creates an empty forecaster.</summary>
     /// <param name="options">Validated options.</param>
@@ -176,6 +178,7 @@ public sealed class WeightedMovingAverage : Forecaster
         if (_linear)
         {
             double previousSum = _sum.Value;
+            _peak = Math.Max(_peak, Math.Abs(actual));
             double evicted = _window.Push(actual);
             if (_window.NextIndex == 0)
             {
@@ -209,10 +212,11 @@ public sealed class WeightedMovingAverage : Forecaster
         _sum = default;
         _weighted = default;
         _forecast = 0;
+        _peak = 0;
     }
 
-    // Layout: raw ring (n); linear path adds S (2 numbers) and W (2 numbers).
-    private protected override int CoreStateLength => _window.Length + (_linear ? 4 : 0);
+    // Layout: raw ring (n); linear path adds S (2 numbers), W (2 numbers) and the peak magnitude that bounds their rounding.
+    private protected override int CoreStateLength => _window.Length + (_linear ? 5 : 0);
 
     private protected override void ExportCore(Span<double> destination)
     {
@@ -222,6 +226,7 @@ public sealed class WeightedMovingAverage : Forecaster
         {
             _sum.CopyTo(destination.Slice(n, 2));
             _weighted.CopyTo(destination.Slice(n + 2, 2));
+            destination[n + 4] = _peak;
         }
     }
 
@@ -239,15 +244,34 @@ public sealed class WeightedMovingAverage : Forecaster
             return null;
         }
 
+        double peak = state[n + 4];
+        double windowPeak = 0;
+        foreach (double x in raw)
+        {
+            windowPeak = Math.Max(windowPeak, Math.Abs(x));
+        }
+
+        if (!(peak >= windowPeak && peak <= NumericDomain.MaxMagnitude))
+        {
+            return "the peak magnitude must be at least the largest value in the window and inside NumericDomain.MaxMagnitude";
+        }
+
         var probe = new RingWindow(n);
         probe.LoadRaw(raw, count);
         ReadOnlySpan<double> sums = state.Slice(n, 4);
-        bool sumAgrees = CompensatedSum.Agrees(sums[..2], raw);
-        double weighted = LinearWeightedSum(probe, out double magnitude);
+        if (!CompensatedSum.Agrees(sums[..2], raw, 2 * n, peak))
+        {
+            return "the running sum does not match the window";
+        }
+
+        // W moves by −S + n·x per update, and each of those terms is rounded once (the value of S, the product n·x):
+        // at most 2u·n·peak per update over at most n updates since the last re-seed, so 2u·n²·peak; the compensated
+        // accumulation and the fresh recomputation each add about 2u·|W|. The allowance doubles both.
+        double weighted = LinearWeightedSum(probe);
         double stored = sums[2] + sums[3];
-        return sumAgrees && Math.Abs(stored - weighted) <= (1e-9 * magnitude) + double.Epsilon
-            ? null
-            : "the running sums do not match the window";
+        double allowed = (4 * CompensatedSum.UnitRoundoff * (Math.Abs(stored) + Math.Abs(weighted)))
+            + (4 * CompensatedSum.UnitRoundoff * n * (double)n * peak);
+        return Math.Abs(stored - weighted) <= allowed ? null : "the weighted running sum does not match the window";
     }
 
     private protected override void ImportCore(ReadOnlySpan<double> state, long count)
@@ -258,6 +282,7 @@ public sealed class WeightedMovingAverage : Forecaster
         {
             _sum.LoadFrom(state.Slice(n, 2));
             _weighted.LoadFrom(state.Slice(n + 2, 2));
+            _peak = state[n + 4];
         }
         else
         {
@@ -268,6 +293,12 @@ public sealed class WeightedMovingAverage : Forecaster
     private void Reseed()
     {
         _sum.Reset(_window.Raw);
+        _peak = 0;
+        foreach (double x in _window.Raw)
+        {
+            _peak = Math.Max(_peak, Math.Abs(x));
+        }
+
         _weighted = default;
         ReadOnlySpan<double> older = _window.Older;
         ReadOnlySpan<double> newer = _window.Newer;
@@ -283,21 +314,18 @@ public sealed class WeightedMovingAverage : Forecaster
         }
     }
 
-    private static double LinearWeightedSum(RingWindow window, out double magnitude)
+    private static double LinearWeightedSum(RingWindow window)
     {
         var sum = default(CompensatedSum);
-        magnitude = 0;
         int k = window.Length - window.Filled + 1; // while filling, the oldest value has weight n − filled + 1
         foreach (double x in window.Older)
         {
-            sum.Add(k * x);
-            magnitude += k++ * Math.Abs(x);
+            sum.Add(k++ * x);
         }
 
         foreach (double x in window.Newer)
         {
-            sum.Add(k * x);
-            magnitude += k++ * Math.Abs(x);
+            sum.Add(k++ * x);
         }
 
         return sum.Value;

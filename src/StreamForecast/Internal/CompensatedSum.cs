@@ -71,11 +71,25 @@ internal struct CompensatedSum
         _compensation = source[1];
     }
 
+    /// <summary>The unit roundoff of a double, u = 2^-53.</summary>
+    public const double UnitRoundoff = 1.1102230246251565e-16;
+
     /// <summary>
-    /// Whether two exported parts agree with a fresh sum of <paramref name="terms"/> to within the rounding the
-    /// rolling sum can accumulate (relative to Σ|term|), so a corrupted snapshot is caught at import.
+    /// Whether two exported parts agree with a fresh sum of <paramref name="terms"/> to within the rounding a rolling
+    /// sum can accumulate, so a corrupted snapshot is caught at import while every reachable state is accepted.
     /// </summary>
-    public static bool Agrees(ReadOnlySpan<double> parts, ReadOnlySpan<double> terms)
+    /// <param name="parts">The two exported parts.</param>
+    /// <param name="terms">The terms the sum should now hold (the window).</param>
+    /// <param name="operations">The most additions and removals the rolling sum can have made since it was last re-seeded.</param>
+    /// <param name="termBound">A bound on the magnitude of every term added or removed since then (also those no longer in the window).</param>
+    /// <remarks>
+    /// Neumaier summation of k terms has |computed − exact| ≤ 2u·|exact| + c·k·u²·Σ|xᵢ| (Higham, <i>Accuracy and
+    /// Stability of Numerical Algorithms</i>, 2nd ed., §4.3, from memory); both the stored and the fresh sum carry such an
+    /// error and reading the two parts as one number rounds once more, so the check allows
+    /// 4u·(|stored| + |fresh|) + 8·k·u²·(Σ|window| + k·bound). A sum that rolled back to exactly zero terms
+    /// (a window of zeros after non-zero values) may keep a residue of that size; the check accepts it.
+    /// </remarks>
+    public static bool Agrees(ReadOnlySpan<double> parts, ReadOnlySpan<double> terms, int operations, double termBound)
     {
         var fresh = default(CompensatedSum);
         double magnitude = 0;
@@ -86,6 +100,9 @@ internal struct CompensatedSum
         }
 
         double stored = parts[0] + parts[1];
-        return Math.Abs(stored - fresh.Value) <= (1e-9 * magnitude) + double.Epsilon;
+        double k = operations + terms.Length;
+        double allowed = (4 * UnitRoundoff * (Math.Abs(stored) + Math.Abs(fresh.Value)))
+            + (8 * k * UnitRoundoff * UnitRoundoff * (magnitude + (k * termBound)));
+        return Math.Abs(stored - fresh.Value) <= allowed;
     }
 }

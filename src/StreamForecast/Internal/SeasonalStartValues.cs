@@ -1,4 +1,5 @@
 using System.Diagnostics;
+using StreamForecast.Forecasting;
 
 namespace StreamForecast.Internal;
 
@@ -35,7 +36,9 @@ internal static class SeasonalStartValues
         {
             var sum = default(CompensatedSum);
             sum.Reset(window.Slice(p * m, m));
-            seasonMeans[p] = sum.Value / m;
+            // A multiplicative start divides by the season means: a season of zeros and subnormal values must not give
+            // a mean that underflows to zero, so ratios are held finite with the floor.
+            seasonMeans[p] = multiplicative ? Math.Max(sum.Value / m, HoltWinters.MultiplicativeFloor) : sum.Value / m;
         }
 
         for (int i = 0; i < m; i++)

@@ -12,6 +12,20 @@ internal static class ThrowHelper
             string.Create(CultureInfo.InvariantCulture, $"An actual must be a finite number; got {actual}. NaN and infinities are rejected and the state is left unchanged."));
 
     [DoesNotReturn]
+    public static void ThrowOutsideDomain(double value, string paramName = "actual") =>
+        throw new ArgumentOutOfRangeException(paramName, value,
+            string.Create(CultureInfo.InvariantCulture, $"{paramName} = {value} is outside the accepted range: its magnitude must be at most {NumericDomain.MaxMagnitude:E0} (NumericDomain.MaxMagnitude). The state is left unchanged."));
+
+    /// <summary>Checks a caller-given start value or parameter against <see cref="NumericDomain.MaxMagnitude"/>.</summary>
+    public static void CheckInDomain(double value, string paramName, string what)
+    {
+        if (!NumericDomain.Contains(value))
+        {
+            ThrowOutOfRange(paramName, value, string.Create(CultureInfo.InvariantCulture, $"{what} must be a finite number of magnitude at most {NumericDomain.MaxMagnitude:E0} (NumericDomain.MaxMagnitude)"));
+        }
+    }
+
+    [DoesNotReturn]
     public static void ThrowOutOfRange(string paramName, object? value, string allowed) =>
         throw new ArgumentOutOfRangeException(paramName, value,
             string.Create(CultureInfo.InvariantCulture, $"{paramName} = {value} is not allowed: {allowed}."));

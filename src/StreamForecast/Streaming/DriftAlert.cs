@@ -38,6 +38,12 @@ public enum SeriesFaultKind
 
     /// <summary>An unexpected error (a defect) while handling an item; the partition went on with the next item.</summary>
     InternalError = 4,
+
+    /// <summary>
+    /// A series had more periods to close in one step than <see cref="SeriesOptions.MaxCatchUpPeriods"/> allows: the
+    /// empty stretch was skipped without feeding the model (counted in <see cref="EngineCounters.SkippedPeriods"/>).
+    /// </summary>
+    PeriodsSkipped = 5,
 }
 
 /// <summary>A per-series or per-subscriber fault: the stream goes on for every other key and subscriber.</summary>

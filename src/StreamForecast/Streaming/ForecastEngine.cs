@@ -279,7 +279,7 @@ public sealed class ForecastEngine<TKey> : IForecastEngine<TKey>
     /// <returns>The counters now.</returns>
     public EngineCounters GetCounters()
     {
-        long observations = 0, late = 0, restated = 0, duplicates = 0, closed = 0, gaps = 0, rejectedActuals = 0, raised = 0, escalated = 0, cleared = 0, evictions = 0, depth = 0;
+        long observations = 0, late = 0, restated = 0, duplicates = 0, closed = 0, gaps = 0, rejectedActuals = 0, skipped = 0, raised = 0, escalated = 0, cleared = 0, evictions = 0, depth = 0;
         foreach (Partition<TKey> p in _partitions)
         {
             SeriesCounters c = p.Counters;
@@ -290,6 +290,7 @@ public sealed class ForecastEngine<TKey> : IForecastEngine<TKey>
             closed += Volatile.Read(ref c.PeriodsClosed);
             gaps += Volatile.Read(ref c.GapPeriods);
             rejectedActuals += Volatile.Read(ref c.RejectedActuals);
+            skipped += Volatile.Read(ref c.SkippedPeriods);
             raised += Volatile.Read(ref c.AlertsRaised);
             escalated += Volatile.Read(ref c.AlertsEscalated);
             cleared += Volatile.Read(ref c.AlertsCleared);
@@ -300,7 +301,7 @@ public sealed class ForecastEngine<TKey> : IForecastEngine<TKey>
         return new EngineCounters(
             observations, late, restated, duplicates, Interlocked.Read(ref _dropped), Interlocked.Read(ref _rejected), closed, gaps,
             rejectedActuals, raised, escalated, cleared, evictions, SeriesCount, depth,
-            Interlocked.Read(ref _subscriberDrops), Interlocked.Read(ref _subscriberFaults));
+            Interlocked.Read(ref _subscriberDrops), Interlocked.Read(ref _subscriberFaults), skipped);
     }
 
     /// <summary>Stops taking posts and commands; queued observations are still processed, then subscribers are completed.</summary>
@@ -465,7 +466,8 @@ public sealed class ForecastEngine<TKey> : IForecastEngine<TKey>
         _meter.CreateObservableCounter("streamforecast.restated", () => GetCounters().Restated, description: "Late observations that restated a closed period.");
         _meter.CreateObservableCounter("streamforecast.dropped", () => GetCounters().Dropped, description: "Observations dropped because a queue was full.");
         _meter.CreateObservableCounter("streamforecast.duplicates", () => GetCounters().Duplicates, description: "Observations ignored as repeats of a remembered event id.");
-        _meter.CreateObservableCounter("streamforecast.rejected", () => GetCounters().Rejected, description: "Observations rejected inside the engine (outside the calendar, series limit reached).");
+        _meter.CreateObservableCounter("streamforecast.rejected", () => GetCounters().Rejected, description: "Observations rejected inside the engine (outside the calendar, series limit reached, period total out of range).");
+        _meter.CreateObservableCounter("streamforecast.periods_skipped", () => GetCounters().SkippedPeriods, description: "Empty periods skipped because one step had more to close than the series allows.");
         _meter.CreateObservableCounter("streamforecast.periods_closed", () => GetCounters().PeriodsClosed, description: "Periods closed across all series.");
         _meter.CreateObservableCounter("streamforecast.evictions", () => GetCounters().Evictions, description: "Series removed after their quiet-period limit.");
         _meter.CreateObservableCounter("streamforecast.alerts_raised", () => GetCounters().AlertsRaised, description: "Drift episodes raised.");
@@ -570,7 +572,7 @@ public static class ForecastEngine
 /// <param name="Restated">Late observations that restated a closed period.</param>
 /// <param name="Duplicates">Observations ignored as repeats of a remembered event id.</param>
 /// <param name="Dropped">Observations dropped at post because a queue was full (<see cref="IngestionFullMode.DropNewest"/>).</param>
-/// <param name="Rejected">Observations rejected inside the engine: time outside the calendar, series limit reached, options not resolvable.</param>
+/// <param name="Rejected">Observations rejected inside the engine: time outside the calendar, series limit reached, options not resolvable, a period total that would exceed <see cref="NumericDomain.MaxMagnitude"/>.</param>
 /// <param name="PeriodsClosed">Periods closed across all series.</param>
 /// <param name="GapPeriods">Closed periods that had no observation.</param>
 /// <param name="RejectedActuals">Closed periods whose actual the method refused (for example negative demand).</param>
@@ -582,6 +584,10 @@ public static class ForecastEngine
 /// <param name="QueueDepth">Items waiting in the partition queues.</param>
 /// <param name="SubscriberDrops">Items dropped from full push-subscriber buffers.</param>
 /// <param name="SubscriberFaults">Exceptions thrown by subscribers.</param>
+/// <param name="SkippedPeriods">
+/// Empty periods skipped without feeding the model because one step had more to close than
+/// <see cref="SeriesOptions.MaxCatchUpPeriods"/> (not counted in <paramref name="PeriodsClosed"/>).
+/// </param>
 public readonly record struct EngineCounters(
     long Observations,
     long Late,
@@ -599,4 +605,5 @@ public readonly record struct EngineCounters(
     long ActiveSeries,
     long QueueDepth,
     long SubscriberDrops,
-    long SubscriberFaults);
+    long SubscriberFaults,
+    long SkippedPeriods = 0);

@@ -2,7 +2,7 @@ namespace StreamForecast.Streaming;
 
 /// <summary>
 /// What makes an observation acceptable at the door of any host (the engine, a cluster client, a bucket grain), stated
-/// once so the hosts cannot drift apart: a key, a finite quantity, and an event time not too far ahead of the clock.
+/// once so the hosts cannot drift apart: a key, a finite quantity inside NumericDomain, and an event time not too far ahead of the clock.
 /// </summary>
 internal static class ObservationRules
 {
@@ -18,9 +18,11 @@ internal static class ObservationRules
             return "it has no key";
         }
 
-        if (!double.IsFinite(observation.Quantity))
+        if (!NumericDomain.Contains(observation.Quantity))
         {
-            return "the quantity must be a finite number";
+            return double.IsFinite(observation.Quantity)
+                ? "the quantity's magnitude must be at most 1e15 (NumericDomain.MaxMagnitude)"
+                : "the quantity must be a finite number";
         }
 
         if (latestEventTime is { } latest && observation.Timestamp > latest)

@@ -30,6 +30,9 @@ public sealed record SeriesOptions
     /// <summary>The default number of remembered event ids per series.</summary>
     public const int DefaultDuplicateWindow = 1024;
 
+    /// <summary>The default of <see cref="MaxCatchUpPeriods"/>: 10,000 periods (about a week of minutes, 27 years of days).</summary>
+    public const int DefaultMaxCatchUpPeriods = 10_000;
+
     /// <summary>Creates series options.</summary>
     /// <param name="method">The forecasting method.</param>
     /// <param name="calendar">How event times map to periods.</param>
@@ -51,6 +54,14 @@ public sealed record SeriesOptions
     /// kept only while their event's period is open or restatable (a repeat of an older event is late anyway), so memory
     /// follows the ids actually held: roughly 60 bytes each plus the id strings.
     /// </param>
+    /// <param name="maxCatchUpPeriods">
+    /// The most periods of one series that one step (an observation, an advance of the watermark, an idle check) closes
+    /// and publishes (default 10,000, 1 to 10,000,000). When an event or a watermark lies further ahead, the periods that
+    /// hold data are still closed, and the empty stretch after them is skipped without feeding the model: the series
+    /// continues at the watermark's period, the skipped periods are counted in <see cref="EngineCounters.SkippedPeriods"/>
+    /// and reported as a <see cref="SeriesFaultKind.PeriodsSkipped"/> fault, and periods before them can no longer be
+    /// restated. This bounds the work of one event (a stray time stamp years ahead cannot close millions of periods).
+    /// </param>
     /// <exception cref="ArgumentNullException"><paramref name="method"/> or <paramref name="calendar"/> is null.</exception>
     /// <exception cref="ArgumentOutOfRangeException">A number is out of its stated range.</exception>
     public SeriesOptions(
@@ -63,7 +74,8 @@ public sealed record SeriesOptions
         int horizon = 1,
         double intervalMultiplier = NormalMultiplier.Coverage80,
         TimeSpan? idleTimeout = null,
-        int duplicateWindow = DefaultDuplicateWindow)
+        int duplicateWindow = DefaultDuplicateWindow,
+        int maxCatchUpPeriods = DefaultMaxCatchUpPeriods)
     {
         ArgumentNullException.ThrowIfNull(method);
         ArgumentNullException.ThrowIfNull(calendar);
@@ -92,6 +104,11 @@ public sealed record SeriesOptions
             ThrowHelper.ThrowOutOfRange(nameof(duplicateWindow), duplicateWindow, "the duplicate window must be between 0 and 1,000,000 event ids");
         }
 
+        if (maxCatchUpPeriods is < 1 or > 10_000_000)
+        {
+            ThrowHelper.ThrowOutOfRange(nameof(maxCatchUpPeriods), maxCatchUpPeriods, "the most periods closed in one step must be between 1 and 10,000,000");
+        }
+
         ImmutableArray<DriftRuleOptions> ruleList = rules.IsDefault ? [] : rules;
         foreach (DriftRuleOptions rule in ruleList)
         {
@@ -113,6 +130,7 @@ public sealed record SeriesOptions
         IntervalMultiplier = intervalMultiplier;
         IdleTimeout = idleTimeout;
         DuplicateWindow = duplicateWindow;
+        MaxCatchUpPeriods = maxCatchUpPeriods;
     }
 
     /// <summary>The forecasting method.</summary>
@@ -151,6 +169,9 @@ public sealed record SeriesOptions
     /// <summary>How many event ids per series are remembered for de-duplication; 0 turns it off.</summary>
     public int DuplicateWindow { get; }
 
+    /// <summary>The most periods one step closes for this series before an empty stretch is skipped (see the constructor).</summary>
+    public int MaxCatchUpPeriods { get; }
+
     /// <summary>Equal when every setting is equal (rules compared element by element).</summary>
     /// <param name="other">The other options.</param>
     /// <returns>Whether both describe the same treatment.</returns>
@@ -165,7 +186,8 @@ public sealed record SeriesOptions
         && Horizon == other.Horizon
         && IntervalMultiplier.Equals(other.IntervalMultiplier)
         && IdleTimeout == other.IdleTimeout
-        && DuplicateWindow == other.DuplicateWindow;
+        && DuplicateWindow == other.DuplicateWindow
+        && MaxCatchUpPeriods == other.MaxCatchUpPeriods;
 
     /// <inheritdoc/>
     public override int GetHashCode() => HashCode.Combine(Method, Calendar, Lateness, Gaps, Tracking, Rules.Length, Horizon, IdleTimeout);

@@ -28,6 +28,7 @@ internal sealed class SeriesCounters
     public long PeriodsClosed;
     public long GapPeriods;
     public long RejectedActuals;
+    public long SkippedPeriods;
     public long AlertsRaised;
     public long AlertsEscalated;
     public long AlertsCleared;
@@ -154,16 +155,39 @@ internal sealed class SeriesState<TKey>
         return (int)Math.Min(1_000_000, spans + 2);
     }
 
-    /// <summary>Takes one observation that the engine already validated (finite quantity, time inside the calendar, its period looked up).</summary>
-    public void Observe(DateTimeOffset timestamp, long period, double quantity, string? eventId, long arrivalTimestamp, ISeriesOutput<TKey> output)
+    /// <summary>
+    /// Takes one observation that the engine already validated (finite quantity inside <see cref="NumericDomain"/>, time
+    /// inside the calendar, its period looked up).
+    /// </summary>
+    /// <returns>
+    /// <see langword="null"/> when the observation was taken, counted as late, or ignored as a duplicate; otherwise why it
+    /// was refused (its period's total would leave <see cref="NumericDomain"/>), in which case nothing changed and the
+    /// caller counts the refusal.
+    /// </returns>
+    public string? Observe(DateTimeOffset timestamp, long period, double quantity, string? eventId, long arrivalTimestamp, ISeriesOutput<TKey> output)
     {
+        // Too late for any restatement: decided before the id window sees the id, so a dropped event does not consume
+        // it. An event that moves the watermark is never too late (its own period ends after the watermark it sets).
+        if (_started && period < _nextToClose - ClosedCount)
+        {
+            _lastArrival = arrivalTimestamp;
+            output.Counters.Observations++;
+            output.Counters.Late++;
+            return null;
+        }
+
+        if (!NumericDomain.Contains(HeldSum(period) + quantity))
+        {
+            return "The period's total would exceed the accepted magnitude (NumericDomain.MaxMagnitude = 1e15); the observation was refused and the period keeps its total.";
+        }
+
         if (eventId is not null && _options.DuplicateWindow > 0)
         {
             _ids ??= new EventIdWindow(_options.DuplicateWindow);
             if (!_ids.TryAdd(eventId, period))
             {
                 output.Counters.Duplicates++;
-                return;
+                return null;
             }
         }
 
@@ -187,7 +211,7 @@ internal sealed class SeriesState<TKey>
         if (period < _nextToClose)
         {
             Late(period, quantity, output);
-            return;
+            return null;
         }
 
         // The lateness bound keeps every open period inside the ring; a calendar whose periods are shorter than
@@ -201,6 +225,25 @@ internal sealed class SeriesState<TKey>
         ref OpenPeriod open = ref Open[Slot(period, capacity)];
         open.Sum += quantity;
         open.Has = true;
+        return null;
+    }
+
+    /// <summary>The total an observation for <paramref name="period"/> would be added to: an open period's, a retained closed period's, or 0.</summary>
+    private double HeldSum(long period)
+    {
+        if (!_started)
+        {
+            return 0;
+        }
+
+        if (period >= _nextToClose)
+        {
+            int capacity = OpenPeriodCapacity;
+            return period - _nextToClose < capacity ? Open[Slot(period, capacity)].Sum : 0;
+        }
+
+        Restatement r = _restatement!; // the caller has already counted periods beyond the restatement horizon as late
+        return r.ClosedSums[(int)(r.ClosedCount - (_nextToClose - period))];
     }
 
     /// <summary>Closes every period that ends at or before <paramref name="watermarkTicks"/> (UTC ticks).</summary>
@@ -211,10 +254,70 @@ internal sealed class SeriesState<TKey>
             return;
         }
 
+        int closed = 0;
         while (_nextCloseEndTicks <= watermarkTicks)
+        {
+            if (closed == _options.MaxCatchUpPeriods)
+            {
+                SkipTo(watermarkTicks, output);
+                return;
+            }
+
+            CloseNext(output);
+            closed++;
+        }
+    }
+
+    /// <summary>
+    /// After <see cref="SeriesOptions.MaxCatchUpPeriods"/> closes in one call: closes the remaining periods that hold data
+    /// and end by the watermark, then moves past the empty stretch up to the period holding the watermark without
+    /// feeding it to the model. The skipped periods are counted and reported; periods before them can no longer be restated.
+    /// </summary>
+    private void SkipTo(long watermarkTicks, ISeriesOutput<TKey> output)
+    {
+        while (_nextCloseEndTicks <= watermarkTicks && HasOpenData())
         {
             CloseNext(output);
         }
+
+        if (_nextCloseEndTicks > watermarkTicks
+            || !_options.Calendar.TryPeriodOf(new DateTimeOffset(watermarkTicks, TimeSpan.Zero), out long target)
+            || target <= _nextToClose)
+        {
+            return;
+        }
+
+        long skipped = target - _nextToClose;
+        long from = _nextToClose;
+        _nextToClose = target;
+        _nextCloseEndTicks = _options.Calendar.EndOf(target).UtcTicks;
+        _quietPeriods += skipped;
+        output.Counters.SkippedPeriods += skipped;
+        if (_restatement is { } r)
+        {
+            _model.ExportState(r.Scratch);
+            r.LagModel.ImportState(r.Scratch);
+            r.LagLastActual = _lastActual;
+            r.LagHasLastActual = _hasLastActual;
+            r.ClosedCount = 0;
+        }
+
+        _ids?.ForgetBefore(_nextToClose);
+        output.Fault(new SeriesFault<TKey>(_key, from, SeriesFaultKind.PeriodsSkipped, string.Create(System.Globalization.CultureInfo.InvariantCulture,
+            $"{skipped} periods without data were skipped, from period {from}: one step may close at most {_options.MaxCatchUpPeriods} periods (SeriesOptions.MaxCatchUpPeriods). The model did not see them.")));
+    }
+
+    private bool HasOpenData()
+    {
+        foreach (OpenPeriod o in Open)
+        {
+            if (o.Has)
+            {
+                return true;
+            }
+        }
+
+        return false;
     }
 
     /// <summary>Closes every open period, including the one holding the latest event (end of input).</summary>

@@ -110,7 +110,10 @@ internal sealed class SeriesTable<TKey>
             return;
         }
 
-        state.Observe(observation.Timestamp, period, observation.Quantity, observation.EventId, arrival, _host);
+        if (state.Observe(observation.Timestamp, period, observation.Quantity, observation.EventId, arrival, _host) is { } refused)
+        {
+            _host.Rejected(observation.Key, refused);
+        }
     }
 
     /// <summary>Closes, in every series, each period that ends at or before the watermark; then evicts quiet series.</summary>

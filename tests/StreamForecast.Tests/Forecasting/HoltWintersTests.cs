@@ -394,41 +394,51 @@ public sealed class HoltWintersMultiplicativeTests : HoltWintersContractTests
     }
 
     [Fact]
-    public void Update_ZeroActualWithLevelWeightOne_IsRejected()
+    public void Update_ZeroActualWithLevelWeightOne_HoldsTheLevelAtTheFloor()
     {
-        // α = 1: ℓ = y/s = 0, which multiplicative seasonality cannot divide by.
+        // α = 1: ℓ = y/s = 0, which multiplicative seasonality cannot divide by; the level is held at the floor and the
+        // series goes on (common practice for a streaming model: never refuse a valid zero).
         var f = Fed(new HoltWintersOptions(2, Seasonality.Multiplicative, 1.0, 0.1, 0.5), [10, 20, 12, 22]);
-        AssertRejected(f, 0);
+        f.Update(0);
+        Assert.Equal(HoltWinters.MultiplicativeFloor, f.Level);
         f.Update(11);
-        Assert.True(f.Level > 0);
+        Assert.True(f.Level > 1);
+        Assert.True(double.IsFinite(f.Forecast(3)));
     }
 
     [Fact]
-    public void Update_ZeroActualWithSeasonalWeightOne_IsRejected()
+    public void Update_ZeroActualWithSeasonalWeightOne_HoldsTheIndexAtTheFloor()
     {
-        // γ = 1: s = y/ℓ = 0 for a zero actual.
+        // γ = 1: s = y/ℓ = 0 for a zero actual; the index is held at the floor.
         var f = Fed(new HoltWintersOptions(2, Seasonality.Multiplicative, 0.5, 0.1, 1.0), [10, 20, 12, 22]);
-        AssertRejected(f, 0);
+        f.Update(0);
+        Assert.Equal(HoltWinters.MultiplicativeFloor, f.SeasonalIndex(2));
+        f.Update(15);
+        f.Update(12); // divided by the floored index: the model degenerates (γ = 1 keeps no memory) but stays finite
+        Assert.True(f.SeasonalIndex(2) >= HoltWinters.MultiplicativeFloor);
+        Assert.True(double.IsFinite(f.Forecast(1)) && double.IsFinite(f.Forecast(2)));
     }
 
     [Fact]
-    public void Update_ActualDrivingLevelBelowZero_IsRejected()
+    public void Update_ActualDrivingLevelBelowZero_DropsTheTrendForThatStep()
     {
         // A steep fall in the start seasons gives a trend of −9.5 per period from a level of 20; with a small level
-        // weight the next level 0.1·y/s + 0.9·(ℓ + b) goes negative whatever small actual follows.
+        // weight 0.1·y/s + 0.9·(ℓ + b) would go negative whatever small actual follows. The step is taken without the
+        // trend instead: ℓ = 0.1·y/s + 0.9·ℓ, and the trend restarts from that change (β = 0 keeps it at 0).
         var f = Fed(new HoltWintersOptions(2, Seasonality.Multiplicative, 0.1, 0.0, 0.1), [20, 20, 1, 1]);
-        Assert.True(f.Level > 0);
-        double[] before = f.ExportState();
-        var ex = Record.Exception(() =>
+        for (int i = 0; i < 5; i++)
         {
-            for (int i = 0; i < 5; i++)
+            double level = f.Level;
+            double index = f.SeasonalIndex(1);
+            f.Update(1);
+            Assert.True(f.Level > 0);
+            if (i == 0)
             {
-                before = f.ExportState();
-                f.Update(1);
+                Assert.Equal((0.1 * (1 / index)) + (0.9 * level), f.Level, 12);
             }
-        });
-        Assert.IsType<ArgumentOutOfRangeException>(ex);
-        Assert.Equal(before, f.ExportState());
+        }
+
+        Assert.True(double.IsFinite(f.Forecast(4)));
     }
 
     [Fact]

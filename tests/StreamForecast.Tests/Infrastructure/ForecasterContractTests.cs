@@ -332,4 +332,126 @@ public abstract class ForecasterContractTests
 
             return whole.ExportState().AsSpan().SequenceEqual(second.ExportState()).Label($"split at {split}");
         });
+
+    /// <summary>
+    /// Every state the forecaster reaches on hostile input imports back bit-identically and continues identically; a
+    /// refused input changes nothing; after every accepted input the next normal value is accepted and forecasts stay
+    /// finite. Runs <see cref="PropertyRuns.Cases"/> sequences from <see cref="HostileInput"/>.
+    /// </summary>
+    [Fact]
+    public void ExportState_HostileSequences_RoundTripsAndNeverFreezes() =>
+        PropertyRuns.Check(Prop.ForAll(HostileInput.Arbitrary(), Gen.Choose(0, 10_000).ToArbitrary(), (series, cut) => HostileRun(series, cut)));
+
+    private Property HostileRun(double[] series, int cut)
+    {
+        var f = Options.CreateForecaster();
+        Forecaster? twin = null;
+        int split = series.Length == 0 ? 0 : cut % (series.Length + 1);
+        double[] normals = Domain == SeriesDomain.Real ? [10.0, -10.0] : [10.0];
+        for (int i = 0; i <= series.Length; i++)
+        {
+            if (i == split)
+            {
+                twin = Options.CreateForecaster();
+                twin.ImportState(f.ExportState());
+            }
+
+            if (i == series.Length)
+            {
+                break;
+            }
+
+            double v = series[i];
+            double[] before = f.ExportState();
+            bool accepted;
+            try
+            {
+                f.Update(v);
+                accepted = true;
+            }
+            catch (ArgumentOutOfRangeException)
+            {
+                accepted = false;
+            }
+
+            double[] after = f.ExportState();
+            if (!accepted)
+            {
+                if (!before.AsSpan().SequenceEqual(after))
+                {
+                    return false.Label($"refused {v:R} at {i} changed the state");
+                }
+
+                if (Math.Abs(v) <= 1000 && v >= 0 && v != 0 && Domain != SeriesDomain.Real)
+                {
+                    return false.Label($"a normal value {v:R} was refused at {i}");
+                }
+            }
+
+            if (twin is not null)
+            {
+                bool twinAccepted;
+                try
+                {
+                    twin.Update(v);
+                    twinAccepted = true;
+                }
+                catch (ArgumentOutOfRangeException)
+                {
+                    twinAccepted = false;
+                }
+
+                if (twinAccepted != accepted || !twin.ExportState().AsSpan().SequenceEqual(after))
+                {
+                    return false.Label($"the copy imported at {split} diverged at {i} ({v:R})");
+                }
+            }
+
+            if (!accepted)
+            {
+                continue;
+            }
+
+            var copy = Options.CreateForecaster();
+            try
+            {
+                copy.ImportState(after);
+            }
+            catch (ArgumentException ex)
+            {
+                return false.Label($"the state after {i} ({v:R}) does not import: {ex.Message}");
+            }
+
+            if (!copy.ExportState().AsSpan().SequenceEqual(after))
+            {
+                return false.Label($"export after import differs at {i}");
+            }
+
+            if (f.IsWarm && !(double.IsFinite(f.Forecast(1)) && double.IsFinite(f.Forecast(12))))
+            {
+                return false.Label($"non-finite forecast after {i} ({v:R})");
+            }
+
+            foreach (double normal in normals)
+            {
+                var probe = Options.CreateForecaster();
+                probe.ImportState(after);
+                try
+                {
+                    probe.Update(normal);
+                }
+                catch (ArgumentOutOfRangeException ex)
+                {
+                    return false.Label($"after {i} ({v:R}) the normal value {normal} is refused: {ex.Message}");
+                }
+
+                if (probe.IsWarm && !double.IsFinite(probe.Forecast(1)))
+                {
+                    return false.Label($"after {i} ({v:R}) the normal value {normal} gives a non-finite forecast");
+                }
+            }
+        }
+
+        return true.ToProperty();
+    }
 }
