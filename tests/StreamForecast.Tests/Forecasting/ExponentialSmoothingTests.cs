@@ -359,14 +359,18 @@ public sealed class ExponentialSmoothingTests : ExponentialSmoothingContractTest
     }
 
     [Fact]
-    public void Update_SumThatWouldOverflow_ThrowsAndLeavesStateUnchanged()
+    public void Update_BeyondNumericDomain_ThrowsAndLeavesStateUnchanged()
     {
+        // Values beyond NumericDomain.MaxMagnitude are refused at the door, so the warm-up sum can never overflow.
         var f = new ExponentialSmoothingOptions(0.5, LevelStart.MeanOfFirst(3)).CreateForecaster();
-        f.Update(double.MaxValue);
+        f.Update(NumericDomain.MaxMagnitude);
         double[] before = f.ExportState();
-        Assert.Throws<ArgumentOutOfRangeException>(() => f.Update(double.MaxValue));
+        var ex = Assert.Throws<ArgumentOutOfRangeException>(() => f.Update(double.MaxValue));
+        Assert.Contains("MaxMagnitude", ex.Message, StringComparison.Ordinal);
         Assert.Equal(before, f.ExportState());
-        Assert.Equal(1, f.Count);
+        f.Update(NumericDomain.MaxMagnitude);
+        f.Update(NumericDomain.MaxMagnitude);
+        Assert.Equal(NumericDomain.MaxMagnitude, f.Forecast());
     }
 
     [Fact]

@@ -40,6 +40,49 @@ public sealed class WeightedMovingAverageTests : WeightedMovingAverageContractTe
 {
     protected override double[] Weights => [3, 2, 1];
 
+    [Theory]
+    [InlineData(new double[] { 3, 2, 1 })]
+    [InlineData(new double[] { 4, 3, 2, 1 })]
+    public void ImportState_WindowRolledBackToZeros_AcceptsTheRoundingResidue(double[] weights)
+    {
+        // Found in use: once the window is all zeros the running sums hold a residue of about 1e-15 instead of 0, and an
+        // exact check refused the state the forecaster had just exported (so an engine snapshot could not restore).
+        var options = new WeightedMovingAverageOptions(weights);
+        double[] actuals = [22.18, 18.54, 7.38, 16.06, 15.83, 0, 0, 0, 0];
+        var f = options.CreateForecaster();
+        foreach (double y in actuals)
+        {
+            f.Update(y);
+            double[] state = f.ExportState();
+            var copy = options.CreateForecaster();
+            copy.ImportState(state);
+            Assert.Equal(state, copy.ExportState());
+            f.Update(0);
+            copy.Update(0);
+            Assert.Equal(f.ExportState(), copy.ExportState());
+        }
+    }
+
+    [Fact]
+    public void ImportState_WeightedSumOffByMoreThanRounding_IsRefused()
+    {
+        var f = new WeightedMovingAverageOptions([3, 2, 1]).CreateForecaster();
+        foreach (double y in new[] { 22.18, 18.54, 7.38, 16.06 })
+        {
+            f.Update(y);
+        }
+
+        double[] state = f.ExportState();
+        double[] edited = (double[])state.Clone();
+        edited[1 + 3 + 2] += 1e-9; // W, the weighted sum
+        var ex = Assert.Throws<ArgumentException>(() => f.ImportState(edited));
+        Assert.Contains("weighted running sum", ex.Message, StringComparison.Ordinal);
+        double[] peakTooSmall = (double[])state.Clone();
+        peakTooSmall[1 + 3 + 4] = 1;
+        Assert.Throws<ArgumentException>(() => f.ImportState(peakTooSmall));
+        Assert.Equal(state, f.ExportState());
+    }
+
     [Fact]
     public void Forecast_NistAveragingSeries_MatchesThreeTwoOneWeightedForecasts()
     {

@@ -224,14 +224,19 @@ public sealed class TrackedForecasterTests
     }
 
     [Fact]
-    public void Update_ErrorWouldOverflow_ThrowsAndLeavesBothStatesUnchanged()
+    public void Update_OppositeExtremesOfTheDomain_ScoresWithoutOverflowAndRefusesBeyond()
     {
-        // The forecaster accepts 1.5e308 but the tracker cannot score it against −1.5e308: nothing changes in either.
+        // Inside ±NumericDomain.MaxMagnitude the largest error (2e15) and its square stay far inside the double range.
         var tracked = new TrackedForecaster(new NaiveOptions());
-        tracked.Update(-1.5e308);
+        tracked.Update(-NumericDomain.MaxMagnitude);
+        tracked.Update(NumericDomain.MaxMagnitude);
+        Assert.Equal(2 * NumericDomain.MaxMagnitude, tracked.Tracker.Rsfe);
+        Assert.Equal(4e30, tracked.Tracker.Mse);
         double[] before = tracked.ExportState();
         Assert.Throws<ArgumentOutOfRangeException>(() => tracked.Update(1.5e308));
         Assert.Equal(before, tracked.ExportState());
+        tracked.Update(3);
+        Assert.Equal(3.0, tracked.Forecaster.Forecast());
     }
 
     [Fact]
