@@ -111,6 +111,7 @@ internal sealed class CommonOptions
             throw new UsageException($"--max-periods {maxPeriods}: give 1 or more.");
         }
 
+        PeriodCalendar calendar = Calendar(parse);
         return new CsvLayout(
             parse.GetValue(Key)!,
             parse.GetValue(Time)!,
@@ -118,9 +119,9 @@ internal sealed class CommonOptions
             parse.GetValue(EventId),
             delimiter,
             parse.GetValue(OnBadRow),
-            TimestampReader.Of(parse.GetValue(TimeFormat)!, ZoneOf(parse.GetValue(Zone)!)),
+            TimestampReader.Of(parse.GetValue(TimeFormat)!, ZoneOf(parse.GetValue(Zone)!), calendar),
             quantities,
-            Calendar(parse),
+            calendar,
             maxPeriods);
     }
 

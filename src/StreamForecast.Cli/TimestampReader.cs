@@ -1,6 +1,7 @@
 using System.Globalization;
 using System.Text;
 using System.Text.RegularExpressions;
+using StreamForecast.Periods;
 
 namespace StreamForecast.Cli;
 
@@ -8,7 +9,8 @@ namespace StreamForecast.Cli;
 /// Reads the timestamp column. Without formats it takes ISO 8601 only (a date, or a date and time with 'T' or a space,
 /// optionally with seconds, a fraction and 'Z' or an offset such as +01:00), so nothing depends on a culture's
 /// day/month order. With formats (<c>--time-format</c>) it takes exactly those .NET custom formats, with the invariant
-/// culture. A value without an offset is a wall-clock time in the zone given.
+/// culture. A value without an offset is a wall-clock time in the zone given; one the zone's clocks show twice (when they
+/// go back) is refused when its two readings fall in different periods, since the file does not say which was meant.
 /// </summary>
 /// <remarks>
 /// A slash or dot date such as 01/04/2025 is refused without a format even when its numbers fix the order (13/04/2025):
@@ -30,23 +32,25 @@ internal sealed partial class TimestampReader
     private readonly string[] _formats;
     private readonly bool _iso;
     private readonly TimeZoneInfo _zone;
+    private readonly PeriodCalendar _calendar;
 
-    private TimestampReader(string[] formats, bool iso, TimeZoneInfo zone)
+    private TimestampReader(string[] formats, bool iso, TimeZoneInfo zone, PeriodCalendar calendar)
     {
         _formats = formats;
         _iso = iso;
         _zone = zone;
+        _calendar = calendar;
     }
 
     /// <summary>The ISO 8601 reader (no <c>--time-format</c>).</summary>
-    public static TimestampReader Iso(TimeZoneInfo zone) => new(s_isoFormats, iso: true, zone);
+    public static TimestampReader Iso(TimeZoneInfo zone, PeriodCalendar calendar) => new(s_isoFormats, iso: true, zone, calendar);
 
     /// <summary>
     /// A reader of the given .NET custom formats. Each value of <paramref name="options"/> may hold several formats
     /// separated by commas; a comma inside a quoted literal (<c>'...'</c>) or after a backslash belongs to the format.
     /// </summary>
     /// <exception cref="UsageException">A format is empty, invalid, or does not fix the year, month and day.</exception>
-    public static TimestampReader Of(IReadOnlyList<string> options, TimeZoneInfo zone)
+    public static TimestampReader Of(IReadOnlyList<string> options, TimeZoneInfo zone, PeriodCalendar calendar)
     {
         var formats = new List<string>();
         foreach (string option in options)
@@ -57,7 +61,7 @@ internal sealed partial class TimestampReader
             }
         }
 
-        return formats.Count == 0 ? Iso(zone) : new TimestampReader([.. formats], iso: false, zone);
+        return formats.Count == 0 ? Iso(zone, calendar) : new TimestampReader([.. formats], iso: false, zone, calendar);
     }
 
     /// <summary>The accepted forms, for messages and help.</summary>
@@ -85,7 +89,7 @@ internal sealed partial class TimestampReader
             }
 
             time = new DateTimeOffset(local, offset);
-            return true;
+            return IsUnambiguous(text, local, out problem);
         }
 
         // With 'Z' or an offset: DateTimeOffset refuses an instant outside the years 1 to 9999 in UTC.
@@ -96,6 +100,51 @@ internal sealed partial class TimestampReader
 
         problem = _iso ? IsoProblem(text) : $"'{Shorten(text)}' does not match {Description} (or lies outside the years 1 to 9999 once its offset is applied).";
         return false;
+    }
+
+    /// <summary>
+    /// False when the zone's clocks show <paramref name="local"/> twice and the two instants fall in different periods
+    /// (an hourly period on the night the clocks go back); a daily period usually holds both, and then either reading will do.
+    /// </summary>
+    /// <remarks>
+    /// Found from the offsets themselves rather than <see cref="TimeZoneInfo.IsAmbiguousTime(DateTime)"/>, which misses
+    /// the autumn fold of zones whose summer time is their standard time (Europe/Dublin on Linux). Two offset look-ups
+    /// per row when no clock change is within about 15 hours, a few more near one.
+    /// </remarks>
+    private bool IsUnambiguous(string text, DateTime local, out string? problem)
+    {
+        problem = null;
+        var window = TimeSpan.FromHours(15); // beyond any UTC offset, so the two look-ups bracket every reading of local
+        if (local.Ticks < window.Ticks || local.Ticks > DateTime.MaxValue.Ticks - window.Ticks)
+        {
+            return true; // at the ends of the range; the range checks report what matters there
+        }
+
+        var nominal = new DateTimeOffset(local, TimeSpan.Zero);
+        TimeSpan before = _zone.GetUtcOffset(nominal - window);
+        TimeSpan after = _zone.GetUtcOffset(nominal + window);
+        if (before == after || !ShowsLocal(before) || !ShowsLocal(after))
+        {
+            return true; // no clock change nearby, or only one reading shows this wall-clock time
+        }
+
+        if (_calendar.TryPeriodOf(new DateTimeOffset(local, before), out long first)
+            && _calendar.TryPeriodOf(new DateTimeOffset(local, after), out long second)
+            && first != second)
+        {
+            problem = $"'{Shorten(text)}' occurs twice in --zone {_zone.Id} (the clocks go back; UTC{Sign(before)} or UTC{Sign(after)}) " +
+                "and the two readings fall in different periods; write the offset in the timestamp, e.g. " +
+                $"{new DateTimeOffset(local, before).ToString("yyyy-MM-dd'T'HH:mm:sszzz", CultureInfo.InvariantCulture)}.";
+            return false;
+        }
+
+        return true;
+
+        bool ShowsLocal(TimeSpan offset)
+        {
+            var instant = new DateTimeOffset(local, offset);
+            return _zone.GetUtcOffset(instant) == offset;
+        }
     }
 
     private static string IsoProblem(string text)

@@ -204,6 +204,25 @@ public sealed class CommandLineInputTests : IDisposable
         Assert.StartsWith("e/bun,2025-04-02T23:00:00.0000000+00:00,47,", rows[^1], StringComparison.Ordinal);
     }
 
+    [Theory]
+    [InlineData("Europe/Dublin")]
+    [InlineData("America/New_York")]
+    public void Replay_LocalTimeShownTwiceWhenClocksGoBack_RefusedOnlyWhenItsPeriodDependsOnTheReading(string zone)
+    {
+        // The clocks go back at 02:00 local on 26 October 2025 in Dublin and on 2 November 2025 in New York (IANA time
+        // zone database, common practice): 01:30 is shown twice, an hour apart.
+        string day = zone == "Europe/Dublin" ? "2025-10-26" : "2025-11-02";
+        _tool.Write("fold.csv", Header + $"e,bun,{day} 00:30,1\ne,bun,{day} 01:30,2\ne,bun,{day} 03:30,3\n");
+
+        ToolResult hourly = Replay("fold.csv", "--zone", zone, "--period", "1h");
+        ToolResult daily = Replay("fold.csv", "--zone", zone);
+
+        Assert.True(hourly.ExitCode == 2, hourly.ToString());
+        Assert.Contains($"fold.csv, line 3, column 3 ('sold_at'): '{day} 01:30' occurs twice in --zone {zone}", hourly.Error, StringComparison.Ordinal);
+        Assert.True(daily.ExitCode == 0, daily.ToString()); // both readings are in the same local day
+        Assert.Contains("Read 3 rows", daily.Output, StringComparison.Ordinal);
+    }
+
     [Fact]
     public void Replay_SeveralTimeFormats_ReadsRowsInEitherForm()
     {
