@@ -23,6 +23,11 @@ public sealed record BatchResult(int Accepted, IReadOnlyList<RejectedSale> Rejec
 public sealed record RejectedSale(int Index, IReadOnlyList<string> Reasons);
 
 /// <summary>The current forecast of one shop and item.</summary>
+/// <remarks>
+/// A statistic that is not defined yet (MAD and the tracking signal before any error exists, for example after a single
+/// closed day; an interval without an error estimate) is written as JSON <c>null</c>, never omitted, so clients see
+/// every field in every answer. JSON has no NaN or infinity, and a NaN must never turn an answer into an error.
+/// </remarks>
 /// <param name="Shop">The shop.</param>
 /// <param name="Item">The item.</param>
 /// <param name="LastClosedDay">The last shop day that closed (local date).</param>
@@ -31,10 +36,10 @@ public sealed record RejectedSale(int Index, IReadOnlyList<string> Reasons);
 /// <param name="NextDayLow">The lower end of its 80% interval; null without an error estimate.</param>
 /// <param name="NextDayHigh">The upper end of its 80% interval.</param>
 /// <param name="Method">The forecasting method.</param>
-/// <param name="Mad">The mean absolute deviation of the errors so far.</param>
-/// <param name="TrackingSignal">RSFE / MAD.</param>
+/// <param name="Mad">The mean absolute deviation of the errors so far; null until there is an error to average.</param>
+/// <param name="TrackingSignal">RSFE / MAD; null while MAD is undefined or zero.</param>
 public sealed record ItemForecast(
-    string Shop, string Item, DateOnly LastClosedDay, double LastDaySold, double? NextDay, double? NextDayLow, double? NextDayHigh, string Method, double Mad, double TrackingSignal);
+    string Shop, string Item, DateOnly LastClosedDay, double LastDaySold, double? NextDay, double? NextDayLow, double? NextDayHigh, string Method, double? Mad, double? TrackingSignal);
 
 /// <summary>An open drift alert of one shop and item.</summary>
 /// <param name="Shop">The shop.</param>

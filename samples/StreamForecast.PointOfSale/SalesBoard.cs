@@ -31,10 +31,10 @@ public sealed class SalesBoard(HostedForecastEngine<string> engine, TimeZoneInfo
             {
                 list.Add(new ItemForecast(
                     s, i, Day(u.PeriodStart), u.Actual,
-                    u.Next.IsValid ? Math.Round(u.Next.Value, 1) : null,
-                    double.IsNaN(u.Next.Lower) ? null : Math.Round(u.Next.Lower, 1),
-                    double.IsNaN(u.Next.Upper) ? null : Math.Round(u.Next.Upper, 1),
-                    u.Method, Math.Round(u.Errors.Mad, 2), Math.Round(u.Errors.TrackingSignal, 2)));
+                    u.Next.IsValid ? Rounded(u.Next.Value, 1) : null,
+                    Rounded(u.Next.Lower, 1),
+                    Rounded(u.Next.Upper, 1),
+                    u.Method, Rounded(u.Errors.Mad, 2), Rounded(u.Errors.TrackingSignal, 2)));
             }
         }
 
@@ -89,6 +89,9 @@ public sealed class SalesBoard(HostedForecastEngine<string> engine, TimeZoneInfo
         _forecasts?.Dispose();
         _alerts?.Dispose();
     }
+
+    /// <summary>A statistic for JSON: rounded when it is a number, null when it is undefined (NaN) or infinite.</summary>
+    private static double? Rounded(double value, int digits) => double.IsFinite(value) ? Math.Round(value, digits) : null;
 
     private static (string Shop, string Item) Split(string key)
     {

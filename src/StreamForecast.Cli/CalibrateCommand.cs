@@ -42,7 +42,7 @@ internal static class CalibrateCommand
             CsvReadResult read = ProgressDisplay.Run("Reading", p => CsvObservations.Read(parse.GetValue(common.Input)!, common.Layout(parse), p));
             Output.ReportSkipped(read);
             string key = parse.GetValue(series)!;
-            var histories = SeriesHistories.Build(read.Rows, calendar, out _);
+            var histories = SeriesHistories.Build(read, calendar, out _);
             double[] history = histories.FirstOrDefault(h => h.Key == key).Value
                 ?? throw new DataException($"No series '{key}' in the input; keys found: {string.Join(", ", histories.Take(10).Select(h => h.Key))}{(histories.Count > 10 ? ", …" : string.Empty)}.");
             LimitCalibration c;

@@ -23,7 +23,8 @@ internal static class ChartCommand
         {
             ReplaySettings settings = ReplayCommand.SettingsOf(common, parse);
             string[] keys = parse.GetValue(series)!;
-            CsvReadResult read = ProgressDisplay.Run("Reading", p => CsvObservations.Read(parse.GetValue(common.Input)!, common.Layout(parse), p));
+            CsvLayout layout = common.Layout(parse);
+            CsvReadResult read = ProgressDisplay.Run("Reading", p => CsvObservations.Read(parse.GetValue(common.Input)!, layout, p));
             Output.ReportSkipped(read);
             var wanted = new HashSet<string>(keys, StringComparer.Ordinal);
             var rows = read.Rows.Where(r => wanted.Contains(r.Key)).ToList();
@@ -44,6 +45,7 @@ internal static class ChartCommand
                 AnsiConsole.MarkupLine("Wrote {0}: {1} ({2} periods, {3} alert transitions).", Markup.Escape(file), Markup.Escape(keys[i]), forecasts.Select(f => f.Period).Distinct().Count(), alerts.Count);
             }
 
+            Output.ReportDropped(read, result, layout.OnBadRow);
             return ExitCodes.Ok;
         }));
         return command;

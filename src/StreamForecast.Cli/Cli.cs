@@ -21,11 +21,6 @@ internal static class Cli
             Error("data", e.Message);
             return ExitCodes.Data;
         }
-        catch (CsvHelper.CsvFormatException e)
-        {
-            Error("data", $"line {e.LineNumber}: the CSV is malformed ({e.Message})");
-            return ExitCodes.Data;
-        }
         catch (OperationCanceledException)
         {
             Error("cancelled", "the command was cancelled.");

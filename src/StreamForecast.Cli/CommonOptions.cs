@@ -26,9 +26,31 @@ internal sealed class CommonOptions
 
     public Option<string> Delimiter { get; } = new("--delimiter") { Description = "The field delimiter (',', ';', 'tab' ...).", DefaultValueFactory = _ => "," };
 
+    public Option<string[]> TimeFormat { get; } = new("--time-format")
+    {
+        Description = "The timestamp form(s) as .NET custom formats, read with the invariant culture, e.g. \"dd/MM/yyyy HH:mm\"; " +
+            "repeat the option or separate formats with commas. Without it only ISO 8601 is read (2025-03-01, 2025-03-01T09:30, " +
+            "2025-03-01 09:30:00+01:00); a day/month date such as 01/04/2025 or even 13/04/2025 is refused, since the order must not be guessed.",
+        DefaultValueFactory = _ => [],
+    };
+
+    public Option<string> DecimalSeparator { get; } = new("--decimal-separator")
+    {
+        Description = "The quantity's decimal separator: '.' (default) or ','. With ',' the fields must be delimited by something else (--delimiter ';').",
+        DefaultValueFactory = _ => ".",
+    };
+
+    public Option<long> MaxPeriods { get; } = new("--max-periods")
+    {
+        Description = "The most periods the rows may span from the earliest to the latest timestamp (every period between is closed); " +
+            "a wider span is a data error naming both rows.",
+        DefaultValueFactory = _ => 100_000,
+    };
+
     public Option<BadRowMode> OnBadRow { get; } = new("--on-bad-row")
     {
-        Description = "stop (default): stop at the first malformed row, naming file, line and column; skip: skip, count and report them.",
+        Description = "stop (default): stop at the first malformed row, naming file, line and column, and exit 2 when the engine drops any event " +
+            "or period (too late, refused); skip: skip, count and report malformed rows, and count the dropped ones without failing.",
         DefaultValueFactory = _ => BadRowMode.Stop,
     };
 
@@ -68,20 +90,40 @@ internal sealed class CommonOptions
     public void AddInputOptions(Command command)
     {
         command.Arguments.Add(Input);
-        foreach (Option option in new Option[] { Key, Time, Quantity, EventId, Delimiter, OnBadRow, Period, Zone })
+        foreach (Option option in new Option[] { Key, Time, Quantity, EventId, Delimiter, TimeFormat, DecimalSeparator, OnBadRow, Period, Zone, MaxPeriods })
         {
             command.Options.Add(option);
         }
     }
 
-    public CsvLayout Layout(ParseResult parse) => new(
-        parse.GetValue(Key)!,
-        parse.GetValue(Time)!,
-        parse.GetValue(Quantity)!,
-        parse.GetValue(EventId),
-        DelimiterOf(parse.GetValue(Delimiter)!),
-        parse.GetValue(OnBadRow),
-        ZoneOf(parse.GetValue(Zone)!));
+    public CsvLayout Layout(ParseResult parse)
+    {
+        string delimiter = DelimiterOf(parse.GetValue(Delimiter)!);
+        var quantities = new QuantityReader(parse.GetValue(DecimalSeparator)!);
+        if (quantities.Separator.ToString() == delimiter)
+        {
+            throw new UsageException($"--decimal-separator '{quantities.Separator}' is also the field delimiter; files with a decimal comma are usually delimited by ';' (--delimiter ';').");
+        }
+
+        long maxPeriods = parse.GetValue(MaxPeriods);
+        if (maxPeriods < 1)
+        {
+            throw new UsageException($"--max-periods {maxPeriods}: give 1 or more.");
+        }
+
+        PeriodCalendar calendar = Calendar(parse);
+        return new CsvLayout(
+            parse.GetValue(Key)!,
+            parse.GetValue(Time)!,
+            parse.GetValue(Quantity)!,
+            parse.GetValue(EventId),
+            delimiter,
+            parse.GetValue(OnBadRow),
+            TimestampReader.Of(parse.GetValue(TimeFormat)!, ZoneOf(parse.GetValue(Zone)!), calendar),
+            quantities,
+            calendar,
+            maxPeriods);
+    }
 
     public PeriodCalendar Calendar(ParseResult parse)
     {

@@ -1,5 +1,6 @@
 using System.Globalization;
 using CsvHelper;
+using StreamForecast.Periods;
 using StreamForecast.Streaming;
 
 namespace StreamForecast.Cli;
@@ -15,6 +16,16 @@ internal enum BadRowMode
 }
 
 /// <summary>Which columns of the input CSV hold what, and how to read it.</summary>
+/// <param name="KeyColumns">The key column(s).</param>
+/// <param name="TimeColumn">The timestamp column.</param>
+/// <param name="QuantityColumn">The quantity column.</param>
+/// <param name="EventIdColumn">The optional event-id column.</param>
+/// <param name="Delimiter">The field delimiter, one ASCII character.</param>
+/// <param name="OnBadRow">What to do with a row that cannot be read.</param>
+/// <param name="Times">How timestamps are written (ISO 8601, or the --time-format formats) and the zone of local times.</param>
+/// <param name="Quantities">How quantities are written (the decimal separator) and their accepted range.</param>
+/// <param name="Calendar">The period calendar: a timestamp outside its supported range is a bad row.</param>
+/// <param name="MaxPeriods">The most periods the rows may span, first to last (every period between is closed).</param>
 internal sealed record CsvLayout(
     IReadOnlyList<string> KeyColumns,
     string TimeColumn,
@@ -22,28 +33,48 @@ internal sealed record CsvLayout(
     string? EventIdColumn,
     string Delimiter,
     BadRowMode OnBadRow,
-    TimeZoneInfo LocalZone)
+    TimestampReader Times,
+    QuantityReader Quantities,
+    PeriodCalendar Calendar,
+    long MaxPeriods)
 {
     /// <summary>The text between the parts of a composite key.</summary>
     public const string KeySeparator = "/";
 }
 
-/// <summary>The rows read from a CSV file.</summary>
-internal sealed class CsvReadResult(List<Observation<string>> rows, int skipped, List<string> skippedExamples)
+/// <summary>The rows read from a CSV file, with the line each starts on (for messages about them later).</summary>
+internal sealed class CsvReadResult(string path, string quantityColumn, List<Observation<string>> rows, List<long> lines, int skipped, List<string> skippedExamples)
 {
+    public string Path { get; } = path;
+
+    /// <summary>The quantity column as messages name it: <c>column 4 ('units')</c>.</summary>
+    public string QuantityColumn { get; } = quantityColumn;
+
     public List<Observation<string>> Rows { get; } = rows;
+
+    /// <summary>The line of the file where each row of <see cref="Rows"/> starts (a quoted field may span lines).</summary>
+    public List<long> Lines { get; } = lines;
 
     public int Skipped { get; } = skipped;
 
     public List<string> SkippedExamples { get; } = skippedExamples;
 }
 
-/// <summary>Reads observations (key, timestamp, quantity, optional event id) from a CSV file with CsvHelper.</summary>
+/// <summary>
+/// Reads observations (key, timestamp, quantity, optional event id) from an RFC 4180 CSV file with CsvHelper: quoted
+/// fields may hold delimiters, line breaks and doubled quotes, and every message names the line where the record starts.
+/// </summary>
 internal static class CsvObservations
 {
     private const int MaxExamples = 5;
 
-    /// <summary>Reads every row; throws <see cref="DataException"/> for a missing file or column, and for a bad row in stop mode.</summary>
+    /// <summary>A record may be at most this long, so an unclosed quote near the start of a big file fails fast.</summary>
+    private const int MaxRecordBytes = 1 << 20;
+
+    /// <summary>
+    /// Reads every row; throws <see cref="DataException"/> for a missing or unreadable file or column, for a bad row in
+    /// stop mode, and when the rows span more periods than <see cref="CsvLayout.MaxPeriods"/>.
+    /// </summary>
     public static CsvReadResult Read(string path, CsvLayout layout, IProgressSink progress)
     {
         if (!File.Exists(path))
@@ -56,18 +87,35 @@ internal static class CsvObservations
             throw new UsageException($"--delimiter '{layout.Delimiter}': give a single ASCII character other than a quote, such as ',', ';', '|' or tab.");
         }
 
-        bool malformed = false;
+        var quoting = new QuotingProblem();
         var options = new CsvReaderOptions
         {
             Separator = layout.Delimiter[0],
             HasHeader = true,
             TrackLineNumbers = true,
             TrimWhitespace = true,
-            AllowLineBreaksInQuotes = false,
+            AllowLineBreaksInQuotes = true,
+            MaxRecordSize = MaxRecordBytes,
             MalformedData = CsvMalformedDataHandling.Recover,
-            OnMalformedRecord = _ => malformed = true,
+            OnMalformedRecord = record => quoting.Reason ??= record.Reason,
         };
 
+        try
+        {
+            return ReadRows(path, layout, options, quoting, progress);
+        }
+        catch (CsvFormatException e)
+        {
+            throw new DataException($"{path}, line {e.LineNumber}: the CSV cannot be read from here ({Short(e.Message).TrimEnd('.')}). A quoted field may be missing its closing quote.");
+        }
+        catch (Exception e) when (e is IOException or UnauthorizedAccessException)
+        {
+            throw new DataException($"{path}: cannot be read ({e.Message}).");
+        }
+    }
+
+    private static CsvReadResult ReadRows(string path, CsvLayout layout, CsvReaderOptions options, QuotingProblem quoting, IProgressSink progress)
+    {
         long length = new FileInfo(path).Length;
         using CsvReader csv = CsvReader.FromFile(path, options);
         csv.ReadHeader();
@@ -77,30 +125,34 @@ internal static class CsvObservations
             throw new DataException($"{path}: the file is empty; expected a header row.");
         }
 
-        int[] keyIndexes = [.. layout.KeyColumns.Select(c => IndexOf(path, header, c, layout.Delimiter))];
-        int timeIndex = IndexOf(path, header, layout.TimeColumn, layout.Delimiter);
-        int quantityIndex = IndexOf(path, header, layout.QuantityColumn, layout.Delimiter);
-        int eventIndex = layout.EventIdColumn is null ? -1 : IndexOf(path, header, layout.EventIdColumn, layout.Delimiter);
-        int needed = Math.Max(Math.Max(timeIndex, quantityIndex), Math.Max(eventIndex, keyIndexes.Max())) + 1;
+        var columns = new Columns(
+            [.. layout.KeyColumns.Select(c => IndexOf(path, header, c, layout.Delimiter))],
+            IndexOf(path, header, layout.TimeColumn, layout.Delimiter),
+            IndexOf(path, header, layout.QuantityColumn, layout.Delimiter),
+            layout.EventIdColumn is null ? -1 : IndexOf(path, header, layout.EventIdColumn, layout.Delimiter));
 
         var rows = new List<Observation<string>>();
+        var lines = new List<long>();
         var examples = new List<string>();
+        var span = new PeriodSpan();
         int skipped = 0;
         long lastReport = 0;
         progress.Start(length);
         while (csv.Read())
         {
-            string? problem = TryRow(csv, path, header, keyIndexes, timeIndex, quantityIndex, eventIndex, needed, layout.LocalZone, out Observation<string> row);
-            if (problem is null && malformed)
-            {
-                problem = $"{path}, line {csv.LineNumber}: malformed quoting (a stray or unclosed quote).";
-            }
-
-            malformed = false;
+            // Bad quoting explains the rest (a field count, a value), so it is reported first.
+            Observation<string> row = default;
+            long period = 0;
+            string? problem = quoting.Reason is { } reason
+                ? $"{path}, line {csv.LineNumber}: {Describe(reason)}"
+                : TryRow(csv, path, header, columns, layout, out row, out period);
+            quoting.Reason = null;
 
             if (problem is null)
             {
                 rows.Add(row);
+                lines.Add(csv.LineNumber);
+                span.Include(period, csv.LineNumber, row.Timestamp);
             }
             else if (layout.OnBadRow == BadRowMode.Stop)
             {
@@ -123,8 +175,25 @@ internal static class CsvObservations
         }
 
         progress.Report(length);
-        return new CsvReadResult(rows, skipped, examples);
+        if (span.Count > layout.MaxPeriods)
+        {
+            string time = $"column {columns.Time + 1} ('{header[columns.Time]}')";
+            throw new DataException(
+                string.Create(CultureInfo.InvariantCulture, $"{path}: the rows span {span.Count:N0} periods of {layout.Calendar.Name}, from line {span.FirstLine}, {time} ({span.FirstTime:O}) ") +
+                string.Create(CultureInfo.InvariantCulture, $"to line {span.LastLine}, {time} ({span.LastTime:O}), and every period between would be closed; at most {layout.MaxPeriods:N0} are allowed. ") +
+                "Check those timestamps (and --period), or raise --max-periods.");
+        }
+
+        return new CsvReadResult(path, $"column {columns.Quantity + 1} ('{header[columns.Quantity]}')", rows, lines, skipped, examples);
     }
+
+    private static string Describe(CsvMalformedReason reason) => reason switch
+    {
+        CsvMalformedReason.UnterminatedQuote => "a quoted field that starts in this record is never closed.",
+        CsvMalformedReason.StrayQuote => "a quote inside an unquoted field (quote the whole field and double the quote: \"a \"\"b\"\"\").",
+        CsvMalformedReason.TextAfterClosingQuote => "text after the closing quote of a quoted field (a quote inside a quoted field must be doubled).",
+        _ => $"malformed quoting ({reason}).",
+    };
 
     private static int IndexOf(string path, string[] header, string column, string delimiter)
     {
@@ -141,44 +210,50 @@ internal static class CsvObservations
         throw new DataException($"{path}, line 1: no column named '{column}'; the header has {found}.{hint}");
     }
 
-    private static string? TryRow(
-        CsvReader csv, string path, string[] header, int[] keyIndexes, int timeIndex, int quantityIndex, int eventIndex, int needed,
-        TimeZoneInfo zone, out Observation<string> row)
+    private static string? TryRow(CsvReader csv, string path, string[] header, Columns columns, CsvLayout layout, out Observation<string> row, out long period)
     {
         row = default;
+        period = 0;
         long line = csv.LineNumber;
-        if (csv.FieldCount < needed)
+        if (csv.FieldCount < columns.Needed)
         {
-            return $"{path}, line {line}: the row has {csv.FieldCount} field(s), expected at least {needed} (column {needed}, '{header[needed - 1]}', is missing).";
+            return $"{path}, line {line}: the row has {csv.FieldCount} field(s), expected at least {columns.Needed} (column {columns.Needed}, '{header[columns.Needed - 1]}', is missing).";
         }
 
         string Where(int index) => $"{path}, line {line}, column {index + 1} ('{header[index]}')";
 
-        var parts = new string[keyIndexes.Length];
-        for (int i = 0; i < keyIndexes.Length; i++)
+        var parts = new string[columns.Keys.Length];
+        for (int i = 0; i < columns.Keys.Length; i++)
         {
-            string part = csv.GetString(keyIndexes[i]) ?? string.Empty;
+            string part = csv.GetString(columns.Keys[i]) ?? string.Empty;
             if (part.Length == 0)
             {
-                return $"{Where(keyIndexes[i])}: the key part is empty.";
+                return $"{Where(columns.Keys[i])}: the key part is empty.";
             }
 
             parts[i] = part;
         }
 
-        string timeText = csv.GetString(timeIndex) ?? string.Empty;
-        if (!TryParseTime(timeText, zone, out DateTimeOffset time))
+        string timeText = csv.GetString(columns.Time) ?? string.Empty;
+        if (!layout.Times.TryRead(timeText, out DateTimeOffset time, out string? timeProblem))
         {
-            return $"{Where(timeIndex)}: '{Shorten(timeText)}' is not a timestamp; use ISO 8601, e.g. 2025-03-01T09:30:00+01:00, or a local time or date read in --zone.";
+            return $"{Where(columns.Time)}: {timeProblem}";
         }
 
-        string quantityText = csv.GetString(quantityIndex) ?? string.Empty;
-        if (!double.TryParse(quantityText, NumberStyles.Float, CultureInfo.InvariantCulture, out double quantity) || !double.IsFinite(quantity))
+        if (!layout.Calendar.TryPeriodOf(time, out period))
         {
-            return $"{Where(quantityIndex)}: '{Shorten(quantityText)}' is not a finite number (use '.' as the decimal point).";
+            PeriodCalendar c = layout.Calendar;
+            return string.Create(CultureInfo.InvariantCulture,
+                $"{Where(columns.Time)}: {time:O} is outside the range the period calendar {c.Name} supports ({c.SupportedStart:O} to {c.SupportedEnd:O}).");
         }
 
-        string? eventId = eventIndex < 0 ? null : csv.GetString(eventIndex);
+        string quantityText = csv.GetString(columns.Quantity) ?? string.Empty;
+        if (!layout.Quantities.TryRead(quantityText, out double quantity, out string? quantityProblem))
+        {
+            return $"{Where(columns.Quantity)}: {quantityProblem}";
+        }
+
+        string? eventId = columns.EventId < 0 ? null : csv.GetString(columns.EventId);
         if (eventId is { Length: 0 })
         {
             eventId = null;
@@ -188,26 +263,55 @@ internal static class CsvObservations
         return null;
     }
 
-    /// <summary>
-    /// Reads an ISO-8601-like timestamp. A value with an offset or 'Z' is taken as it is; one without (a local date and time,
-    /// or a date alone) is a wall-clock time in <paramref name="zone"/>.
-    /// </summary>
-    internal static bool TryParseTime(string text, TimeZoneInfo zone, out DateTimeOffset time)
+    private static string Shorten(string text) => text.Length <= 40 ? text : text[..40] + "…";
+
+    private static string Short(string message)
     {
-        time = default;
-        if (!DateTime.TryParse(text, CultureInfo.InvariantCulture, DateTimeStyles.RoundtripKind | DateTimeStyles.AllowWhiteSpaces, out DateTime parsed))
-        {
-            return false;
-        }
-
-        if (parsed.Kind == DateTimeKind.Unspecified)
-        {
-            time = new DateTimeOffset(parsed, zone.GetUtcOffset(parsed));
-            return true;
-        }
-
-        return DateTimeOffset.TryParse(text, CultureInfo.InvariantCulture, DateTimeStyles.AssumeUniversal | DateTimeStyles.AllowWhiteSpaces, out time);
+        int end = message.IndexOf(" (Parameter", StringComparison.Ordinal);
+        return end < 0 ? message : message[..end];
     }
 
-    private static string Shorten(string text) => text.Length <= 40 ? text : text[..40] + "…";
+    /// <summary>The first quoting problem CsvHelper reported for the record being read (it reports before returning it).</summary>
+    private sealed class QuotingProblem
+    {
+        public CsvMalformedReason? Reason { get; set; }
+    }
+
+    /// <summary>The column indexes of one file.</summary>
+    private sealed record Columns(int[] Keys, int Time, int Quantity, int EventId)
+    {
+        /// <summary>The fewest fields a row must have.</summary>
+        public int Needed { get; } = Math.Max(Math.Max(Time, Quantity), Math.Max(EventId, Keys.Max())) + 1;
+    }
+
+    /// <summary>The earliest and latest period of the rows taken, and where they are.</summary>
+    private sealed class PeriodSpan
+    {
+        private long _first = long.MaxValue;
+        private long _last = long.MinValue;
+
+        public long FirstLine { get; private set; }
+
+        public long LastLine { get; private set; }
+
+        public DateTimeOffset FirstTime { get; private set; }
+
+        public DateTimeOffset LastTime { get; private set; }
+
+        /// <summary>The periods from the first to the last, both included; 0 before any row.</summary>
+        public long Count => _last < _first ? 0 : _last - _first + 1;
+
+        public void Include(long period, long line, DateTimeOffset time)
+        {
+            if (period < _first)
+            {
+                (_first, FirstLine, FirstTime) = (period, line, time);
+            }
+
+            if (period > _last)
+            {
+                (_last, LastLine, LastTime) = (period, line, time);
+            }
+        }
+    }
 }

@@ -1,6 +1,7 @@
 using System.Globalization;
 using CsvHelper;
 using Spectre.Console;
+using StreamForecast.Streaming;
 
 namespace StreamForecast.Cli;
 
@@ -25,6 +26,37 @@ internal static class Output
         if (read.Rows.Count == 0)
         {
             throw new DataException("No usable rows: nothing to do.");
+        }
+    }
+
+    /// <summary>
+    /// Prints what a replay did not use: rows skipped when reading, events the engine dropped (too late, refused) and
+    /// periods whose actual the method refused. In stop mode anything the engine dropped is a data error (exit 2), raised
+    /// after the output files are written; an internal fault of the engine is an internal error (exit 3).
+    /// </summary>
+    public static void ReportDropped(CsvReadResult read, ReplayResult result, BadRowMode mode)
+    {
+        EngineCounters c = result.Counters;
+        long refused = c.Rejected + c.Dropped;
+        long engine = c.Late + refused + c.RejectedActuals;
+        AnsiConsole.MarkupLine(
+            "Rejected in total: {0:N0} ({1:N0} malformed row(s) skipped when reading; {2:N0} event(s) too late, {3:N0} refused by the engine; {4:N0} period actual(s) refused by the method).",
+            read.Skipped + engine, read.Skipped, c.Late, refused, c.RejectedActuals);
+        foreach (SeriesFault<string> fault in result.Faults)
+        {
+            if (fault.Kind == SeriesFaultKind.InternalError)
+            {
+                throw new InvalidOperationException($"the engine failed on series '{fault.Key}': {fault.Message.Split('\n')[0]}");
+            }
+        }
+
+        if (engine > 0 && mode == BadRowMode.Stop)
+        {
+            string first = result.Faults.Count > 0 ? $" First: {result.Faults[0].Key}: {result.Faults[0].Message.Split('\n')[0]}" : string.Empty;
+            throw new DataException(
+                string.Create(CultureInfo.InvariantCulture, $"{read.Path}: the engine dropped {engine:N0} event(s) or period(s) ({c.Late:N0} event(s) too late for --lateness, {refused:N0} refused, ") +
+                string.Create(CultureInfo.InvariantCulture, $"{c.RejectedActuals:N0} period actual(s) refused by the method); the output files were written without them.{first} ") +
+                "Use --on-bad-row skip to accept such a run with the drops counted.");
         }
     }
 

@@ -24,7 +24,8 @@ internal static class ReplayCommand
         command.SetAction((parse, cancellationToken) => Cli.Guard(async () =>
         {
             ReplaySettings settings = SettingsOf(common, parse);
-            CsvReadResult read = ProgressDisplay.Run("Reading", p => CsvObservations.Read(parse.GetValue(common.Input)!, common.Layout(parse), p));
+            CsvLayout layout = common.Layout(parse);
+            CsvReadResult read = ProgressDisplay.Run("Reading", p => CsvObservations.Read(parse.GetValue(common.Input)!, layout, p));
             Output.ReportSkipped(read);
             ReplayResult result = await ProgressDisplay.RunAsync("Replaying", p => ReplayRunner.RunAsync(read.Rows, settings, p, cancellationToken)).ConfigureAwait(false);
 
@@ -35,8 +36,8 @@ internal static class ReplayCommand
             PrintSummary(result);
             EngineCounters c = result.Counters;
             AnsiConsole.MarkupLine(
-                "Engine: {0:N0} events, {1:N0} periods closed, {2:N0} duplicates, {3:N0} late restated, {4:N0} too late, {5:N0} rejected, {6} alerts raised, {7} cleared.",
-                c.Observations, c.PeriodsClosed, c.Duplicates, c.Restated, c.Late, c.Rejected, c.AlertsRaised, c.AlertsCleared);
+                "Engine: {0:N0} events, {1:N0} periods closed, {2:N0} duplicates, {3:N0} late restated, {4:N0} too late, {5:N0} rejected, {6:N0} period actuals refused, {7} alerts raised, {8} cleared.",
+                c.Observations, c.PeriodsClosed, c.Duplicates, c.Restated, c.Late, c.Rejected + c.Dropped, c.RejectedActuals, c.AlertsRaised, c.AlertsCleared);
             foreach (SeriesFault<string> fault in result.Faults.Take(5))
             {
                 AnsiConsole.MarkupLine("[yellow]Series fault[/] {0}: {1}", Markup.Escape(fault.Key), Markup.Escape(fault.Message));
@@ -44,6 +45,7 @@ internal static class ReplayCommand
 
             AnsiConsole.MarkupLine("Wrote {0} ({1:N0} forecasts) and {2} ({3:N0} alert transitions).",
                 Markup.Escape(forecastsPath), result.Forecasts.Count, Markup.Escape(alertsPath), result.Alerts.Count);
+            Output.ReportDropped(read, result, layout.OnBadRow);
             return ExitCodes.Ok;
         }));
         return command;

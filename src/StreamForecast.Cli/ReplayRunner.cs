@@ -26,8 +26,9 @@ internal sealed record ReplayResult(
 
 /// <summary>
 /// Posts observations, in file order, through a <see cref="ForecastEngine{TKey}"/> and collects what it publishes. The
-/// engine's clock stands one day after the last event (the data is history), and after the last event the engine is
-/// advanced to the end of the last period so every period is closed.
+/// data is history: the engine's clock stands at the last event and no event is refused for being ahead of it (so no
+/// time arithmetic can leave the calendar's range, which the reader has checked every row against). After the last
+/// event the engine is advanced to the end of the last period so every period is closed.
 /// </summary>
 internal static class ReplayRunner
 {
@@ -56,7 +57,8 @@ internal static class ReplayRunner
             Make(settings.DefaultMethod),
             seriesOverrides: key => perKey.GetValueOrDefault(key),
             keyComparer: StringComparer.Ordinal,
-            timeProvider: new FixedClock(last.AddDays(1)),
+            timeProvider: new FixedClock(last),
+            maxEventTimeAhead: Timeout.InfiniteTimeSpan,
             publishing: new PublishingOptions(subscriberCapacity: 10_000_000));
 
         var forecasts = new Collector<ForecastUpdate<string>>();

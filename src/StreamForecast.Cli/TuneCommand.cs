@@ -39,7 +39,7 @@ internal static class TuneCommand
 
             CsvReadResult read = ProgressDisplay.Run("Reading", p => CsvObservations.Read(parse.GetValue(common.Input)!, common.Layout(parse), p));
             Output.ReportSkipped(read);
-            var histories = SeriesHistories.Build(read.Rows, calendar, out _);
+            var histories = SeriesHistories.Build(read, calendar, out _);
             // Tuned in chunks of keys (each chunk in parallel) so the progress bar can move; every key's result depends only
             // on its own history, so chunking changes nothing in the results.
             var results = ProgressDisplay.Run("Tuning", progress =>

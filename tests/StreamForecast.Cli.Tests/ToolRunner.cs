@@ -31,6 +31,13 @@ public sealed class ToolRunner : IDisposable
         }
     }
 
+    /// <summary>Errors are one line for a person: no stack trace, no exception type names.</summary>
+    public static void AssertNoStackTrace(ToolResult result)
+    {
+        Assert.DoesNotContain("   at ", result.Error, StringComparison.Ordinal);
+        Assert.DoesNotContain("Exception", result.Error, StringComparison.Ordinal);
+    }
+
     public string PathOf(string name) => Path.Combine(Folder, name);
 
     public string Write(string name, string content)

@@ -1,6 +1,7 @@
 using System.Net;
 using System.Net.Http.Json;
 using System.Text;
+using System.Text.Json;
 using Microsoft.AspNetCore.Builder;
 using Microsoft.AspNetCore.Mvc;
 using Microsoft.AspNetCore.TestHost;
@@ -154,6 +155,39 @@ public sealed class PointOfSaleApiTests : IAsyncLifetime
 
         Assert.Equal(HttpStatusCode.NotFound, response.StatusCode);
         Assert.Equal("No forecast yet.", (await response.Content.ReadFromJsonAsync<ProblemDetails>())!.Title);
+    }
+
+    [Fact]
+    public async Task GetForecast_OneClosedDay_Returns200WithNullStatistics()
+    {
+        // One sale on the 19th, then one on the 20th late enough (past the 2-hour lateness) to close the 19th: one closed
+        // day, so MAD and the tracking signal have no error to stand on yet (NaN inside the engine).
+        using (HttpResponseMessage first = await Http.PostAsJsonAsync("/sales", Sale("till-1/1", 3) with { SoldAt = s_now.AddDays(-1) }))
+        using (HttpResponseMessage second = await Http.PostAsJsonAsync("/sales", Sale("till-1/2", 5) with { SoldAt = s_now.AddHours(-1) }))
+        {
+            Assert.Equal(HttpStatusCode.Accepted, first.StatusCode);
+            Assert.Equal(HttpStatusCode.Accepted, second.StatusCode);
+        }
+
+        // The forecast is published when the engine's loop closes the day; ask until it is there (no clock involved).
+        HttpResponseMessage response = await Http.GetAsync("/shops/mill-lane/items/rye-roll/forecast");
+        for (int attempt = 0; attempt < 400 && response.StatusCode == HttpStatusCode.NotFound; attempt++)
+        {
+            response.Dispose();
+            await Task.Delay(25);
+            response = await Http.GetAsync("/shops/mill-lane/items/rye-roll/forecast");
+        }
+
+        using (response)
+        {
+            Assert.Equal(HttpStatusCode.OK, response.StatusCode);
+            using JsonDocument json = JsonDocument.Parse(await response.Content.ReadAsStringAsync());
+            JsonElement body = json.RootElement;
+            Assert.Equal("2025-10-19", body.GetProperty("lastClosedDay").GetString());
+            Assert.Equal(3, body.GetProperty("lastDaySold").GetDouble());
+            Assert.Equal(JsonValueKind.Null, body.GetProperty("mad").ValueKind);
+            Assert.Equal(JsonValueKind.Null, body.GetProperty("trackingSignal").ValueKind);
+        }
     }
 
     [Fact]
