@@ -252,11 +252,11 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
         }
     }
 
-    void ISeriesOutput<TKey>.Forecast(in ForecastUpdate<TKey> update) => _forecasts.Add(update);
+    void ISeriesSink<TKey>.Forecast(in ForecastUpdate<TKey> update) => _forecasts.Add(update);
 
-    void ISeriesOutput<TKey>.Alert(in DriftAlert<TKey> alert) => _alerts.Add(alert);
+    void ISeriesSink<TKey>.Alert(in DriftAlert<TKey> alert) => _alerts.Add(alert);
 
-    void ISeriesOutput<TKey>.Fault(in SeriesFault<TKey> fault) => _faults.Add(fault);
+    void ISeriesSink<TKey>.Fault(in SeriesFault<TKey> fault) => _faults.Add(fault);
 
     private async Task<CallReceipt> ApplyAsync<TArg>(Guid callId, TArg argument, Action<SeriesBucketGrain<TKey>, TArg> apply)
     {

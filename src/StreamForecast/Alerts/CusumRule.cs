@@ -141,6 +141,9 @@ public sealed class CusumRule : DriftRule
     /// <summary>The lower sum C⁻ after the last period (0 after a reset after an alarm); never negative.</summary>
     public double LowerSum => _lower;
 
+    /// <inheritdoc/>
+    public override bool CanRead(in DriftInput input) => double.IsFinite(input.Error) && double.IsFinite(input.Sigma) && input.Sigma > 0;
+
     private protected override void EvaluateCore(in DriftInput input, out double underEvidence, out double overEvidence)
     {
         double e = input.Error;

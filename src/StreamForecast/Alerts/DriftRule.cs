@@ -108,6 +108,16 @@ public abstract class DriftRule
     /// <summary>The open episode's severity, or <see cref="DriftSeverity.None"/>.</summary>
     public DriftSeverity Severity => _severity;
 
+    /// <summary>
+    /// Whether <paramref name="input"/> holds what this rule reads (a finite signal, or a finite error with σ above 0),
+    /// so a host can skip a period the rule cannot use (for example while MAD is still zero) without a switch on the
+    /// rule's kind.
+    /// </summary>
+    /// <param name="input">The period's numbers.</param>
+    /// <returns><see langword="true"/> when <see cref="Evaluate"/> would accept the input.</returns>
+    /// <remarks>O(1), no allocation, no state change.</remarks>
+    public abstract bool CanRead(in DriftInput input);
+
     /// <summary>Takes one scored period and returns what changed in the episode state.</summary>
     /// <param name="input">The period's numbers; the rule reads only its own fields (see <see cref="DriftInput"/>).</param>
     /// <returns>

@@ -84,6 +84,9 @@ public sealed class TrackingSignalRule : DriftRule
     /// <inheritdoc/>
     public override DriftRuleOptions Options => _options;
 
+    /// <inheritdoc/>
+    public override bool CanRead(in DriftInput input) => double.IsFinite(input.TrackingSignal);
+
     private protected override void EvaluateCore(in DriftInput input, out double underEvidence, out double overEvidence)
     {
         double s = input.TrackingSignal;

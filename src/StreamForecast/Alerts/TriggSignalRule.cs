@@ -84,6 +84,9 @@ public sealed class TriggSignalRule : DriftRule
     /// <inheritdoc/>
     public override DriftRuleOptions Options => _options;
 
+    /// <inheritdoc/>
+    public override bool CanRead(in DriftInput input) => double.IsFinite(input.TriggSignal);
+
     private protected override void EvaluateCore(in DriftInput input, out double underEvidence, out double overEvidence)
     {
         double t = input.TriggSignal;

@@ -67,7 +67,7 @@ internal sealed class Partition<TKey> : ISeriesHost<TKey>
         }
     }
 
-    void ISeriesOutput<TKey>.Forecast(in ForecastUpdate<TKey> update)
+    void ISeriesSink<TKey>.Forecast(in ForecastUpdate<TKey> update)
     {
         if (_pendingForecasts.Count > 0 || !_engine.ForecastPublisher.TryPublish(update))
         {
@@ -75,7 +75,7 @@ internal sealed class Partition<TKey> : ISeriesHost<TKey>
         }
     }
 
-    void ISeriesOutput<TKey>.Alert(in DriftAlert<TKey> alert)
+    void ISeriesSink<TKey>.Alert(in DriftAlert<TKey> alert)
     {
         if (_pendingAlerts.Count > 0 || !_engine.AlertPublisher.TryPublish(alert))
         {
@@ -83,7 +83,7 @@ internal sealed class Partition<TKey> : ISeriesHost<TKey>
         }
     }
 
-    void ISeriesOutput<TKey>.Fault(in SeriesFault<TKey> fault) => _engine.PublishFault(fault);
+    void ISeriesSink<TKey>.Fault(in SeriesFault<TKey> fault) => _engine.PublishFault(fault);
 
     private async Task RunAsync()
     {

@@ -7,15 +7,9 @@ using StreamForecast.Tracking;
 namespace StreamForecast.Streaming;
 
 /// <summary>Where a series sends what it produces, and the counters it bumps. Implemented by the owner (a partition).</summary>
-internal interface ISeriesOutput<TKey>
+internal interface ISeriesOutput<TKey> : ISeriesSink<TKey>
 {
     SeriesCounters Counters { get; }
-
-    void Forecast(in ForecastUpdate<TKey> update);
-
-    void Alert(in DriftAlert<TKey> alert);
-
-    void Fault(in SeriesFault<TKey> fault);
 }
 
 /// <summary>Counters bumped by one owner; read by others with relaxed reads (metrics, <c>GetCounters</c>).</summary>
@@ -55,13 +49,10 @@ internal sealed class SeriesState<TKey>
     /// <summary>The most open periods held inline, without an array: enough for a series with no lateness.</summary>
     internal const int InlineOpenPeriods = 2;
 
-    private readonly TKey _key;
     private readonly SeriesOptions _options;
-    private readonly TrackedForecaster _model;
 
-    // Drift rules: none (both null), one (held directly), or several (the array, in the options' order).
-    private readonly DriftRule? _singleRule;
-    private readonly DriftRule[]? _ruleArray;
+    // The per-period step (gap policy, model, error statistics, drift rules, outputs): shared with every other host.
+    private readonly SeriesStep<TKey> _step;
 
     // Open periods [_nextToClose, _nextToClose + capacity): a ring indexed by period mod capacity, held inline while
     // the capacity is at most InlineOpenPeriods, else in _openSpill.
@@ -72,8 +63,6 @@ internal sealed class SeriesState<TKey>
     private long _nextCloseEndTicks;
     private long _maxEventTicks;
 
-    private double _lastActual;
-    private bool _hasLastActual;
     private long _quietPeriods;
     private long _lastArrival;
 
@@ -84,22 +73,8 @@ internal sealed class SeriesState<TKey>
 
     public SeriesState(TKey key, SeriesOptions options, long arrivalTimestamp)
     {
-        _key = key;
         _options = options;
-        _model = new TrackedForecaster(options.Method, options.Tracking);
-        int rules = options.Rules.Length;
-        if (rules == 1)
-        {
-            _singleRule = options.Rules[0].CreateRule();
-        }
-        else if (rules > 1)
-        {
-            _ruleArray = new DriftRule[rules];
-            for (int i = 0; i < rules; i++)
-            {
-                _ruleArray[i] = options.Rules[i].CreateRule();
-            }
-        }
+        _step = new SeriesStep<TKey>(key, options);
 
         int capacity = OpenCapacity(options.Calendar, options.Lateness.AllowedLateness);
         if (capacity > InlineOpenPeriods)
@@ -110,17 +85,17 @@ internal sealed class SeriesState<TKey>
         int restatable = options.Lateness.RestatementPeriods;
         if (restatable > 0)
         {
-            _restatement = new Restatement(restatable, options, _model.StateLength);
+            _restatement = new Restatement(restatable, key, options, _step.Model.StateLength);
         }
 
         _lastArrival = arrivalTimestamp;
     }
 
-    public TKey Key => _key;
+    public TKey Key => _step.Key;
 
     public SeriesOptions Options => _options;
 
-    public TrackedForecaster Model => _model;
+    public TrackedForecaster Model => _step.Model;
 
     public bool IsStarted => _started;
 
@@ -139,7 +114,7 @@ internal sealed class SeriesState<TKey>
     /// <summary>Whether the open periods live in an array of their own rather than inline.</summary>
     internal bool OpenPeriodsSpilled => _openSpill is not null;
 
-    private int RuleCount => _options.Rules.Length;
+    private int RuleCount => _step.RuleCount;
 
     private int ClosedCount => _restatement?.ClosedCount ?? 0;
 
@@ -293,17 +268,10 @@ internal sealed class SeriesState<TKey>
         _nextCloseEndTicks = _options.Calendar.EndOf(target).UtcTicks;
         _quietPeriods += skipped;
         output.Counters.SkippedPeriods += skipped;
-        if (_restatement is { } r)
-        {
-            _model.ExportState(r.Scratch);
-            r.LagModel.ImportState(r.Scratch);
-            r.LagLastActual = _lastActual;
-            r.LagHasLastActual = _hasLastActual;
-            r.ClosedCount = 0;
-        }
+        CommitRestatementWindow();
 
         _ids?.ForgetBefore(_nextToClose);
-        output.Fault(new SeriesFault<TKey>(_key, from, SeriesFaultKind.PeriodsSkipped, string.Create(System.Globalization.CultureInfo.InvariantCulture,
+        output.Fault(new SeriesFault<TKey>(Key, from, SeriesFaultKind.PeriodsSkipped, string.Create(System.Globalization.CultureInfo.InvariantCulture,
             $"{skipped} periods without data were skipped, from period {from}: one step may close at most {_options.MaxCatchUpPeriods} periods (SeriesOptions.MaxCatchUpPeriods). The model did not see them.")));
     }
 
@@ -361,28 +329,18 @@ internal sealed class SeriesState<TKey>
     /// </remarks>
     public void Acknowledge(ISeriesOutput<TKey> output)
     {
-        _model.ResetErrors();
-        if (_restatement is { } r)
-        {
-            _model.ExportState(r.Scratch);
-            r.LagModel.ImportState(r.Scratch);
-            r.LagLastActual = _lastActual;
-            r.LagHasLastActual = _hasLastActual;
-            r.ClosedCount = 0;
-        }
-
-        for (int i = 0; i < RuleCount; i++)
-        {
-            DriftTransition t = RuleAt(i).Rebaseline();
-            Publish(i, t, _nextToClose - 1, output);
-        }
+        _step.Acknowledge(_nextToClose - 1, _started, output, output.Counters);
+        CommitRestatementWindow();
     }
 
-    [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    private DriftRule RuleAt(int index)
+    /// <summary>Periods before now can no longer be restated: the lagged model catches up with the live one.</summary>
+    private void CommitRestatementWindow()
     {
-        Debug.Assert(index >= 0 && index < RuleCount);
-        return _ruleArray is null ? _singleRule! : _ruleArray[index];
+        if (_restatement is { } r)
+        {
+            r.Lag.CopyModelFrom(_step, r.Scratch);
+            r.ClosedCount = 0;
+        }
     }
 
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
@@ -411,7 +369,7 @@ internal sealed class SeriesState<TKey>
 
         // Repeats of events in periods that can no longer change are late anyway: stop remembering their ids.
         _ids?.ForgetBefore(_nextToClose - ClosedCount);
-        Apply(period, has, sum, ApplyMode.Live, output);
+        _step.Apply(period, has, sum, StepMode.Live, output, output.Counters);
     }
 
     private void Retain(Restatement r, bool has, double sum)
@@ -420,7 +378,7 @@ internal sealed class SeriesState<TKey>
         if (r.ClosedCount == restatable)
         {
             // The oldest retained period leaves the horizon: move the lagged model past it, then shift.
-            ApplyToLag(r, r.ClosedHas[0] == SlotHasData, r.ClosedSums[0]);
+            r.Lag.Apply(_nextToClose - restatable - 1, r.ClosedHas[0] == SlotHasData, r.ClosedSums[0], StepMode.Silent, null, null);
             Array.Copy(r.ClosedSums, 1, r.ClosedSums, 0, restatable - 1);
             Array.Copy(r.ClosedHas, 1, r.ClosedHas, 0, restatable - 1);
             r.ClosedCount--;
@@ -448,186 +406,12 @@ internal sealed class SeriesState<TKey>
 
         // Roll the model back to before the oldest retained period and replay the retained periods. Drift rules are
         // not rolled back: they keep their episodes and see the corrected statistics from the next period on.
-        r.LagModel.ExportState(r.Scratch);
-        _model.ImportState(r.Scratch);
-        _lastActual = r.LagLastActual;
-        _hasLastActual = r.LagHasLastActual;
+        _step.CopyModelFrom(r.Lag, r.Scratch);
         long first = _nextToClose - r.ClosedCount;
         for (int i = 0; i < r.ClosedCount; i++)
         {
-            Apply(first + i, r.ClosedHas[i] == SlotHasData, r.ClosedSums[i], i >= index ? ApplyMode.Restated : ApplyMode.Silent, output);
+            _step.Apply(first + i, r.ClosedHas[i] == SlotHasData, r.ClosedSums[i], i >= index ? StepMode.Restated : StepMode.Silent, output, output.Counters);
         }
-    }
-
-    private void ApplyToLag(Restatement r, bool has, double sum)
-    {
-        if (!ResolveActual(has, sum, ref r.LagLastActual, ref r.LagHasLastActual, out double actual, out bool scored))
-        {
-            return;
-        }
-
-        try
-        {
-            if (scored)
-            {
-                r.LagModel.Update(actual);
-            }
-            else
-            {
-                r.LagModel.UpdateUnscored(actual);
-            }
-        }
-        catch (ArgumentOutOfRangeException)
-        {
-            // Already reported when the live model rejected the same actual.
-        }
-    }
-
-    /// <summary>Turns a period's raw input into the actual fed to the model under the gap policy; false when nothing is fed.</summary>
-    private bool ResolveActual(bool has, double sum, ref double lastActual, ref bool hasLastActual, out double actual, out bool scored)
-    {
-        scored = true;
-        if (has)
-        {
-            actual = sum;
-        }
-        else
-        {
-            switch (_options.Gaps)
-            {
-                case GapPolicy.Zero:
-                    actual = 0;
-                    break;
-                case GapPolicy.CarryForward when hasLastActual:
-                    actual = lastActual;
-                    scored = false;
-                    break;
-                default:
-                    actual = double.NaN;
-                    return false;
-            }
-        }
-
-        lastActual = actual;
-        hasLastActual = true;
-        return true;
-    }
-
-    private enum ApplyMode
-    {
-        /// <summary>A period closing for the first time: publish, score, evaluate rules.</summary>
-        Live,
-
-        /// <summary>Replaying an unchanged period to rebuild state after a rollback: publish nothing.</summary>
-        Silent,
-
-        /// <summary>Replaying a period whose actual (or whose history) changed: publish it marked as a restatement.</summary>
-        Restated,
-    }
-
-    private void Apply(long period, bool has, double sum, ApplyMode mode, ISeriesOutput<TKey> output)
-    {
-        if (!has && mode == ApplyMode.Live)
-        {
-            output.Counters.GapPeriods++;
-        }
-
-        double previousLast = _lastActual;
-        bool previousHasLast = _hasLastActual;
-        if (!ResolveActual(has, sum, ref _lastActual, ref _hasLastActual, out double actual, out bool scored))
-        {
-            return;
-        }
-
-        PeriodScore score;
-        try
-        {
-            score = scored ? _model.Update(actual) : _model.UpdateUnscored(actual);
-        }
-        catch (ArgumentOutOfRangeException ex)
-        {
-            _lastActual = previousLast;
-            _hasLastActual = previousHasLast;
-            if (mode == ApplyMode.Live)
-            {
-                output.Counters.RejectedActuals++;
-                output.Fault(new SeriesFault<TKey>(_key, period, SeriesFaultKind.ActualRejected, ex.Message));
-            }
-
-            return;
-        }
-
-        if (mode == ApplyMode.Silent)
-        {
-            return;
-        }
-
-        bool restated = mode == ApplyMode.Restated;
-
-        ErrorTracker tracker = _model.Tracker;
-        var errors = ErrorSummary.Of(tracker);
-        DateTimeOffset start = _options.Calendar.StartOf(period);
-        ForecastPoint next = Point(1);
-        ForecastPoint atHorizon = _options.Horizon == 1 ? next : Point(_options.Horizon); // the same point: compute it once
-        output.Forecast(new ForecastUpdate<TKey>(
-            _key, period, start, actual, !has, score.Forecast, score.Error,
-            next, atHorizon, errors, _options.MethodLabel, restated));
-
-        if (!restated && score.IsScored)
-        {
-            // The summary already holds σ and both signals of the tracker's current state: the rules read those.
-            var input = new DriftInput(score.Error, errors.Sigma, errors.TrackingSignal, errors.TriggSignal);
-            for (int i = 0; i < RuleCount; i++)
-            {
-                DriftRule rule = RuleAt(i);
-                if (DriftInputFits(rule, input))
-                {
-                    Publish(i, rule.Evaluate(input), period, output, errors, start);
-                }
-            }
-        }
-    }
-
-    private static bool DriftInputFits(DriftRule rule, in DriftInput input) => rule.Kind switch
-    {
-        DriftRuleKind.TrackingSignal => double.IsFinite(input.TrackingSignal),
-        DriftRuleKind.TriggSignal => double.IsFinite(input.TriggSignal),
-        _ => double.IsFinite(input.Error) && double.IsFinite(input.Sigma) && input.Sigma > 0,
-    };
-
-    private void Publish(int ruleIndex, in DriftTransition transition, long period, ISeriesOutput<TKey> output, ErrorSummary? errors = null, DateTimeOffset? start = null)
-    {
-        if (transition.IsNone)
-        {
-            return;
-        }
-
-        switch (transition.Kind)
-        {
-            case DriftTransitionKind.Raised:
-                output.Counters.AlertsRaised++;
-                break;
-            case DriftTransitionKind.Escalated:
-                output.Counters.AlertsEscalated++;
-                break;
-            case DriftTransitionKind.Cleared:
-                output.Counters.AlertsCleared++;
-                break;
-        }
-
-        output.Alert(new DriftAlert<TKey>(
-            _key, period, start ?? (_started ? _options.Calendar.StartOf(period) : default), ruleIndex, _options.RuleLabels[ruleIndex],
-            transition, errors ?? ErrorSummary.Of(_model.Tracker)));
-    }
-
-    private ForecastPoint Point(int horizon)
-    {
-        if (!_model.TryForecast(horizon, _options.IntervalMultiplier, out double value, out PredictionInterval interval))
-        {
-            return new ForecastPoint(horizon, double.NaN, double.NaN, double.NaN);
-        }
-
-        return new ForecastPoint(horizon, value, interval.Lower, interval.Upper);
     }
 
     /// <summary>Writes the complete state (everything but the key and options, which the caller writes or re-resolves).</summary>
@@ -637,8 +421,8 @@ internal sealed class SeriesState<TKey>
         writer.WriteBoolean(_started);
         writer.WriteInt64(_nextToClose);
         writer.WriteInt64(_maxEventTicks);
-        writer.WriteDouble(_lastActual);
-        writer.WriteBoolean(_hasLastActual);
+        writer.WriteDouble(_step.LastActual);
+        writer.WriteBoolean(_step.HasLastActual);
         writer.WriteInt64(_quietPeriods);
 
         Span<OpenPeriod> openPeriods = Open;
@@ -659,11 +443,11 @@ internal sealed class SeriesState<TKey>
             }
         }
 
-        writer.WriteDoubles(_model.ExportState());
+        writer.WriteDoubles(_step.Model.ExportState());
         writer.WriteInt32(RuleCount);
         for (int i = 0; i < RuleCount; i++)
         {
-            writer.WriteDoubles(RuleAt(i).ExportState());
+            writer.WriteDoubles(_step.RuleAt(i).ExportState());
         }
 
         writer.WriteInt32(ClosedCount);
@@ -675,9 +459,9 @@ internal sealed class SeriesState<TKey>
                 writer.WriteByte(r.ClosedHas[i]);
             }
 
-            writer.WriteDoubles(r.LagModel.ExportState());
-            writer.WriteDouble(r.LagLastActual);
-            writer.WriteBoolean(r.LagHasLastActual);
+            writer.WriteDoubles(r.Lag.Model.ExportState());
+            writer.WriteDouble(r.Lag.LastActual);
+            writer.WriteBoolean(r.Lag.HasLastActual);
         }
 
         int ids = _ids?.Count ?? 0;
@@ -707,8 +491,8 @@ internal sealed class SeriesState<TKey>
         _started = reader.ReadBoolean();
         _nextToClose = reader.ReadInt64();
         _maxEventTicks = reader.ReadInt64();
-        _lastActual = ReadFinite(reader);
-        _hasLastActual = reader.ReadBoolean();
+        _step.LastActual = ReadFinite(reader);
+        _step.HasLastActual = reader.ReadBoolean();
         _quietPeriods = reader.ReadInt64();
         if (_started)
         {
@@ -743,7 +527,7 @@ internal sealed class SeriesState<TKey>
             o.Has = true;
         }
 
-        ImportInto(reader, _model.ImportState);
+        ImportInto(reader, _step.Model.ImportState);
         int rules = reader.ReadInt32();
         if (rules != RuleCount)
         {
@@ -752,7 +536,7 @@ internal sealed class SeriesState<TKey>
 
         for (int i = 0; i < RuleCount; i++)
         {
-            ImportInto(reader, RuleAt(i).ImportState);
+            ImportInto(reader, _step.RuleAt(i).ImportState);
         }
 
         int closed = reader.ReadInt32();
@@ -770,9 +554,9 @@ internal sealed class SeriesState<TKey>
                 r.ClosedHas[i] = reader.ReadByte() == SlotHasData ? SlotHasData : SlotEmpty;
             }
 
-            ImportInto(reader, r.LagModel.ImportState);
-            r.LagLastActual = ReadFinite(reader);
-            r.LagHasLastActual = reader.ReadBoolean();
+            ImportInto(reader, r.Lag.Model.ImportState);
+            r.Lag.LastActual = ReadFinite(reader);
+            r.Lag.HasLastActual = reader.ReadBoolean();
         }
 
         int ids = reader.ReadInt32();
@@ -837,15 +621,16 @@ internal sealed class SeriesState<TKey>
     /// </summary>
     private sealed class Restatement
     {
-        public Restatement(int periods, SeriesOptions options, int modelStateLength)
+        public Restatement(int periods, TKey key, SeriesOptions options, int modelStateLength)
         {
-            LagModel = new TrackedForecaster(options.Method, options.Tracking);
+            Lag = new SeriesStep<TKey>(key, options, withRules: false);
             ClosedSums = new double[periods];
             ClosedHas = new byte[periods];
             Scratch = new double[modelStateLength];
         }
 
-        public TrackedForecaster LagModel { get; }
+        /// <summary>The step as it was before the oldest retained closed period (no rules: it never publishes).</summary>
+        public SeriesStep<TKey> Lag { get; }
 
         public double[] ClosedSums { get; }
 
@@ -854,9 +639,5 @@ internal sealed class SeriesState<TKey>
         public double[] Scratch { get; }
 
         public int ClosedCount;
-
-        public double LagLastActual;
-
-        public bool LagHasLastActual;
     }
 }
