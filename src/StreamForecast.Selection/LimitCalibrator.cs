@@ -2,6 +2,7 @@ using System.Globalization;
 using StreamForecast.Alerts;
 using StreamForecast.Forecasting;
 using StreamForecast.Selection.Internal;
+using StreamForecast.Streaming;
 using StreamForecast.Tracking;
 
 namespace StreamForecast.Selection;
@@ -46,7 +47,6 @@ public static class LimitCalibrator
 {
     private const int MinResiduals = 10;
     private const double SmallestLimit = 1e-3;
-    private const double LargestLimit = 1e6;
 
     /// <summary>Calibrates the limit of <paramref name="rule"/> for <paramref name="method"/> on <paramref name="series"/>.</summary>
     /// <param name="series">The history, oldest first; every value finite and inside the method's domain; at least 10 one-step errors after the warm-up.</param>
@@ -117,25 +117,25 @@ public static class LimitCalibrator
 
         // Bracket the target: the mean run length never falls as the limit grows.
         double lower = SmallestLimit;
-        double upper = Math.Min(rule.RaiseLevel, MaxLimit(rule));
+        double upper = Math.Min(rule.RaiseLevel, rule.MaxRaiseLevel);
         bool reached = true;
-        if (simulator.MeanRunLength(WithLimit(rule, lower), calibrationSeeds) >= target)
+        if (simulator.MeanRunLength(rule.WithRaiseLevel(lower), calibrationSeeds) >= target)
         {
             upper = lower;
             reached = false;
         }
         else
         {
-            while (simulator.MeanRunLength(WithLimit(rule, upper), calibrationSeeds) < target)
+            while (simulator.MeanRunLength(rule.WithRaiseLevel(upper), calibrationSeeds) < target)
             {
-                if (upper >= MaxLimit(rule))
+                if (upper >= rule.MaxRaiseLevel)
                 {
                     reached = false;
                     break;
                 }
 
                 lower = upper;
-                upper = Math.Min(upper * 2, MaxLimit(rule));
+                upper = Math.Min(upper * 2, rule.MaxRaiseLevel);
             }
 
             if (reached)
@@ -143,7 +143,7 @@ public static class LimitCalibrator
                 for (int i = 0; i < 60 && upper - lower > 1e-4 * upper; i++)
                 {
                     double middle = 0.5 * (lower + upper);
-                    if (simulator.MeanRunLength(WithLimit(rule, middle), calibrationSeeds) >= target)
+                    if (simulator.MeanRunLength(rule.WithRaiseLevel(middle), calibrationSeeds) >= target)
                     {
                         upper = middle;
                     }
@@ -155,7 +155,7 @@ public static class LimitCalibrator
             }
         }
 
-        DriftRuleOptions calibrated = WithLimit(rule, upper);
+        DriftRuleOptions calibrated = rule.WithRaiseLevel(upper);
         double calibrationMean = simulator.MeanRunLength(calibrated, calibrationSeeds);
         RunLengthSummary inControl = simulator.InControl(calibrated, validationSeeds);
 
@@ -237,27 +237,6 @@ public static class LimitCalibrator
             return null;
         }
     }
-
-    /// <summary>The template rule with a new raise level, the clear and escalation levels scaled with it.</summary>
-    internal static DriftRuleOptions WithLimit(DriftRuleOptions template, double limit)
-    {
-        double clearRatio = template.ClearLevel / template.RaiseLevel;
-        double escalationRatio = template.EscalationLevel / template.RaiseLevel;
-        double escalation = double.IsPositiveInfinity(escalationRatio) ? double.PositiveInfinity : Math.Max(limit, escalationRatio * limit);
-        return template switch
-        {
-            TrackingSignalRuleOptions => new TrackingSignalRuleOptions(limit, clearRatio * limit, escalation,
-                template.WarmUpPeriods, template.PeriodsToRaise, template.PeriodsToClear),
-            TriggSignalRuleOptions => new TriggSignalRuleOptions(limit, clearRatio * limit,
-                double.IsPositiveInfinity(escalation) ? escalation : Math.Min(escalation, 1.0),
-                template.WarmUpPeriods, template.PeriodsToRaise, template.PeriodsToClear),
-            CusumRuleOptions c => new CusumRuleOptions(limit, c.ReferenceValue, clearRatio * limit, escalation, c.ResetAfterAlarm,
-                template.WarmUpPeriods, template.PeriodsToRaise, template.PeriodsToClear),
-            _ => throw new ArgumentException("Only tracking-signal, Trigg-signal and CUSUM rules can be calibrated.", nameof(template)),
-        };
-    }
-
-    private static double MaxLimit(DriftRuleOptions rule) => rule is TriggSignalRuleOptions ? 1.0 : LargestLimit;
 
     private static int[] Seeds(Random master, int count)
     {
@@ -367,8 +346,8 @@ public static class LimitCalibrator
                 }
 
                 _tracker.Record(error, 0.0);
-                var input = new DriftInput(error, _tracker.Sigma, _tracker.TrackingSignal, _tracker.TriggSignal);
-                if (Readable(rule.Kind, input) && rule.Evaluate(input).Kind == DriftTransitionKind.Raised)
+                DriftInput input = ErrorSummary.Of(_tracker).ToDriftInput(error); // what the engine's step gives the rules
+                if (rule.CanRead(input) && rule.Evaluate(input).Kind == DriftTransitionKind.Raised)
                 {
                     return t;
                 }
@@ -376,14 +355,6 @@ public static class LimitCalibrator
 
             return -1;
         }
-
-        /// <summary>The engine's test for whether a rule can read an input (it skips the period otherwise).</summary>
-        private static bool Readable(DriftRuleKind kind, in DriftInput input) => kind switch
-        {
-            DriftRuleKind.TrackingSignal => double.IsFinite(input.TrackingSignal),
-            DriftRuleKind.TriggSignal => double.IsFinite(input.TriggSignal),
-            _ => double.IsFinite(input.Error) && double.IsFinite(input.Sigma) && input.Sigma > 0,
-        };
 
         private static (double Mean, double StandardError) MeanAndError(double[] values, int count)
         {

@@ -102,6 +102,9 @@ public sealed record CusumRuleOptions : DriftRuleOptions
     public override string RuleName =>
         $"CUSUM(k={Format(ReferenceValue)}, h={Format(RaiseLevel)}; clear {Format(ClearLevel)}; critical {Format(EscalationLevel)}{(ResetAfterAlarm ? "; reset" : "")})";
 
+    private protected override DriftRuleOptions WithLevels(double raise, double clear, double escalation) =>
+        new CusumRuleOptions(raise, ReferenceValue, clear, escalation, ResetAfterAlarm, WarmUpPeriods, PeriodsToRaise, PeriodsToClear);
+
     /// <inheritdoc/>
     public override DriftRule CreateRule() => new CusumRule(this);
 }

@@ -151,6 +151,38 @@ public abstract record DriftRuleOptions
     /// <remarks>Allocates the rule once; evaluating allocates nothing afterwards.</remarks>
     public abstract DriftRule CreateRule();
 
+    /// <summary>The largest raise level this kind of rule can take (1 for Trigg's signal, which lies in [−1, 1]).</summary>
+    public virtual double MaxRaiseLevel => 1e6;
+
+    /// <summary>
+    /// The same rule with a new raise level, the clear and escalation levels scaled with it (escalation kept at or above
+    /// the new raise level and within <see cref="MaxRaiseLevel"/>); every other setting unchanged. Used to calibrate a
+    /// rule's limit without knowing its kind.
+    /// </summary>
+    /// <param name="raiseLevel">The new raise level, above 0 and at most <see cref="MaxRaiseLevel"/>.</param>
+    /// <returns>The rebuilt options.</returns>
+    /// <exception cref="ArgumentOutOfRangeException"><paramref name="raiseLevel"/> is out of range.</exception>
+    public DriftRuleOptions WithRaiseLevel(double raiseLevel)
+    {
+        if (!(raiseLevel > 0 && raiseLevel <= MaxRaiseLevel))
+        {
+            ThrowHelper.ThrowOutOfRange(nameof(raiseLevel), raiseLevel, string.Create(CultureInfo.InvariantCulture, $"the raise level must be above 0 and at most {MaxRaiseLevel}"));
+        }
+
+        double clear = ClearLevel / RaiseLevel * raiseLevel;
+        double escalationRatio = EscalationLevel / RaiseLevel;
+        double escalation = double.IsPositiveInfinity(escalationRatio)
+            ? double.PositiveInfinity
+            : Math.Min(Math.Max(raiseLevel, escalationRatio * raiseLevel), Math.Max(raiseLevel, EscalationCeiling));
+        return WithLevels(raiseLevel, clear, escalation);
+    }
+
+    /// <summary>The largest finite escalation level this kind of rule takes (+∞ when unbounded).</summary>
+    private protected virtual double EscalationCeiling => double.PositiveInfinity;
+
+    /// <summary>These options with new raise, clear and escalation levels, every other setting unchanged.</summary>
+    private protected abstract DriftRuleOptions WithLevels(double raise, double clear, double escalation);
+
     /// <summary>Formats a level for <see cref="RuleName"/>.</summary>
     private protected static string Format(double value) =>
         double.IsPositiveInfinity(value) ? "none" : value.ToString("G6", CultureInfo.InvariantCulture);

@@ -52,6 +52,9 @@ public sealed record TrackingSignalRuleOptions : DriftRuleOptions
     public override string RuleName =>
         $"TrackingSignal(±{Format(RaiseLevel)}; clear {Format(ClearLevel)}; critical {Format(EscalationLevel)})";
 
+    private protected override DriftRuleOptions WithLevels(double raise, double clear, double escalation) =>
+        new TrackingSignalRuleOptions(raise, clear, escalation, WarmUpPeriods, PeriodsToRaise, PeriodsToClear);
+
     /// <inheritdoc/>
     public override DriftRule CreateRule() => new TrackingSignalRule(this);
 }

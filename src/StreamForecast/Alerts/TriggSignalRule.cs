@@ -54,6 +54,14 @@ public sealed record TriggSignalRuleOptions : DriftRuleOptions
         $"TriggSignal(±{Format(RaiseLevel)}; clear {Format(ClearLevel)}; critical {Format(EscalationLevel)})";
 
     /// <inheritdoc/>
+    public override double MaxRaiseLevel => 1.0;
+
+    private protected override double EscalationCeiling => 1.0;
+
+    private protected override DriftRuleOptions WithLevels(double raise, double clear, double escalation) =>
+        new TriggSignalRuleOptions(raise, clear, escalation, WarmUpPeriods, PeriodsToRaise, PeriodsToClear);
+
+    /// <inheritdoc/>
     public override DriftRule CreateRule() => new TriggSignalRule(this);
 }
 

@@ -37,6 +37,15 @@ public readonly record struct ErrorSummary(
             tracker.Count, tracker.Rsfe, tracker.Mad, tracker.SmoothedMad, tracker.Mse, tracker.Bias,
             tracker.Mape, tracker.Mase, tracker.TrackingSignal, tracker.TriggSignal, tracker.Sigma);
     }
+
+    /// <summary>
+    /// The input every drift rule reads for a scored period: its error with this summary's σ and signals. The engine,
+    /// the backtester and the limit calibrator all build it here, so a rule sees the same numbers in each.
+    /// </summary>
+    /// <param name="error">The period's error (actual − forecast).</param>
+    /// <returns>The drift-rule input.</returns>
+    /// <remarks>O(1), no allocation.</remarks>
+    public Alerts.DriftInput ToDriftInput(double error) => new(error, Sigma, TrackingSignal, TriggSignal);
 }
 
 /// <summary>

@@ -214,7 +214,7 @@ public sealed class SeriesStep<TKey>
         if (!restated && score.IsScored)
         {
             // The summary already holds σ and both signals of the tracker's current state: the rules read those.
-            var input = new DriftInput(score.Error, errors.Sigma, errors.TrackingSignal, errors.TriggSignal);
+            DriftInput input = errors.ToDriftInput(score.Error);
             for (int i = 0; i < _ruleCount; i++)
             {
                 DriftRule rule = RuleAt(i);
