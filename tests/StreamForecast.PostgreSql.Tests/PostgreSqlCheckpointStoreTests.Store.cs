@@ -169,7 +169,7 @@ public sealed partial class PostgreSqlCheckpointStoreTests
 
         Task<bool> save = Task.Run(async () => await store.TrySaveAsync(new byte[] { 2 }, 2, 1));
         await other.SaveAsync(new byte[] { 9 }, 9); // another stream's row: not waiting
-        await Task.Delay(300);
+        await UntilASaveWaitsForTheRowLockAsync();
         bool finishedWhileLocked = save.IsCompleted;
         await held.RollbackAsync();
 
@@ -191,8 +191,11 @@ public sealed partial class PostgreSqlCheckpointStoreTests
             await lockRow.ExecuteNonQueryAsync();
         }
 
-        using var cancel = new CancellationTokenSource(TimeSpan.FromMilliseconds(300));
-        await Assert.ThrowsAnyAsync<OperationCanceledException>(async () => await store.SaveAsync(new byte[] { 2 }, 2, cancel.Token));
+        using var cancel = new CancellationTokenSource();
+        Task save = Task.Run(async () => await store.SaveAsync(new byte[] { 2 }, 2, cancel.Token));
+        await UntilASaveWaitsForTheRowLockAsync();
+        await cancel.CancelAsync();
+        await Assert.ThrowsAnyAsync<OperationCanceledException>(() => save);
         await held.RollbackAsync();
 
         Assert.Equal(1, await CountStoredAsync("locked"));
@@ -249,6 +252,24 @@ public sealed partial class PostgreSqlCheckpointStoreTests
         await using var store = new PostgreSqlCheckpointStore($"Host=127.0.0.1;Port={closedPort};Username=x;Timeout=2", Options("s"));
 
         await Assert.ThrowsAnyAsync<NpgsqlException>(async () => await store.LoadLatestAsync());
+    }
+
+    // Polls the server until a save of this test's schema is waiting for a row lock (not a timing assumption: the
+    // server reports the wait).
+    private async Task UntilASaveWaitsForTheRowLockAsync()
+    {
+        string sql = $"SELECT count(*) FROM pg_stat_activity WHERE wait_event_type = 'Lock' AND query LIKE '%{_schema}.streams%FOR UPDATE%'";
+        for (int i = 0; i < 400; i++)
+        {
+            if ((long)(await ScalarAsync(sql))! > 0)
+            {
+                return;
+            }
+
+            await Task.Delay(25);
+        }
+
+        Assert.Fail("No save was seen waiting for the stream's row lock within 10 s.");
     }
 
     private PostgreSqlCheckpointStore CreateStoreWith(PostgreSqlCheckpointStoreOptions options) =>
