@@ -120,9 +120,9 @@ public sealed class PostgreSqlCheckpointStore : IConditionalCheckpointStore, IAs
     /// <exception cref="NpgsqlException">The server could not be reached or refused the statements (no privilege, disk full...); no checkpoint was added.</exception>
     /// <exception cref="ObjectDisposedException">The store has been disposed.</exception>
     /// <remarks>
-    /// Cost: one SHA-256 over the snapshot and four round trips to the server (lock the stream, insert and prune,
-    /// commit; the first save of an instance also checks the schema). Waits while another save to the same stream holds
-    /// its lock.
+    /// Cost: one SHA-256 over the snapshot and three round trips to the server (begin and lock the stream, insert and
+    /// prune, commit; the first operation of an instance also checks the schema, one more). Waits while another save to
+    /// the same stream holds its lock.
     /// </remarks>
     public async ValueTask SaveAsync(ReadOnlyMemory<byte> snapshot, long inputPosition, CancellationToken cancellationToken = default)
     {
@@ -157,8 +157,8 @@ public sealed class PostgreSqlCheckpointStore : IConditionalCheckpointStore, IAs
     /// <remarks>
     /// <para><b>Newest.</b> Damaged rows are skipped exactly as <see cref="LoadLatestAsync"/> skips them, so a position
     /// just loaded is always a matching expectation.</para>
-    /// <para>Cost: that of <see cref="SaveAsync"/>, plus reading and hashing the stream's newest stored snapshot (and
-    /// older ones only while the newer are damaged) inside the transaction.</para>
+    /// <para>Cost: that of <see cref="SaveAsync"/>, plus one round trip reading and hashing the stream's newest stored
+    /// snapshot (and one more per older one, read only while the newer are damaged) inside the transaction.</para>
     /// <para><b>Thread safety.</b> Atomic with respect to every save to the stream, from this instance, other instances
     /// or other machines: of several conditional saves made with the same expectation, at most one returns
     /// <see langword="true"/>.</para>
