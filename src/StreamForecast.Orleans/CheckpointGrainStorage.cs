@@ -14,7 +14,7 @@ namespace StreamForecast.Orleans;
 /// </summary>
 /// <remarks>
 /// <para><b>Concurrency.</b> A write names the version it replaces. When the store implements
-/// <see cref="IConditionalCheckpointStore"/> (the SQLite store does) the check and the write are one transaction; with
+/// <see cref="IConditionalCheckpointStore"/> (the SQLite and PostgreSQL stores do) the check and the write are one transaction; with
 /// any other store the check is a read just before the write, which Orleans' single activation per grain makes
 /// sufficient in practice but not airtight. A mismatch throws <see cref="InconsistentStateException"/>.</para>
 /// <para><b>Clearing.</b> A checkpoint store keeps history and has no delete: clearing writes a one-byte tombstone that

@@ -63,8 +63,9 @@ public static class ForecastClusterSiloExtensions
 
     /// <summary>
     /// Registers grain storage in one SQLite file: the embedded default, for a cluster on one machine (every silo opens
-    /// the same file; SQLite serialises the writers). For silos on several machines use a server database through
-    /// <see cref="AddCheckpointGrainStorage"/>: a database file on a network share is not safe with SQLite.
+    /// the same file; SQLite serialises the writers). For silos on several machines use a server database: PostgreSQL
+    /// with <c>AddPostgreSqlCheckpointGrainStorage</c> from StreamForecast.Orleans.PostgreSql, or another through
+    /// <see cref="AddCheckpointGrainStorage"/>. A database file on a network share is not safe with SQLite.
     /// </summary>
     /// <param name="silo">The silo builder.</param>
     /// <param name="databasePath">The shared database file.</param>

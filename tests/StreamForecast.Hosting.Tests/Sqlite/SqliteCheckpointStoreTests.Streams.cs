@@ -5,7 +5,7 @@ using StreamForecast.Streaming;
 
 namespace StreamForecast.Hosting.Tests.Sqlite;
 
-// Named streams in one file, the version 1 → 2 upgrade, conditional saves and several stores writing one file at once.
+// Named streams in one file (locations, names), the version 1 → 2 upgrade, and waiting for another connection's lock.
 public sealed partial class SqliteCheckpointStoreTests
 {
     [Fact]
@@ -29,42 +29,6 @@ public sealed partial class SqliteCheckpointStoreTests
         Assert.Null(await unnamed.LoadLatestAsync());
         Assert.EndsWith("shared.db[bucket-a]#3", fromA.Location, StringComparison.Ordinal);
         Assert.EndsWith("shared.db[bucket-b]#2", fromB.Location, StringComparison.Ordinal);
-    }
-
-    [Fact]
-    public async Task SaveAsync_TwoStreamsWithDifferentRetainCounts_PrunesEachStreamOnItsOwn()
-    {
-        string path = _temp.File("shared.db");
-        using var a = new SqliteCheckpointStore(path, new SqliteCheckpointStoreOptions(retainCount: 2, streamName: "a"));
-        using var b = new SqliteCheckpointStore(path, new SqliteCheckpointStoreOptions(retainCount: 3, streamName: "b"));
-        for (int i = 1; i <= 5; i++)
-        {
-            await a.SaveAsync(new[] { (byte)i }, i);        // sequences 1, 3, 5, 7, 9
-            await b.SaveAsync(new[] { (byte)(10 + i) }, 10 + i); // sequences 2, 4, 6, 8, 10
-        }
-
-        // Each save prunes only its own stream: a keeps its newest 2, b its newest 3, whatever the other wrote.
-        Assert.Equal([9L, 7L], StreamSequences(path, "a"));
-        Assert.Equal([10L, 8L, 6L], StreamSequences(path, "b"));
-        Assert.Equal(5, (await a.LoadLatestAsync())!.InputPosition);
-        Assert.Equal(15, (await b.LoadLatestAsync())!.InputPosition);
-    }
-
-    [Fact]
-    public async Task LoadLatestAsync_NamedStreamAllRowsDamaged_ThrowsNamingTheStreamAndLeavesOthersUsable()
-    {
-        string path = _temp.File("shared.db");
-        using var a = new SqliteCheckpointStore(path, new SqliteCheckpointStoreOptions(streamName: "a"));
-        using var b = new SqliteCheckpointStore(path, new SqliteCheckpointStoreOptions(streamName: "b"));
-        await a.SaveAsync(new byte[] { 1 }, 1);
-        await b.SaveAsync(new byte[] { 2 }, 2);
-        Execute(path, "UPDATE checkpoints SET snapshot_sha256 = x'00' WHERE stream = 'a'");
-
-        var ex = await Assert.ThrowsAsync<InvalidDataException>(async () => await a.LoadLatestAsync());
-
-        Assert.Contains("None of the 1 checkpoints in stream 'a'", ex.Message, StringComparison.Ordinal);
-        Assert.Contains("[a]#1", ex.Message, StringComparison.Ordinal);
-        Assert.Equal(2, (await b.LoadLatestAsync())!.InputPosition);
     }
 
     [Fact]
@@ -199,110 +163,6 @@ public sealed partial class SqliteCheckpointStoreTests
     }
 
     [Fact]
-    public async Task TrySaveAsync_EmptyStreamExpectingNothing_SavesAndReturnsTrue()
-    {
-        using var store = new SqliteCheckpointStore(_temp.File("c.db"), new SqliteCheckpointStoreOptions(streamName: "s"));
-
-        bool saved = await store.TrySaveAsync(new byte[] { 1, 2 }, 12, expectedLatestPosition: null);
-
-        Assert.True(saved);
-        Checkpoint? loaded = await store.LoadLatestAsync();
-        Assert.Equal(12, loaded!.InputPosition);
-        Assert.Equal(new byte[] { 1, 2 }, loaded.Snapshot.ToArray());
-    }
-
-    [Fact]
-    public async Task TrySaveAsync_ExpectingTheNewestPosition_SavesAndPrunesToTheRetainCount()
-    {
-        string path = _temp.File("c.db");
-        using var store = new SqliteCheckpointStore(path, new SqliteCheckpointStoreOptions(retainCount: 2, streamName: "s"));
-        long? expected = null;
-        for (int i = 1; i <= 4; i++)
-        {
-            Assert.True(await store.TrySaveAsync(new[] { (byte)i }, 10 * i, expected));
-            expected = 10 * i;
-        }
-
-        Assert.Equal([4L, 3L], StreamSequences(path, "s"));
-        Assert.Equal(40, (await store.LoadLatestAsync())!.InputPosition);
-    }
-
-    [Fact]
-    public async Task TrySaveAsync_ExpectationDoesNotMatch_ReturnsFalseAndWritesNothing()
-    {
-        string path = _temp.File("c.db");
-        using var store = new SqliteCheckpointStore(path, new SqliteCheckpointStoreOptions(retainCount: 1, streamName: "s"));
-        using var empty = new SqliteCheckpointStore(path, new SqliteCheckpointStoreOptions(streamName: "empty"));
-        await store.SaveAsync(new byte[] { 1 }, 10);
-        await store.SaveAsync(new byte[] { 2 }, 20);
-
-        Assert.False(await store.TrySaveAsync(new byte[] { 3 }, 30, expectedLatestPosition: null)); // the stream is not empty
-        Assert.False(await store.TrySaveAsync(new byte[] { 3 }, 30, expectedLatestPosition: 10));   // a stale position
-        Assert.False(await store.TrySaveAsync(new byte[] { 3 }, 30, expectedLatestPosition: 21));   // a position never saved
-        Assert.False(await empty.TrySaveAsync(new byte[] { 3 }, 30, expectedLatestPosition: 20));   // another stream's position
-
-        // Nothing was inserted (AUTOINCREMENT would have moved on) and nothing was pruned.
-        Assert.Equal([2L], StreamSequences(path, "s"));
-        Assert.Empty(StreamSequences(path, "empty"));
-        Assert.Equal(2, Scalar(path, "SELECT seq FROM sqlite_sequence WHERE name = 'checkpoints'"));
-        Checkpoint? loaded = await store.LoadLatestAsync();
-        Assert.Equal(20, loaded!.InputPosition);
-        Assert.Equal(new byte[] { 2 }, loaded.Snapshot.ToArray());
-    }
-
-    [Fact]
-    public async Task TrySaveAsync_NewestRowDamaged_ComparesWithTheNewestValidCheckpointAsLoadLatestDoes()
-    {
-        string path = _temp.File("c.db");
-        using var store = new SqliteCheckpointStore(path);
-        await store.SaveAsync(new byte[] { 1, 2, 3 }, 10);
-        await store.SaveAsync(new byte[] { 4, 5, 6 }, 20);
-        Execute(path, "UPDATE checkpoints SET snapshot = x'040507' WHERE sequence = 2"); // same length, wrong hash
-        long loadedPosition = (await store.LoadLatestAsync())!.InputPosition;
-
-        bool againstDamaged = await store.TrySaveAsync(new byte[] { 7 }, 30, expectedLatestPosition: 20);
-        bool againstLoaded = await store.TrySaveAsync(new byte[] { 7 }, 30, expectedLatestPosition: loadedPosition);
-
-        Assert.Equal(10, loadedPosition);
-        Assert.False(againstDamaged);
-        Assert.True(againstLoaded);
-        Assert.Equal(30, (await store.LoadLatestAsync())!.InputPosition);
-    }
-
-    [Fact]
-    public async Task TrySaveAsync_EveryRowDamaged_MatchesOnlyTheExpectationOfNoCheckpoint()
-    {
-        string path = _temp.File("c.db");
-        using var store = new SqliteCheckpointStore(path);
-        await store.SaveAsync(new byte[] { 1 }, 10);
-        Execute(path, "UPDATE checkpoints SET snapshot_sha256 = x'00'");
-        await Assert.ThrowsAsync<InvalidDataException>(async () => await store.LoadLatestAsync());
-
-        bool againstDamaged = await store.TrySaveAsync(new byte[] { 2 }, 20, expectedLatestPosition: 10);
-        bool againstNothing = await store.TrySaveAsync(new byte[] { 2 }, 20, expectedLatestPosition: null);
-
-        Assert.False(againstDamaged);
-        Assert.True(againstNothing);
-        Checkpoint? loaded = await store.LoadLatestAsync();
-        Assert.Equal(20, loaded!.InputPosition);
-        Assert.Empty(loaded.Rejected); // the damaged row is now older than the newest, so it is not reached
-        Assert.Equal([2L, 1L], Sequences(path));
-    }
-
-    [Fact]
-    public async Task TrySaveAsync_NegativeExpectation_ThrowsAndWritesNothing()
-    {
-        string path = _temp.File("c.db");
-        using var store = new SqliteCheckpointStore(path);
-        await store.SaveAsync(new byte[] { 1 }, 10);
-
-        var ex = await Assert.ThrowsAsync<ArgumentOutOfRangeException>(async () => await store.TrySaveAsync(new byte[] { 2 }, 20, expectedLatestPosition: -1));
-
-        Assert.Equal("expectedLatestPosition", ex.ParamName);
-        Assert.Equal([1L], Sequences(path));
-    }
-
-    [Fact]
     public async Task TrySaveAsync_EmptySnapshot_ThrowsAndWritesNothing()
     {
         string path = _temp.File("c.db");
@@ -312,101 +172,6 @@ public sealed partial class SqliteCheckpointStoreTests
         await Assert.ThrowsAsync<ArgumentException>(async () => await store.TrySaveAsync(ReadOnlyMemory<byte>.Empty, 20, expectedLatestPosition: 10));
 
         Assert.Equal([1L], Sequences(path));
-    }
-
-    [Fact]
-    public async Task TrySaveAsync_InstancesRacingWithTheSameExpectation_ExactlyOneWinsEachRound()
-    {
-        // Four instances (as four silos would hold) race each round on dedicated threads released together; every one
-        // expects the position the previous round's winner saved. The compare and the insert must be one transaction.
-        const int racers = 4;
-        const int rounds = 20;
-        string path = _temp.File("race.db");
-        var options = new SqliteCheckpointStoreOptions(retainCount: 2, streamName: "contended");
-        SqliteCheckpointStore[] stores = [.. Enumerable.Range(0, racers).Select(_ => new SqliteCheckpointStore(path, options))];
-        try
-        {
-            long? expected = null;
-            for (int round = 0; round < rounds; round++)
-            {
-                using var start = new Barrier(racers);
-                long? expectation = expected;
-                Task<bool>[] tries = new Task<bool>[racers];
-                for (int r = 0; r < racers; r++)
-                {
-                    SqliteCheckpointStore store = stores[r];
-                    long position = (round * racers) + r + 1000;
-                    byte marker = (byte)r;
-                    tries[r] = Task.Factory.StartNew(
-                        () =>
-                        {
-                            start.SignalAndWait();
-                            return store.TrySaveAsync(new[] { marker }, position, expectation).AsTask().GetAwaiter().GetResult();
-                        },
-                        CancellationToken.None,
-                        TaskCreationOptions.LongRunning,
-                        TaskScheduler.Default);
-                }
-
-                bool[] outcomes = await Task.WhenAll(tries);
-
-                int winner = Array.IndexOf(outcomes, true);
-                Assert.True(winner >= 0 && Array.LastIndexOf(outcomes, true) == winner, $"Round {round}: [{string.Join(", ", outcomes)}]; exactly one must win.");
-                Checkpoint? newest = await stores[0].LoadLatestAsync();
-                Assert.Equal((round * racers) + winner + 1000, newest!.InputPosition);
-                Assert.Equal(new[] { (byte)winner }, newest.Snapshot.ToArray());
-                expected = newest.InputPosition;
-            }
-
-            Assert.Equal(rounds, Scalar(path, "SELECT seq FROM sqlite_sequence WHERE name = 'checkpoints'")); // one insert per round
-        }
-        finally
-        {
-            foreach (SqliteCheckpointStore store in stores)
-            {
-                store.Dispose();
-            }
-        }
-    }
-
-    [Fact]
-    public async Task SaveAsync_ManyInstancesWritingOneFileInParallel_AllSucceedAndEachStreamEndsAtItsLastSave()
-    {
-        const int streams = 8;
-        const int savesPerStream = 25;
-        string path = _temp.File("busy.db");
-        var writers = new Task[streams];
-        for (int s = 0; s < streams; s++)
-        {
-            int stream = s;
-            writers[s] = Task.Run(async () =>
-            {
-                // A fresh instance per stream, and every other save through a second instance, as separate silos would.
-                var options = new SqliteCheckpointStoreOptions(retainCount: 2, streamName: "bucket-" + stream);
-                using var first = new SqliteCheckpointStore(path, options);
-                using var second = new SqliteCheckpointStore(path, options);
-                for (int i = 1; i <= savesPerStream; i++)
-                {
-                    SqliteCheckpointStore store = i % 2 == 0 ? second : first;
-                    await store.SaveAsync(new[] { (byte)stream, (byte)i }, (stream * 1000) + i);
-                }
-            });
-        }
-
-        await Task.WhenAll(writers);
-
-        for (int s = 0; s < streams; s++)
-        {
-            using var reader = new SqliteCheckpointStore(path, new SqliteCheckpointStoreOptions(streamName: "bucket-" + s));
-            Checkpoint? newest = await reader.LoadLatestAsync();
-            Assert.NotNull(newest);
-            Assert.Equal((s * 1000) + savesPerStream, newest.InputPosition);
-            Assert.Equal(new[] { (byte)s, (byte)savesPerStream }, newest.Snapshot.ToArray());
-            Assert.Empty(newest.Rejected);
-            Assert.Equal(2, StreamSequences(path, "bucket-" + s).Count);
-        }
-
-        Assert.Equal(streams * savesPerStream, Scalar(path, "SELECT seq FROM sqlite_sequence WHERE name = 'checkpoints'"));
     }
 
     [Fact]

@@ -1,4 +1,5 @@
 using Microsoft.Data.Sqlite;
+using StreamForecast.ContractSuites;
 using StreamForecast.Forecasting;
 using StreamForecast.Periods;
 using StreamForecast.Sqlite;
@@ -6,11 +7,56 @@ using StreamForecast.Streaming;
 
 namespace StreamForecast.Hosting.Tests.Sqlite;
 
-public sealed partial class SqliteCheckpointStoreTests : IDisposable
+// The conditional checkpoint-store contract (every stream in one file per test), then what only the SQLite store has:
+// its file header and schema versions, locations, rows damaged in ways only a database allows, and waiting for locks.
+public sealed partial class SqliteCheckpointStoreTests : ConditionalCheckpointStoreContractTests<SqliteCheckpointStore>
 {
     private readonly TempPath _temp = new();
 
-    public void Dispose() => _temp.Dispose();
+    private string ContractPath => _temp.File("contract.db");
+
+    public override async Task DisposeAsync()
+    {
+        await base.DisposeAsync();
+        _temp.Dispose();
+    }
+
+    protected override SqliteCheckpointStore CreateStoreCore(string stream, int retainCount) =>
+        new(ContractPath, new SqliteCheckpointStoreOptions(retainCount: retainCount, streamName: stream));
+
+    protected override Task DamageAsync(string location)
+    {
+        // One flipped bit in the first byte of the snapshot: same length, wrong SHA-256.
+        long sequence = long.Parse(location[(location.LastIndexOf('#') + 1)..], System.Globalization.CultureInfo.InvariantCulture);
+        using var c = new SqliteConnection($"Data Source={ContractPath};Pooling=False");
+        c.Open();
+        byte[] snapshot;
+        using (var select = c.CreateCommand())
+        {
+            select.CommandText = "SELECT snapshot FROM checkpoints WHERE sequence = $sequence";
+            select.Parameters.AddWithValue("$sequence", sequence);
+            snapshot = (byte[])select.ExecuteScalar()!;
+        }
+
+        snapshot[0] ^= 0x01;
+        using var update = c.CreateCommand();
+        update.CommandText = "UPDATE checkpoints SET snapshot = $snapshot WHERE sequence = $sequence";
+        update.Parameters.AddWithValue("$snapshot", snapshot);
+        update.Parameters.AddWithValue("$sequence", sequence);
+        Assert.Equal(1, update.ExecuteNonQuery());
+        return Task.CompletedTask;
+    }
+
+    protected override Task<int> CountStoredAsync(string stream) =>
+        Task.FromResult(File.Exists(ContractPath) && Scalar(ContractPath, "SELECT count(*) FROM sqlite_schema WHERE name = 'checkpoints'") == 1
+            ? StreamSequences(ContractPath, stream).Count
+            : 0);
+
+    protected override Task PlantForeignDataAsync(string stream)
+    {
+        Execute(ContractPath, "CREATE TABLE orders (id INTEGER, note TEXT)");
+        return Task.CompletedTask;
+    }
 
     [Fact]
     public async Task LoadLatestAsync_NewFile_ReturnsNullAndCreatesVersionedFile()
@@ -26,7 +72,7 @@ public sealed partial class SqliteCheckpointStoreTests : IDisposable
     }
 
     [Fact]
-    public async Task SaveAsync_ThenLoadLatest_ReturnsTheNewestBytesAndPosition()
+    public async Task LoadLatestAsync_DefaultStream_LocationIsThePathAndRow()
     {
         using var store = new SqliteCheckpointStore(_temp.File("c.db"));
         await store.SaveAsync(new byte[] { 1, 2, 3 }, 10);
@@ -42,39 +88,6 @@ public sealed partial class SqliteCheckpointStoreTests : IDisposable
     }
 
     [Fact]
-    public async Task SaveAsync_MoreThanRetainCount_KeepsOnlyTheNewest()
-    {
-        string path = _temp.File("c.db");
-        using var store = new SqliteCheckpointStore(path, new SqliteCheckpointStoreOptions(retainCount: 2));
-        for (int i = 1; i <= 5; i++)
-        {
-            await store.SaveAsync(new[] { (byte)i }, i);
-        }
-
-        Assert.Equal([5L, 4L], Sequences(path));
-        Assert.Equal(5, (await store.LoadLatestAsync())!.InputPosition);
-    }
-
-    [Fact]
-    public async Task LoadLatestAsync_NewestRowDamaged_FallsBackToThePreviousAndReportsWhy()
-    {
-        string path = _temp.File("c.db");
-        using var store = new SqliteCheckpointStore(path);
-        await store.SaveAsync(new byte[] { 1, 2, 3 }, 10);
-        await store.SaveAsync(new byte[] { 4, 5, 6 }, 20);
-        Execute(path, "UPDATE checkpoints SET snapshot = x'040507' WHERE sequence = 2"); // one flipped bit, same length
-
-        Checkpoint? loaded = await store.LoadLatestAsync();
-
-        Assert.NotNull(loaded);
-        Assert.Equal(10, loaded.InputPosition);
-        Assert.Equal(new byte[] { 1, 2, 3 }, loaded.Snapshot.ToArray());
-        CheckpointRejection rejection = Assert.Single(loaded.Rejected);
-        Assert.EndsWith("#2", rejection.Location, StringComparison.Ordinal);
-        Assert.Contains("SHA-256", rejection.Reason, StringComparison.Ordinal);
-    }
-
-    [Fact]
     public async Task LoadLatestAsync_TruncatedRow_FallsBack()
     {
         string path = _temp.File("c.db");
@@ -87,22 +100,6 @@ public sealed partial class SqliteCheckpointStoreTests : IDisposable
 
         Assert.Equal(10, loaded!.InputPosition);
         Assert.Contains("declares 3", Assert.Single(loaded.Rejected).Reason, StringComparison.Ordinal);
-    }
-
-    [Fact]
-    public async Task LoadLatestAsync_EveryRowDamaged_ThrowsListingEach()
-    {
-        string path = _temp.File("c.db");
-        using var store = new SqliteCheckpointStore(path);
-        await store.SaveAsync(new byte[] { 1 }, 1);
-        await store.SaveAsync(new byte[] { 2 }, 2);
-        Execute(path, "UPDATE checkpoints SET snapshot_sha256 = x'00'");
-
-        var ex = await Assert.ThrowsAsync<InvalidDataException>(async () => await store.LoadLatestAsync());
-
-        Assert.Contains("None of the 2 checkpoints", ex.Message, StringComparison.Ordinal);
-        Assert.Contains("#1", ex.Message, StringComparison.Ordinal);
-        Assert.Contains("#2", ex.Message, StringComparison.Ordinal);
     }
 
     [Fact]
@@ -134,28 +131,6 @@ public sealed partial class SqliteCheckpointStoreTests : IDisposable
 
         Assert.Contains("already holds other tables", ex.Message, StringComparison.Ordinal);
         Assert.Equal(0, Pragma(path, "user_version"));
-    }
-
-    [Fact]
-    public async Task SaveAsync_Cancelled_LeavesStoredCheckpointsUnchanged()
-    {
-        string path = _temp.File("c.db");
-        using var store = new SqliteCheckpointStore(path);
-        await store.SaveAsync(new byte[] { 1 }, 1);
-        using var cancelled = new CancellationTokenSource();
-        await cancelled.CancelAsync();
-
-        await Assert.ThrowsAnyAsync<OperationCanceledException>(async () => await store.SaveAsync(new byte[] { 2 }, 2, cancelled.Token));
-
-        Assert.Equal([1L], Sequences(path));
-    }
-
-    [Theory]
-    [InlineData(-1)]
-    public async Task SaveAsync_NegativePosition_Throws(long position)
-    {
-        using var store = new SqliteCheckpointStore(_temp.File("c.db"));
-        await Assert.ThrowsAsync<ArgumentOutOfRangeException>(async () => await store.SaveAsync(new byte[] { 1 }, position));
     }
 
     [Fact]

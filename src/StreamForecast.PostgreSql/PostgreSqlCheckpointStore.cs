@@ -1,0 +1,545 @@
+using System.Data;
+using System.Globalization;
+using System.Security.Cryptography;
+using System.Text;
+using Npgsql;
+using NpgsqlTypes;
+using StreamForecast.Streaming;
+
+namespace StreamForecast.PostgreSql;
+
+/// <summary>
+/// Keeps engine checkpoints in a PostgreSQL database, as named streams side by side in one schema: each save is one
+/// row written in a transaction together with the deletion of the stream's rows beyond the retention count, so a
+/// checkpoint is either wholly stored or absent. Any number of stores, in one process or on many machines, may share
+/// the schema; this is the store for an Orleans cluster whose silos run on several machines.
+/// </summary>
+/// <remarks>
+/// <para><b>Schema.</b> The store's tables live in their own database schema (<see cref="PostgreSqlCheckpointStoreOptions.SchemaName"/>,
+/// <c>streamforecast</c> by default), created with the tables the first time a store touches the database (the role
+/// needs the <c>CREATE</c> privilege on the database for that, or an administrator creates the schema beforehand and
+/// grants it). Table <c>schema_info</c> holds one row: the application (<see cref="ApplicationName"/>) and the schema
+/// version (<see cref="SchemaVersion"/>). A schema of a newer version, a <c>schema_info</c> naming another application,
+/// or a schema that already holds other tables is refused with an <see cref="InvalidDataException"/> rather than
+/// changed. Creation runs under a transaction-scoped advisory lock, so stores starting together create it once.</para>
+/// <para><b>Rows.</b> Table <c>checkpoints</c>: <c>sequence</c> (an identity, growing in save order across the
+/// schema), <c>stream</c>, <c>input_position</c>, <c>snapshot_length</c>, <c>snapshot_sha256</c> and <c>snapshot</c>
+/// (<c>bytea</c>), with an index on (<c>stream</c>, <c>sequence</c>); table <c>streams</c> has one row per stream
+/// name, the row every save to that stream locks. A store reads, writes and prunes only the rows of its
+/// <see cref="PostgreSqlCheckpointStoreOptions.StreamName"/>, and the retention count applies per stream. The length
+/// and SHA-256 are checked on load, so a damaged row is detected and skipped: loading falls back to the next older
+/// checkpoint of the stream and reports the skipped one in <see cref="Checkpoint.Rejected"/>. Locations read
+/// <c>host:port/database/schema#sequence</c> for stream "" and <c>host:port/database/schema[stream]#sequence</c>
+/// otherwise.</para>
+/// <para><b>Durability.</b> A save returns once PostgreSQL has committed it; with the server's defaults
+/// (<c>fsync</c> and <c>synchronous_commit</c> on) a committed save survives a crash of the server or its machine. A
+/// server run with either turned off, or a commit acknowledged only by an asynchronous standby, does not give that
+/// guarantee: configure the server for it.</para>
+/// <para><b>Concurrency.</b> Every save (conditional or not) begins a READ COMMITTED transaction and first locks its
+/// stream's row in <c>streams</c> (inserting it if missing), so saves to one stream, from any instance or machine,
+/// run one at a time in the order they took the lock, and the conditional comparison sees every save committed before
+/// it. Saves to different streams do not wait for each other. Loads read in a REPEATABLE READ transaction, so one load
+/// sees one consistent state of the stream, and never wait for saves. Two stores given the same stream name share the
+/// stream: <see cref="SaveAsync"/> is then last-writer-wins, and <see cref="TrySaveAsync"/> detects the other writer.</para>
+/// <para><b>Connections.</b> The store opens a pooled connection from its <see cref="NpgsqlDataSource"/> for each
+/// operation and returns it at once. Stores made from a connection string own a data source (one connection pool)
+/// each; for many stores (an Orleans silo makes one per grain), create one data source and pass it to every store.</para>
+/// <para><b>Thread safety.</b> Thread-safe: saves and loads may run concurrently on one instance. Saving or loading
+/// after <see cref="DisposeAsync"/> throws <see cref="ObjectDisposedException"/>.</para>
+/// </remarks>
+public sealed class PostgreSqlCheckpointStore : IConditionalCheckpointStore, IAsyncDisposable, IDisposable
+{
+    /// <summary>The schema version this store writes and reads.</summary>
+    public const int SchemaVersion = 1;
+
+    /// <summary>The application named in the <c>schema_info</c> table of a checkpoint schema.</summary>
+    public const string ApplicationName = "StreamForecast checkpoints";
+
+    // The key of the transaction-scoped advisory lock held while the schema is checked and created: the ASCII bytes
+    // "SFcp", the same mark the SQLite store writes as its file's application_id.
+    private const long SchemaLockKey = 0x53466370;
+
+    private readonly NpgsqlDataSource _dataSource;
+    private readonly bool _ownsDataSource;
+    private readonly PostgreSqlCheckpointStoreOptions _options;
+    private readonly string _schema;
+    private readonly string _databaseDescription;
+    private readonly string _locationPrefix;
+    private readonly string _streamDescription;
+    private int _disposed;
+    private volatile bool _schemaReady;
+
+    /// <summary>Creates a store with a data source (a connection pool) of its own, disposed with the store.</summary>
+    /// <param name="connectionString">
+    /// An Npgsql connection string (<c>Host=…;Port=…;Database=…;Username=…;Password=…</c>); nothing is connected until
+    /// the first save or load.
+    /// </param>
+    /// <param name="options">Retention, size limit, stream and schema names; <see cref="PostgreSqlCheckpointStoreOptions.Default"/> when null.</param>
+    /// <exception cref="ArgumentException"><paramref name="connectionString"/> is null, empty, white space or not a valid connection string.</exception>
+    public PostgreSqlCheckpointStore(string connectionString, PostgreSqlCheckpointStoreOptions? options = null)
+        : this(CreateDataSource(connectionString), ownsDataSource: true, options)
+    {
+    }
+
+    /// <summary>Creates a store that opens its connections from a shared data source, which the store does not dispose.</summary>
+    /// <param name="dataSource">The data source (connection pool); it may be shared by any number of stores and other code.</param>
+    /// <param name="options">Retention, size limit, stream and schema names; <see cref="PostgreSqlCheckpointStoreOptions.Default"/> when null.</param>
+    /// <exception cref="ArgumentNullException"><paramref name="dataSource"/> is null.</exception>
+    public PostgreSqlCheckpointStore(NpgsqlDataSource dataSource, PostgreSqlCheckpointStoreOptions? options = null)
+        : this(dataSource ?? throw new ArgumentNullException(nameof(dataSource)), ownsDataSource: false, options)
+    {
+    }
+
+    private PostgreSqlCheckpointStore(NpgsqlDataSource dataSource, bool ownsDataSource, PostgreSqlCheckpointStoreOptions? options)
+    {
+        _dataSource = dataSource;
+        _ownsDataSource = ownsDataSource;
+        _options = options ?? PostgreSqlCheckpointStoreOptions.Default;
+        _schema = _options.SchemaName;
+        var builder = new NpgsqlConnectionStringBuilder(dataSource.ConnectionString);
+        _databaseDescription = string.Create(CultureInfo.InvariantCulture, $"{builder.Host}:{builder.Port}/{builder.Database ?? builder.Username}");
+        string stream = _options.StreamName;
+        _locationPrefix = stream.Length == 0 ? $"{_databaseDescription}/{_schema}" : $"{_databaseDescription}/{_schema}[{stream}]";
+        _streamDescription = stream.Length == 0 ? $"schema '{_schema}' of {_databaseDescription}" : $"stream '{stream}' in schema '{_schema}' of {_databaseDescription}";
+    }
+
+    /// <summary>The store's settings.</summary>
+    public PostgreSqlCheckpointStoreOptions Options => _options;
+
+    /// <summary>
+    /// Saves a checkpoint as a new row of the store's stream and deletes all but the stream's newest
+    /// <see cref="PostgreSqlCheckpointStoreOptions.RetainCount"/> rows, in one transaction.
+    /// </summary>
+    /// <param name="snapshot">The snapshot's bytes, 1 to <see cref="PostgreSqlCheckpointStoreOptions.MaxSnapshotLength"/>.</param>
+    /// <param name="inputPosition">The input position the snapshot accounts for, ≥ 0.</param>
+    /// <param name="cancellationToken">Cancels the save before the commit; the stored checkpoints are then unchanged.</param>
+    /// <returns>A task that completes once the transaction has committed.</returns>
+    /// <exception cref="ArgumentOutOfRangeException"><paramref name="inputPosition"/> is negative.</exception>
+    /// <exception cref="ArgumentException">The snapshot is empty or longer than <see cref="PostgreSqlCheckpointStoreOptions.MaxSnapshotLength"/>.</exception>
+    /// <exception cref="InvalidDataException">The schema is not a checkpoint schema this version can use.</exception>
+    /// <exception cref="NpgsqlException">The server could not be reached or refused the statements (no privilege, disk full...); no checkpoint was added.</exception>
+    /// <exception cref="ObjectDisposedException">The store has been disposed.</exception>
+    /// <remarks>
+    /// Cost: one SHA-256 over the snapshot and three round trips to the server (begin and lock the stream, insert and
+    /// prune, commit; the first operation of an instance also checks the schema, one more). Waits while another save to
+    /// the same stream holds its lock.
+    /// </remarks>
+    public async ValueTask SaveAsync(ReadOnlyMemory<byte> snapshot, long inputPosition, CancellationToken cancellationToken = default)
+    {
+        ArgumentOutOfRangeException.ThrowIfNegative(inputPosition);
+        ValidateSnapshot(snapshot);
+        bool saved = await SaveCoreAsync(snapshot, inputPosition, conditional: false, expectedLatestPosition: null, cancellationToken).ConfigureAwait(false);
+        System.Diagnostics.Debug.Assert(saved, "An unconditional save always stores its checkpoint.");
+    }
+
+    /// <summary>
+    /// Saves a checkpoint as <see cref="SaveAsync"/> does, but only if the stream's newest valid checkpoint accounts for
+    /// <paramref name="expectedLatestPosition"/>; the comparison, the insert and the pruning are one transaction, under
+    /// the stream's row lock.
+    /// </summary>
+    /// <param name="snapshot">The snapshot's bytes, 1 to <see cref="PostgreSqlCheckpointStoreOptions.MaxSnapshotLength"/>.</param>
+    /// <param name="inputPosition">The input position the snapshot accounts for, ≥ 0.</param>
+    /// <param name="expectedLatestPosition">
+    /// The input position of the stream's newest checkpoint that passes validation (the one <see cref="LoadLatestAsync"/>
+    /// returns), ≥ 0; or <see langword="null"/> to save only when the stream holds no valid checkpoint (no row at all, or
+    /// only damaged rows, the case in which <see cref="LoadLatestAsync"/> throws).
+    /// </param>
+    /// <param name="cancellationToken">Cancels the save before the commit; the stored checkpoints are then unchanged.</param>
+    /// <returns>
+    /// <see langword="true"/> once the transaction has committed; <see langword="false"/> when the expectation did not
+    /// match, in which case nothing was written or deleted.
+    /// </returns>
+    /// <exception cref="ArgumentOutOfRangeException"><paramref name="inputPosition"/> or <paramref name="expectedLatestPosition"/> is negative.</exception>
+    /// <exception cref="ArgumentException">The snapshot is empty or longer than <see cref="PostgreSqlCheckpointStoreOptions.MaxSnapshotLength"/>.</exception>
+    /// <exception cref="InvalidDataException">The schema is not a checkpoint schema this version can use.</exception>
+    /// <exception cref="NpgsqlException">The server could not be reached or refused the statements; no checkpoint was added.</exception>
+    /// <exception cref="ObjectDisposedException">The store has been disposed.</exception>
+    /// <remarks>
+    /// <para><b>Newest.</b> Damaged rows are skipped exactly as <see cref="LoadLatestAsync"/> skips them, so a position
+    /// just loaded is always a matching expectation.</para>
+    /// <para>Cost: that of <see cref="SaveAsync"/>, plus one round trip reading and hashing the stream's newest stored
+    /// snapshot (and one more per older one, read only while the newer are damaged) inside the transaction.</para>
+    /// <para><b>Thread safety.</b> Atomic with respect to every save to the stream, from this instance, other instances
+    /// or other machines: of several conditional saves made with the same expectation, at most one returns
+    /// <see langword="true"/>.</para>
+    /// </remarks>
+    public async ValueTask<bool> TrySaveAsync(ReadOnlyMemory<byte> snapshot, long inputPosition, long? expectedLatestPosition, CancellationToken cancellationToken = default)
+    {
+        ArgumentOutOfRangeException.ThrowIfNegative(inputPosition);
+        if (expectedLatestPosition is long expected)
+        {
+            ArgumentOutOfRangeException.ThrowIfNegative(expected, nameof(expectedLatestPosition));
+        }
+
+        ValidateSnapshot(snapshot);
+        return await SaveCoreAsync(snapshot, inputPosition, conditional: true, expectedLatestPosition, cancellationToken).ConfigureAwait(false);
+    }
+
+    /// <summary>
+    /// Loads the stream's newest checkpoint whose length and SHA-256 match its bytes, falling back to older rows.
+    /// </summary>
+    /// <param name="cancellationToken">Cancels the load.</param>
+    /// <returns>The checkpoint, with any newer rows skipped; null when the stream holds no checkpoint (a new schema or stream).</returns>
+    /// <exception cref="InvalidDataException">
+    /// Checkpoints of the stream exist but none is usable (the message lists each and why), or the schema is not a
+    /// checkpoint schema this version can use (a newer schema version, another application's tables).
+    /// </exception>
+    /// <exception cref="NpgsqlException">The server could not be reached or refused the statements.</exception>
+    /// <exception cref="ObjectDisposedException">The store has been disposed.</exception>
+    /// <remarks>
+    /// Reads the stream's rows newest first, one per round trip, in one REPEATABLE READ transaction, and stops at the
+    /// first valid one; usually reads one snapshot. A row longer than the size limit is rejected without its bytes
+    /// being sent.
+    /// </remarks>
+    public async ValueTask<Checkpoint?> LoadLatestAsync(CancellationToken cancellationToken = default)
+    {
+        ObjectDisposedException.ThrowIf(Volatile.Read(ref _disposed) != 0, this);
+        var rejected = new List<CheckpointRejection>();
+        NpgsqlConnection connection = await OpenAsync(cancellationToken).ConfigureAwait(false);
+        await using (connection.ConfigureAwait(false))
+        {
+            NpgsqlTransaction transaction = await connection.BeginTransactionAsync(IsolationLevel.RepeatableRead, cancellationToken).ConfigureAwait(false);
+            await using (transaction.ConfigureAwait(false))
+            {
+                long before = long.MaxValue;
+                while (await ReadOlderRowAsync(connection, transaction, before, cancellationToken).ConfigureAwait(false) is StoredRow row)
+                {
+                    string location = Location(row.Sequence);
+                    if (row.Problem is null)
+                    {
+                        return new Checkpoint(row.Snapshot!, row.Position, location, rejected);
+                    }
+
+                    rejected.Add(new CheckpointRejection(location, row.Problem));
+                    before = row.Sequence;
+                }
+            }
+        }
+
+        if (rejected.Count == 0)
+        {
+            return null;
+        }
+
+        var message = new StringBuilder();
+        message.Append(CultureInfo.InvariantCulture, $"None of the {rejected.Count} checkpoints in {_streamDescription} is usable:");
+        foreach (CheckpointRejection rejection in rejected)
+        {
+            message.Append(CultureInfo.InvariantCulture, $" {rejection.Location}: {rejection.Reason}");
+        }
+
+        throw new InvalidDataException(message.ToString());
+    }
+
+    /// <summary>
+    /// Ends this store: later saves and loads throw <see cref="ObjectDisposedException"/>, and a data source the store
+    /// made from a connection string is disposed (a shared one is not). The stored checkpoints are not touched. Idempotent.
+    /// </summary>
+    /// <returns>A task that completes once the store's own data source has closed its connections.</returns>
+    public async ValueTask DisposeAsync()
+    {
+        if (Interlocked.Exchange(ref _disposed, 1) == 0 && _ownsDataSource)
+        {
+            await _dataSource.DisposeAsync().ConfigureAwait(false);
+        }
+    }
+
+    /// <summary>Ends this store as <see cref="DisposeAsync"/> does, synchronously. Idempotent.</summary>
+    public void Dispose()
+    {
+        if (Interlocked.Exchange(ref _disposed, 1) == 0 && _ownsDataSource)
+        {
+            _dataSource.Dispose();
+        }
+    }
+
+    private static NpgsqlDataSource CreateDataSource(string connectionString)
+    {
+        ArgumentException.ThrowIfNullOrWhiteSpace(connectionString);
+        return NpgsqlDataSource.Create(connectionString);
+    }
+
+    private void ValidateSnapshot(ReadOnlyMemory<byte> snapshot)
+    {
+        if (snapshot.IsEmpty || snapshot.Length > _options.MaxSnapshotLength)
+        {
+            throw new ArgumentException(
+                string.Create(CultureInfo.InvariantCulture, $"The snapshot is {snapshot.Length} bytes; a checkpoint holds 1 to {_options.MaxSnapshotLength} bytes (PostgreSqlCheckpointStoreOptions.MaxSnapshotLength)."),
+                nameof(snapshot));
+        }
+    }
+
+    private async ValueTask<bool> SaveCoreAsync(ReadOnlyMemory<byte> snapshot, long inputPosition, bool conditional, long? expectedLatestPosition, CancellationToken cancellationToken)
+    {
+        ObjectDisposedException.ThrowIf(Volatile.Read(ref _disposed) != 0, this);
+        byte[] hash = SHA256.HashData(snapshot.Span);
+        NpgsqlConnection connection = await OpenAsync(cancellationToken).ConfigureAwait(false);
+        await using (connection.ConfigureAwait(false))
+        {
+            // READ COMMITTED whatever the server's default: each statement after the lock then sees every save committed
+            // by the lock's previous holder.
+            NpgsqlTransaction transaction = await connection.BeginTransactionAsync(IsolationLevel.ReadCommitted, cancellationToken).ConfigureAwait(false);
+            await using (transaction.ConfigureAwait(false))
+            {
+                var lockStream = new NpgsqlBatch(connection, transaction);
+                await using (lockStream.ConfigureAwait(false))
+                {
+                    lockStream.BatchCommands.Add(Command($"INSERT INTO {_schema}.streams (name) VALUES ($1) ON CONFLICT (name) DO NOTHING", Text(_options.StreamName)));
+                    lockStream.BatchCommands.Add(Command($"SELECT 1 FROM {_schema}.streams WHERE name = $1 FOR UPDATE", Text(_options.StreamName)));
+                    await lockStream.ExecuteNonQueryAsync(cancellationToken).ConfigureAwait(false);
+                }
+
+                if (conditional)
+                {
+                    long? latest = await NewestValidPositionAsync(connection, transaction, cancellationToken).ConfigureAwait(false);
+                    if (latest != expectedLatestPosition)
+                    {
+                        return false; // disposing the transaction rolls it back; nothing was written
+                    }
+                }
+
+                var write = new NpgsqlBatch(connection, transaction);
+                await using (write.ConfigureAwait(false))
+                {
+                    write.BatchCommands.Add(Command(
+                        $"INSERT INTO {_schema}.checkpoints (stream, input_position, snapshot_length, snapshot_sha256, snapshot) VALUES ($1, $2, $3, $4, $5)",
+                        Text(_options.StreamName),
+                        new NpgsqlParameter<long> { TypedValue = inputPosition },
+                        new NpgsqlParameter<long> { TypedValue = snapshot.Length },
+                        new NpgsqlParameter<byte[]> { TypedValue = hash, NpgsqlDbType = NpgsqlDbType.Bytea },
+                        new NpgsqlParameter<ReadOnlyMemory<byte>> { TypedValue = snapshot, NpgsqlDbType = NpgsqlDbType.Bytea }));
+                    write.BatchCommands.Add(Command(
+                        $"""
+                        DELETE FROM {_schema}.checkpoints WHERE stream = $1 AND sequence <
+                            (SELECT sequence FROM {_schema}.checkpoints WHERE stream = $1 ORDER BY sequence DESC OFFSET $2 LIMIT 1)
+                        """,
+                        Text(_options.StreamName),
+                        new NpgsqlParameter<int> { TypedValue = _options.RetainCount - 1 }));
+                    await write.ExecuteNonQueryAsync(cancellationToken).ConfigureAwait(false);
+                }
+
+                cancellationToken.ThrowIfCancellationRequested();
+                await transaction.CommitAsync(CancellationToken.None).ConfigureAwait(false);
+                return true;
+            }
+        }
+    }
+
+    private async Task<long?> NewestValidPositionAsync(NpgsqlConnection connection, NpgsqlTransaction transaction, CancellationToken cancellationToken)
+    {
+        long before = long.MaxValue;
+        while (await ReadOlderRowAsync(connection, transaction, before, cancellationToken).ConfigureAwait(false) is StoredRow row)
+        {
+            if (row.Problem is null)
+            {
+                return row.Position;
+            }
+
+            before = row.Sequence;
+        }
+
+        return null;
+    }
+
+    // Reads the stream's newest row with a sequence below `before`, and checks it; null when there is none.
+    private async Task<StoredRow?> ReadOlderRowAsync(NpgsqlConnection connection, NpgsqlTransaction transaction, long before, CancellationToken cancellationToken)
+    {
+        var select = new NpgsqlCommand(
+            $"""
+            SELECT sequence, input_position, snapshot_length, snapshot_sha256, octet_length(snapshot),
+                   CASE WHEN octet_length(snapshot) <= $3 THEN snapshot END
+            FROM {_schema}.checkpoints WHERE stream = $1 AND sequence < $2 ORDER BY sequence DESC LIMIT 1
+            """,
+            connection,
+            transaction);
+        await using (select.ConfigureAwait(false))
+        {
+            select.Parameters.Add(Text(_options.StreamName));
+            select.Parameters.Add(new NpgsqlParameter<long> { TypedValue = before });
+            select.Parameters.Add(new NpgsqlParameter<long> { TypedValue = _options.MaxSnapshotLength });
+            NpgsqlDataReader reader = await select.ExecuteReaderAsync(cancellationToken).ConfigureAwait(false);
+            await using (reader.ConfigureAwait(false))
+            {
+                if (!await reader.ReadAsync(cancellationToken).ConfigureAwait(false))
+                {
+                    return null;
+                }
+
+                long sequence = reader.GetInt64(0);
+                long position = reader.GetInt64(1);
+                long declared = reader.GetInt64(2);
+                byte[] storedHash = reader.GetFieldValue<byte[]>(3);
+                long stored = reader.GetInt32(4);
+                if (position < 0)
+                {
+                    return new StoredRow(sequence, position, null, string.Create(CultureInfo.InvariantCulture, $"The input position {position} is negative."));
+                }
+
+                if (stored != declared)
+                {
+                    return new StoredRow(sequence, position, null, string.Create(CultureInfo.InvariantCulture, $"The snapshot is {stored} bytes but its row declares {declared}."));
+                }
+
+                if (stored > _options.MaxSnapshotLength || reader.IsDBNull(5))
+                {
+                    return new StoredRow(sequence, position, null, string.Create(CultureInfo.InvariantCulture, $"The snapshot is {stored} bytes, more than the limit of {_options.MaxSnapshotLength} bytes."));
+                }
+
+                byte[] bytes = reader.GetFieldValue<byte[]>(5);
+                if (!SHA256.HashData(bytes).AsSpan().SequenceEqual(storedHash))
+                {
+                    return new StoredRow(sequence, position, null, "The snapshot's SHA-256 does not match the one stored with it.");
+                }
+
+                return new StoredRow(sequence, position, bytes, null);
+            }
+        }
+    }
+
+    private string Location(long sequence) => string.Create(CultureInfo.InvariantCulture, $"{_locationPrefix}#{sequence}");
+
+    private static NpgsqlBatchCommand Command(string sql, params NpgsqlParameter[] parameters)
+    {
+        var command = new NpgsqlBatchCommand(sql);
+        command.Parameters.AddRange(parameters);
+        return command;
+    }
+
+    private static NpgsqlParameter<string> Text(string value) => new() { TypedValue = value, NpgsqlDbType = NpgsqlDbType.Text };
+
+    private async Task<NpgsqlConnection> OpenAsync(CancellationToken cancellationToken)
+    {
+        NpgsqlConnection connection = await _dataSource.OpenConnectionAsync(cancellationToken).ConfigureAwait(false);
+        try
+        {
+            if (!_schemaReady)
+            {
+                await EnsureSchemaAsync(connection, cancellationToken).ConfigureAwait(false);
+                _schemaReady = true;
+            }
+
+            return connection;
+        }
+        catch
+        {
+            await connection.DisposeAsync().ConfigureAwait(false);
+            throw;
+        }
+    }
+
+    private async Task EnsureSchemaAsync(NpgsqlConnection connection, CancellationToken cancellationToken)
+    {
+        // The usual case, one round trip: the schema exists and says what it is.
+        try
+        {
+            await CheckSchemaInfoAsync(connection, transaction: null, cancellationToken).ConfigureAwait(false);
+            return;
+        }
+        catch (PostgresException ex) when (ex.SqlState is PostgresErrorCodes.UndefinedTable or PostgresErrorCodes.InvalidSchemaName)
+        {
+            // Not created yet (or not a checkpoint schema): look again under the lock.
+        }
+
+        NpgsqlTransaction transaction = await connection.BeginTransactionAsync(IsolationLevel.ReadCommitted, cancellationToken).ConfigureAwait(false);
+        await using (transaction.ConfigureAwait(false))
+        {
+            await ScalarAsync(connection, transaction, $"SELECT pg_advisory_xact_lock({SchemaLockKey})", cancellationToken).ConfigureAwait(false);
+            bool schemaExists = (bool)(await ScalarAsync(connection, transaction, "SELECT EXISTS (SELECT 1 FROM pg_namespace WHERE nspname = $1)", cancellationToken, _schema).ConfigureAwait(false))!;
+            if (schemaExists)
+            {
+                bool infoExists = (bool)(await ScalarAsync(connection, transaction, "SELECT to_regclass($1) IS NOT NULL", cancellationToken, _schema + ".schema_info").ConfigureAwait(false))!;
+                if (infoExists)
+                {
+                    // Another store created it meanwhile.
+                    await CheckSchemaInfoAsync(connection, transaction, cancellationToken).ConfigureAwait(false);
+                    return;
+                }
+
+                long relations = (long)(await ScalarAsync(connection, transaction,
+                    "SELECT count(*) FROM pg_class c JOIN pg_namespace n ON n.oid = c.relnamespace WHERE n.nspname = $1", cancellationToken, _schema).ConfigureAwait(false))!;
+                if (relations != 0)
+                {
+                    throw new InvalidDataException(
+                        $"The schema '{_schema}' of {_databaseDescription} already holds other tables; checkpoints need a schema of their own (PostgreSqlCheckpointStoreOptions.SchemaName).");
+                }
+            }
+            else
+            {
+                await ScalarAsync(connection, transaction, $"CREATE SCHEMA {_schema}", cancellationToken).ConfigureAwait(false);
+            }
+
+            await ScalarAsync(connection, transaction, string.Create(CultureInfo.InvariantCulture, $"""
+                CREATE TABLE {_schema}.schema_info (
+                    application text NOT NULL,
+                    version integer NOT NULL);
+                INSERT INTO {_schema}.schema_info (application, version) VALUES ('{ApplicationName}', {SchemaVersion});
+                CREATE TABLE {_schema}.streams (
+                    name text COLLATE "C" PRIMARY KEY);
+                CREATE TABLE {_schema}.checkpoints (
+                    sequence bigint GENERATED ALWAYS AS IDENTITY PRIMARY KEY,
+                    stream text COLLATE "C" NOT NULL,
+                    input_position bigint NOT NULL,
+                    snapshot_length bigint NOT NULL,
+                    snapshot_sha256 bytea NOT NULL,
+                    snapshot bytea NOT NULL);
+                CREATE INDEX checkpoints_stream_sequence ON {_schema}.checkpoints (stream, sequence);
+                """), cancellationToken).ConfigureAwait(false);
+            await transaction.CommitAsync(cancellationToken).ConfigureAwait(false);
+        }
+    }
+
+    private async Task CheckSchemaInfoAsync(NpgsqlConnection connection, NpgsqlTransaction? transaction, CancellationToken cancellationToken)
+    {
+        var select = new NpgsqlCommand($"SELECT application, version FROM {_schema}.schema_info", connection, transaction);
+        await using (select.ConfigureAwait(false))
+        {
+            NpgsqlDataReader reader = await select.ExecuteReaderAsync(cancellationToken).ConfigureAwait(false);
+            await using (reader.ConfigureAwait(false))
+            {
+                string? application = null;
+                int version = 0;
+                int rows = 0;
+                while (await reader.ReadAsync(cancellationToken).ConfigureAwait(false))
+                {
+                    rows++;
+                    application = reader.IsDBNull(0) ? null : reader.GetString(0);
+                    version = reader.IsDBNull(1) ? 0 : reader.GetInt32(1);
+                }
+
+                if (rows != 1 || application != ApplicationName)
+                {
+                    throw new InvalidDataException(string.Create(CultureInfo.InvariantCulture,
+                        $"The schema '{_schema}' of {_databaseDescription} is not a StreamForecast checkpoint schema (its schema_info table holds {rows} rows, application '{application}'; a checkpoint schema holds one row, application '{ApplicationName}')."));
+                }
+
+                if (version > SchemaVersion)
+                {
+                    throw new InvalidDataException(string.Create(CultureInfo.InvariantCulture,
+                        $"The checkpoint schema '{_schema}' of {_databaseDescription} has schema version {version}, newer than version {SchemaVersion} that this StreamForecast.PostgreSql reads. Use the newer StreamForecast.PostgreSql that wrote it, or another schema."));
+                }
+
+                if (version != SchemaVersion)
+                {
+                    throw new InvalidDataException(string.Create(CultureInfo.InvariantCulture,
+                        $"The checkpoint schema '{_schema}' of {_databaseDescription} has schema version {version}, which this StreamForecast.PostgreSql does not know (it reads version {SchemaVersion})."));
+                }
+            }
+        }
+    }
+
+    private static async Task<object?> ScalarAsync(NpgsqlConnection connection, NpgsqlTransaction transaction, string sql, CancellationToken cancellationToken, string? textParameter = null)
+    {
+        var command = new NpgsqlCommand(sql, connection, transaction);
+        await using (command.ConfigureAwait(false))
+        {
+            if (textParameter is not null)
+            {
+                command.Parameters.Add(Text(textParameter));
+            }
+
+            return await command.ExecuteScalarAsync(cancellationToken).ConfigureAwait(false);
+        }
+    }
+
+    private readonly record struct StoredRow(long Sequence, long Position, byte[]? Snapshot, string? Problem);
+}
