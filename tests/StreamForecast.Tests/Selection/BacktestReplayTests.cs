@@ -1,0 +1,106 @@
+using FsCheck;
+using FsCheck.Fluent;
+using Microsoft.Extensions.Time.Testing;
+using StreamForecast.Alerts;
+using StreamForecast.Forecasting;
+using StreamForecast.Periods;
+using StreamForecast.Selection;
+using StreamForecast.Streaming;
+using StreamForecast.Tests.Infrastructure;
+using StreamForecast.Tests.Streaming;
+
+namespace StreamForecast.Tests.Selection;
+
+/// <summary>The backtester's replay runs the engine's own step: for the same period totals it publishes what the engine does.</summary>
+public sealed class BacktestReplayTests
+{
+    private static readonly PeriodCalendar s_days = PeriodCalendar.Daily(TimeZoneInfo.Utc);
+
+    private static readonly SeriesOptions[] s_options =
+    [
+        new(new MovingAverageOptions(3), s_days, gaps: GapPolicy.Zero, rules: [new TrackingSignalRuleOptions(limit: 3, warmUpPeriods: 2), new CusumRuleOptions(decisionInterval: 3)], horizon: 3),
+        new(new ExponentialSmoothingOptions(0.3), s_days, gaps: GapPolicy.Missing, rules: [new TriggSignalRuleOptions(limit: 0.4, warmUpPeriods: 2)]),
+        new(new HoltOptions(0.4, 0.2), s_days, gaps: GapPolicy.CarryForward, rules: [new TrackingSignalRuleOptions(limit: 2.5)], horizon: 7),
+        new(new CrostonOptions(), s_days, gaps: GapPolicy.Zero, rules: [new CusumRuleOptions(decisionInterval: 2.5)]),
+        new(new HoltWintersOptions(7, Seasonality.Multiplicative, 0.3, 0.05, 0.2), s_days, gaps: GapPolicy.Missing, horizon: 2),
+    ];
+
+    private sealed class ListSink : ISeriesSink<string>
+    {
+        public List<ForecastUpdate<string>> Forecasts { get; } = [];
+
+        public List<DriftAlert<string>> Alerts { get; } = [];
+
+        public List<SeriesFault<string>> Faults { get; } = [];
+
+        public void Forecast(in ForecastUpdate<string> update) => Forecasts.Add(update);
+
+        public void Alert(in DriftAlert<string> alert) => Alerts.Add(alert);
+
+        public void Fault(in SeriesFault<string> fault) => Faults.Add(fault);
+    }
+
+    private static Gen<double[]> History { get; } =
+        from length in Gen.Choose(2, 90)
+        from values in Gen.Frequency(
+            (14, Gen.Choose(0, 10_000).Select(i => i / 100.0)),
+            (4, Gen.Constant(double.NaN)),
+            (1, Gen.Choose(-500, -1).Select(i => i / 100.0))).ArrayOf(length)
+        select Ends(values);
+
+    private static double[] Ends(double[] values)
+    {
+        // The engine starts a series at its first event and a flush closes through its last: both ends carry data.
+        values[0] = double.IsNaN(values[0]) ? 12 : values[0];
+        values[^1] = double.IsNaN(values[^1]) ? 9 : values[^1];
+        return values;
+    }
+
+    [Fact]
+    public void Replay_RandomHistoriesWithGaps_PublishesExactlyWhatTheEngineDoes() =>
+        PropertyRuns.Check(
+            Prop.ForAll(Gen.Choose(0, s_options.Length - 1).ToArbitrary(), History.ToArbitrary(), (which, history) => Same(s_options[which], history)),
+            cases: Math.Max(200, PropertyRuns.Cases / 20));
+
+    private static bool Same(SeriesOptions series, double[] history)
+    {
+        var start = new DateTimeOffset(2026, 1, 5, 0, 0, 0, TimeSpan.Zero);
+        long first = s_days.PeriodOf(start);
+        var sink = new ListSink();
+        Backtester.Replay("bakery/rye", history, first, series, sink);
+
+        var engineOptions = new ForecastEngineOptions<string>(series, partitions: 1, timeProvider: new FakeTimeProvider(start.AddYears(1)),
+            maxEventTimeAhead: Timeout.InfiniteTimeSpan, publishing: new PublishingOptions(100_000, 100_000));
+        var engine = new ForecastEngine<string>(engineOptions);
+        var recorder = EngineRecorder<string>.Attach(engine);
+        Task.Run(async () =>
+        {
+            for (int t = 0; t < history.Length; t++)
+            {
+                if (!double.IsNaN(history[t]))
+                {
+                    await engine.PostAsync(new Observation<string>("bakery/rye", start.AddDays(t).AddHours(9), history[t]));
+                }
+            }
+
+            await engine.FlushAsync();
+            await engine.DisposeAsync();
+        }).GetAwaiter().GetResult();
+
+        Assert.Equal(recorder.Forecasts, sink.Forecasts);
+        Assert.Equal(recorder.Alerts, sink.Alerts);
+        Assert.Equal(recorder.Faults, sink.Faults);
+        Assert.Equal(history.Length, sink.Forecasts.Count + sink.Faults.Count(f => f.Kind == SeriesFaultKind.ActualRejected)
+            + (series.Gaps == GapPolicy.Missing ? history.Count(double.IsNaN) : 0));
+        return true;
+    }
+
+    [Fact]
+    public void Replay_TotalOutsideTheDomain_ThrowsBeforeSendingAnything()
+    {
+        var sink = new ListSink();
+        Assert.Throws<ArgumentOutOfRangeException>(() => Backtester.Replay("k", [1, 2, 2e15], 0, s_options[0], sink));
+        Assert.Throws<ArgumentOutOfRangeException>(() => Backtester.Replay("k", [1, double.PositiveInfinity], 0, s_options[0], sink));
+        Assert.Empty(sink.Forecasts);
+    }
+}
