@@ -182,12 +182,7 @@ public sealed class ForecastClusterClient<TKey> : IForecastEngine<TKey>, ISeries
         EngineCounters sum = default;
         foreach (BucketStatus s in all)
         {
-            EngineCounters c = s.Counters;
-            sum = new EngineCounters(
-                sum.Observations + c.Observations, sum.Late + c.Late, sum.Restated + c.Restated, sum.Duplicates + c.Duplicates, 0,
-                sum.Rejected + c.Rejected, sum.PeriodsClosed + c.PeriodsClosed, sum.GapPeriods + c.GapPeriods, sum.RejectedActuals + c.RejectedActuals,
-                sum.AlertsRaised + c.AlertsRaised, sum.AlertsEscalated + c.AlertsEscalated, sum.AlertsCleared + c.AlertsCleared,
-                sum.Evictions + c.Evictions, sum.ActiveSeries + c.ActiveSeries, 0, 0, 0, sum.SkippedPeriods + c.SkippedPeriods);
+            sum += s.Counters;
         }
 
         return sum;

@@ -81,7 +81,6 @@ public sealed class BucketRestartingException : Exception
 internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrain<TKey>, ISeriesHost<TKey>
     where TKey : notnull
 {
-    private const int CounterCount = 12;
 
     private readonly IPersistentState<BucketState<TKey>> _state;
     private readonly ForecastEngineOptions<TKey> _options;
@@ -143,7 +142,7 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
             _applied[call.Id] = call.Sequence;
         }
 
-        if (stored.Counters.Length == CounterCount + 1)
+        if (stored.Counters.Length == SeriesCounters.Count + 1)
         {
             SetCounters(stored.Counters);
         }
@@ -225,10 +224,7 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
     public Task<BucketStatus> GetStatusAsync()
     {
         ThrowIfBroken();
-        SeriesCounters c = Counters;
-        var counters = new EngineCounters(
-            c.Observations, c.Late, c.Restated, c.Duplicates, 0, _rejected, c.PeriodsClosed, c.GapPeriods, c.RejectedActuals,
-            c.AlertsRaised, c.AlertsEscalated, c.AlertsCleared, c.Evictions, _table.Count, 0, 0, 0, c.SkippedPeriods);
+        EngineCounters counters = Counters.ToEngineCounters() with { Rejected = _rejected, ActiveSeries = _table.Count };
         DateTimeOffset now = _options.TimeProvider.GetUtcNow();
         int live = _state.State.Subscribers.Count(s => s.LeaseEnds > now);
         return Task.FromResult(new BucketStatus(_bucket, RuntimeIdentity, _table.Count, _state.State.Sequence, _state.State.Repeats, counters, live));
@@ -471,18 +467,12 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
         return series;
     }
 
-    private long[] GetCounters()
-    {
-        SeriesCounters c = Counters;
-        return [c.Observations, c.Late, c.Restated, c.Duplicates, c.PeriodsClosed, c.GapPeriods, c.RejectedActuals, c.AlertsRaised, c.AlertsEscalated, c.AlertsCleared, c.Evictions, c.SkippedPeriods, _rejected];
-    }
+    private long[] GetCounters() => [.. Counters.ToArray(), _rejected];
 
     private void SetCounters(long[] v)
     {
-        SeriesCounters c = Counters;
-        (c.Observations, c.Late, c.Restated, c.Duplicates, c.PeriodsClosed, c.GapPeriods) = (v[0], v[1], v[2], v[3], v[4], v[5]);
-        (c.RejectedActuals, c.AlertsRaised, c.AlertsEscalated, c.AlertsCleared, c.Evictions, c.SkippedPeriods) = (v[6], v[7], v[8], v[9], v[10], v[11]);
-        _rejected = v[CounterCount];
+        Counters.Load(v.AsSpan(0, SeriesCounters.Count));
+        _rejected = v[SeriesCounters.Count];
     }
 
     [LoggerMessage(Level = LogLevel.Debug, Message = "Bucket {Bucket} activated with {Series} series after {Sequence} applied calls")]

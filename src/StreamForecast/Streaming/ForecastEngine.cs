@@ -279,29 +279,23 @@ public sealed class ForecastEngine<TKey> : IForecastEngine<TKey>
     /// <returns>The counters now.</returns>
     public EngineCounters GetCounters()
     {
-        long observations = 0, late = 0, restated = 0, duplicates = 0, closed = 0, gaps = 0, rejectedActuals = 0, skipped = 0, raised = 0, escalated = 0, cleared = 0, evictions = 0, depth = 0;
+        EngineCounters total = default;
+        long depth = 0;
         foreach (Partition<TKey> p in _partitions)
         {
-            SeriesCounters c = p.Counters;
-            observations += Volatile.Read(ref c.Observations);
-            late += Volatile.Read(ref c.Late);
-            restated += Volatile.Read(ref c.Restated);
-            duplicates += Volatile.Read(ref c.Duplicates);
-            closed += Volatile.Read(ref c.PeriodsClosed);
-            gaps += Volatile.Read(ref c.GapPeriods);
-            rejectedActuals += Volatile.Read(ref c.RejectedActuals);
-            skipped += Volatile.Read(ref c.SkippedPeriods);
-            raised += Volatile.Read(ref c.AlertsRaised);
-            escalated += Volatile.Read(ref c.AlertsEscalated);
-            cleared += Volatile.Read(ref c.AlertsCleared);
-            evictions += Volatile.Read(ref c.Evictions);
+            total += p.Counters.ToEngineCounters();
             depth += p.QueueDepth;
         }
 
-        return new EngineCounters(
-            observations, late, restated, duplicates, Interlocked.Read(ref _dropped), Interlocked.Read(ref _rejected), closed, gaps,
-            rejectedActuals, raised, escalated, cleared, evictions, SeriesCount, depth,
-            Interlocked.Read(ref _subscriberDrops), Interlocked.Read(ref _subscriberFaults), skipped);
+        return total with
+        {
+            Dropped = Interlocked.Read(ref _dropped),
+            Rejected = Interlocked.Read(ref _rejected),
+            ActiveSeries = SeriesCount,
+            QueueDepth = depth,
+            SubscriberDrops = Interlocked.Read(ref _subscriberDrops),
+            SubscriberFaults = Interlocked.Read(ref _subscriberFaults),
+        };
     }
 
     /// <summary>Stops taking posts and commands; queued observations are still processed, then subscribers are completed.</summary>
@@ -606,4 +600,22 @@ public readonly record struct EngineCounters(
     long QueueDepth,
     long SubscriberDrops,
     long SubscriberFaults,
-    long SkippedPeriods = 0);
+    long SkippedPeriods = 0)
+{
+    /// <summary>Adds two sets of counters field by field (for example the buckets of a cluster, or several engines).</summary>
+    /// <param name="left">The first set.</param>
+    /// <param name="right">The second set.</param>
+    /// <returns>The field-by-field sum.</returns>
+    public static EngineCounters operator +(EngineCounters left, EngineCounters right) => new(
+        left.Observations + right.Observations, left.Late + right.Late, left.Restated + right.Restated, left.Duplicates + right.Duplicates,
+        left.Dropped + right.Dropped, left.Rejected + right.Rejected, left.PeriodsClosed + right.PeriodsClosed, left.GapPeriods + right.GapPeriods,
+        left.RejectedActuals + right.RejectedActuals, left.AlertsRaised + right.AlertsRaised, left.AlertsEscalated + right.AlertsEscalated,
+        left.AlertsCleared + right.AlertsCleared, left.Evictions + right.Evictions, left.ActiveSeries + right.ActiveSeries,
+        left.QueueDepth + right.QueueDepth, left.SubscriberDrops + right.SubscriberDrops, left.SubscriberFaults + right.SubscriberFaults,
+        left.SkippedPeriods + right.SkippedPeriods);
+
+    /// <summary>Adds two sets of counters field by field (the named form of <c>+</c>).</summary>
+    /// <param name="other">The set to add.</param>
+    /// <returns>The field-by-field sum.</returns>
+    public EngineCounters Add(EngineCounters other) => this + other;
+}

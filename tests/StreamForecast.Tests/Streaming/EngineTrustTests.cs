@@ -210,3 +210,20 @@ public sealed class EngineTrustTests
         Assert.True(counters.Late > 0 && counters.Duplicates > 0 && counters.Rejected > 0, counters.ToString());
     }
 }
+
+public sealed class EngineCountersTests
+{
+    [Fact]
+    public void Add_TwoSets_SumsEveryField()
+    {
+        long[] a = [.. Enumerable.Range(1, 18).Select(i => (long)i)];
+        long[] b = [.. Enumerable.Range(1, 18).Select(i => (long)(100 * i))];
+        EngineCounters x = Make(a), y = Make(b);
+        EngineCounters sum = x + y;
+        Assert.Equal(Make([.. a.Zip(b, (p, q) => p + q)]), sum);
+        Assert.Equal(sum, x.Add(y));
+    }
+
+    private static EngineCounters Make(long[] v) =>
+        new(v[0], v[1], v[2], v[3], v[4], v[5], v[6], v[7], v[8], v[9], v[10], v[11], v[12], v[13], v[14], v[15], v[16], v[17]);
+}
