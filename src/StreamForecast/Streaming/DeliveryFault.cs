@@ -1,7 +1,7 @@
 namespace StreamForecast.Streaming;
 
 /// <summary>Which user callback threw while results were being delivered.</summary>
-public enum DeliveryFaultSource
+internal enum DeliveryFaultSource
 {
     /// <summary>The subscriber's <see cref="IObserver{T}.OnNext"/> threw; the item counts as delivered to nobody.</summary>
     OnNext,
@@ -24,4 +24,4 @@ public enum DeliveryFaultSource
 /// <param name="Source">Which callback threw.</param>
 /// <param name="Exception">What it threw.</param>
 /// <remarks>An immutable value; safe to pass between threads.</remarks>
-public readonly record struct DeliveryFault(DeliverySubscription Subscription, DeliveryFaultSource Source, Exception Exception);
+internal readonly record struct DeliveryFault(DeliverySubscription Subscription, DeliveryFaultSource Source, Exception Exception);

@@ -15,7 +15,7 @@ namespace StreamForecast.Streaming;
 /// (or cancel <see cref="ReadAllAsync"/>'s enumeration) to release them.</para>
 /// <para><b>Thread safety.</b> Thread-safe; several consumers may read the same reader and then share its items.</para>
 /// </remarks>
-public sealed class PullSubscription<T> : IDisposable
+internal sealed class PullSubscription<T> : IDisposable
 {
     private readonly Channel<T> _channel;
     private readonly Action<PullSubscription<T>> _detach;
