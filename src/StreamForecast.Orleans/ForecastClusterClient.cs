@@ -58,8 +58,9 @@ public sealed class ForecastClusterClient<TKey> : IForecastEngine<TKey>, ISeries
         Options = options;
         _map = new BucketMap<TKey>(keyCodec, options.BucketCount);
         _time = time;
-        _forecasts = new Publisher<ForecastUpdate<TKey>>(publishing);
-        _alerts = new Publisher<DriftAlert<TKey>>(publishing);
+        // A subscriber that throws is reported on Faults, as the engine does (a throwing Faults subscriber only counts).
+        _forecasts = new Publisher<ForecastUpdate<TKey>>(publishing, onFault: ReportSubscriberFault);
+        _alerts = new Publisher<DriftAlert<TKey>>(publishing, onFault: ReportSubscriberFault);
         _faults = new Publisher<SeriesFault<TKey>>(publishing);
         _lastNumber = new long[options.BucketCount];
         _waiting = new SortedList<long, (BucketOutput<TKey> Output, long Arrived)>?[options.BucketCount];
@@ -76,6 +77,9 @@ public sealed class ForecastClusterClient<TKey> : IForecastEngine<TKey>, ISeries
 
     /// <inheritdoc/>
     public IObservable<SeriesFault<TKey>> Faults => _faults;
+
+    private void ReportSubscriberFault(DeliveryFault fault) =>
+        _faults.TryPublish(new SeriesFault<TKey>(default!, 0, SeriesFaultKind.SubscriberFailed, $"Subscriber {fault.Subscription.Id} threw: {fault.Exception.Message}"));
 
     /// <summary>Bucket outputs this client never received (counted from gaps in each bucket's numbering).</summary>
     public long MissedOutputs => Interlocked.Read(ref _missedOutputs);

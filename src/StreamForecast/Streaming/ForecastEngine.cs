@@ -298,6 +298,10 @@ public sealed class ForecastEngine<TKey> : IForecastEngine<TKey>
         };
     }
 
+    /// <inheritdoc/>
+    public Task<EngineCounters> GetCountersAsync(CancellationToken cancellationToken = default) =>
+        cancellationToken.IsCancellationRequested ? Task.FromCanceled<EngineCounters>(cancellationToken) : Task.FromResult(GetCounters());
+
     /// <summary>Stops taking posts and commands; queued observations are still processed, then subscribers are completed.</summary>
     public void Complete()
     {

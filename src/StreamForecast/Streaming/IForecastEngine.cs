@@ -55,4 +55,10 @@ public interface IForecastEngine<TKey> : IAsyncDisposable
     /// <param name="cancellationToken">Stops waiting.</param>
     /// <returns>A task that completes when the series has done it (nothing happens for an unknown key).</returns>
     Task AcknowledgeAsync(TKey key, CancellationToken cancellationToken = default);
+
+    /// <summary>The counters now, summed over the engine's partitions or the cluster's buckets.</summary>
+    /// <param name="cancellationToken">Stops waiting (a cluster asks every bucket).</param>
+    /// <returns>The counters.</returns>
+    /// <remarks>In process this completes at once; a read may straddle updates still in flight.</remarks>
+    Task<EngineCounters> GetCountersAsync(CancellationToken cancellationToken = default);
 }

@@ -224,6 +224,20 @@ public sealed class EngineCountersTests
         Assert.Equal(sum, x.Add(y));
     }
 
+    [Fact]
+    public async Task GetCountersAsync_ThroughTheInterface_MatchesGetCounters()
+    {
+        var series = new SeriesOptions(new NaiveOptions(), PeriodCalendar.FixedInterval(TimeSpan.FromMinutes(1)));
+        await using var engine = new ForecastEngine<string>(new ForecastEngineOptions<string>(series, timeProvider: new FakeTimeProvider(new DateTimeOffset(2027, 1, 2, 0, 0, 0, TimeSpan.Zero))));
+        IForecastEngine<string> shared = engine;
+        await shared.PostAsync(new("a", new DateTimeOffset(2027, 1, 1, 0, 0, 0, TimeSpan.Zero), 1));
+        await shared.PostAsync(new("a", new DateTimeOffset(2027, 1, 1, 0, 1, 0, TimeSpan.Zero), 2));
+        await shared.FlushAsync();
+        EngineCounters viaInterface = await shared.GetCountersAsync();
+        Assert.Equal(engine.GetCounters(), viaInterface);
+        Assert.Equal(2, viaInterface.PeriodsClosed);
+    }
+
     private static EngineCounters Make(long[] v) =>
         new(v[0], v[1], v[2], v[3], v[4], v[5], v[6], v[7], v[8], v[9], v[10], v[11], v[12], v[13], v[14], v[15], v[16], v[17]);
 }
