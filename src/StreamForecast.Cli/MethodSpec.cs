@@ -9,23 +9,30 @@ namespace StreamForecast.Cli;
 /// <remarks>
 /// <para>Forms (numbers with '.' as the decimal point):</para>
 /// <list type="bullet">
-/// <item><description><c>naive</c>; <c>snaive:m</c> (seasonal naive, season length m)</description></item>
+/// <item><description><c>naive</c>; <c>seasonal-naive:m</c> (seasonal naive, season length m)</description></item>
 /// <item><description><c>ma:n</c> (moving average of n periods); <c>wma:w1,w2,…</c> (weights, most recent period first)</description></item>
 /// <item><description><c>ses:alpha[,start]</c> with start <c>first</c> (default), <c>mean=k</c> or <c>level=x</c></description></item>
 /// <item><description><c>holt:level,trend[,damping][,start]</c> with start <c>first2</c> (default), <c>diffs=d</c>, <c>trend=t</c> or <c>given=l;t</c></description></item>
 /// <item><description><c>hw:m,add|mul,level,trend,seasonal[,damping[,startSeasons]]</c> (Holt-Winters)</description></item>
 /// <item><description><c>croston:size[,interval]</c>, <c>sba:size[,interval]</c>, <c>tsb:probability,size</c></description></item>
+/// <item><description><c>best:m1|m2|…[;weight=w,margin=x,switch=p,min=k]</c>: online selection among the candidate methods
+/// (each in one of the forms above), publishing the one with the lowest recent error (<see cref="MethodSelectorOptions"/>)</description></item>
 /// </list>
 /// <para><see cref="Format"/> writes numbers in their shortest round-trip form, so <c>Parse(Format(m))</c> equals m.</para>
 /// </remarks>
 internal static class MethodSpec
 {
-    public const string Forms = "naive | snaive:m | ma:n | wma:w1,w2,... | ses:alpha | holt:level,trend[,damping] | hw:m,add|mul,level,trend,seasonal[,damping] | croston:size | sba:size | tsb:probability,size";
+    public const string Forms = "naive | seasonal-naive:m | ma:n | wma:w1,w2,... | ses:alpha | holt:level,trend[,damping] | hw:m,add|mul,level,trend,seasonal[,damping] | croston:size | sba:size | tsb:probability,size | best:m1|m2|...[;weight=w,margin=x,switch=p,min=k]";
 
     public static ForecasterOptions Parse(string text)
     {
         ArgumentNullException.ThrowIfNull(text);
         string trimmed = text.Trim();
+        if (trimmed.StartsWith("best:", StringComparison.OrdinalIgnoreCase))
+        {
+            return Best(text, trimmed[5..]);
+        }
+
         int colon = trimmed.IndexOf(':', StringComparison.Ordinal);
         string name = (colon < 0 ? trimmed : trimmed[..colon]).ToLowerInvariant();
         string[] args = colon < 0 ? [] : trimmed[(colon + 1)..].Split(',', StringSplitOptions.TrimEntries);
@@ -34,7 +41,7 @@ internal static class MethodSpec
             return name switch
             {
                 "naive" when args.Length == 0 => new NaiveOptions(),
-                "snaive" when args.Length == 1 => new NaiveOptions(Int(args[0])),
+                "seasonal-naive" when args.Length == 1 => new NaiveOptions(Int(args[0])),
                 "ma" when args.Length == 1 => new MovingAverageOptions(Int(args[0])),
                 "wma" when args.Length >= 1 => new WeightedMovingAverageOptions(args.Select(Num).ToArray()),
                 "ses" when args.Length is 1 or 2 => new ExponentialSmoothingOptions(Num(args[0]), args.Length == 2 ? LevelStartOf(args[1]) : default),
@@ -57,7 +64,7 @@ internal static class MethodSpec
     public static string Format(ForecasterOptions method) => method switch
     {
         NaiveOptions { SeasonLength: 1 } => "naive",
-        NaiveOptions n => $"snaive:{I(n.SeasonLength)}",
+        NaiveOptions n => $"seasonal-naive:{I(n.SeasonLength)}",
         MovingAverageOptions m => $"ma:{I(m.Length)}",
         WeightedMovingAverageOptions w => "wma:" + string.Join(",", w.Weights.Select(D)),
         ExponentialSmoothingOptions s => $"ses:{D(s.Alpha)}" + LevelStartText(s.Start),
@@ -65,8 +72,55 @@ internal static class MethodSpec
         HoltWintersOptions hw => $"hw:{I(hw.SeasonLength)},{(hw.Seasonality == Seasonality.Additive ? "add" : "mul")},{D(hw.LevelWeight)},{D(hw.TrendWeight)},{D(hw.SeasonalWeight)},{D(hw.Damping)},{I(hw.StartSeasons)}",
         CrostonOptions c => $"{(c.Variant == CrostonVariant.SyntetosBoylan ? "sba" : "croston")}:{D(c.SizeWeight)},{D(c.IntervalWeight)}",
         TsbOptions t => $"tsb:{D(t.ProbabilityWeight)},{D(t.SizeWeight)}",
+        MethodSelectorOptions b => "best:" + string.Join("|", b.Candidates.Select(Format))
+            + $";weight={D(b.ErrorWeight)},margin={D(b.Margin)},switch={I(b.PeriodsToSwitch)},min={I(b.MinScoredPeriods)}",
         _ => throw new NotSupportedException($"The method {method.MethodName} has no text form in this tool."),
     };
+
+    private static MethodSelectorOptions Best(string text, string body)
+    {
+        int semicolon = body.IndexOf(';', StringComparison.Ordinal);
+        string[] candidates = (semicolon < 0 ? body : body[..semicolon]).Split('|', StringSplitOptions.TrimEntries);
+        var methods = new List<ForecasterOptions>(candidates.Length);
+        foreach (string candidate in candidates)
+        {
+            if (candidate.StartsWith("best:", StringComparison.OrdinalIgnoreCase))
+            {
+                throw new UsageException($"'{text}': a best: selection cannot hold another best: selection.");
+            }
+
+            methods.Add(Parse(candidate));
+        }
+
+        double weight = MethodSelectorOptions.DefaultErrorWeight, margin = MethodSelectorOptions.DefaultMargin;
+        int toSwitch = MethodSelectorOptions.DefaultPeriodsToSwitch, min = MethodSelectorOptions.DefaultMinScoredPeriods;
+        if (semicolon >= 0)
+        {
+            foreach (string setting in body[(semicolon + 1)..].Split(',', StringSplitOptions.TrimEntries | StringSplitOptions.RemoveEmptyEntries))
+            {
+                int equals = setting.IndexOf('=', StringComparison.Ordinal);
+                string key = equals < 0 ? setting : setting[..equals];
+                string value = equals < 0 ? string.Empty : setting[(equals + 1)..];
+                switch (key)
+                {
+                    case "weight": weight = Num(value); break;
+                    case "margin": margin = Num(value); break;
+                    case "switch": toSwitch = Int(value); break;
+                    case "min": min = Int(value); break;
+                    default: throw new UsageException($"'{text}': '{setting}' is not a selection setting; use weight=w, margin=x, switch=p or min=k.");
+                }
+            }
+        }
+
+        try
+        {
+            return new MethodSelectorOptions(methods, weight, margin, toSwitch, min);
+        }
+        catch (ArgumentException e)
+        {
+            throw new UsageException($"'{text}': {FirstLine(e.Message)}");
+        }
+    }
 
     private static HoltOptions Holt(string[] args)
     {

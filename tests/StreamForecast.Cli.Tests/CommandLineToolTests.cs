@@ -82,7 +82,7 @@ public sealed class CommandLineToolTests : IDisposable
 
     [Theory]
     [InlineData("naive", "Naive")]
-    [InlineData("snaive:7", "SeasonalNaive(7)")]
+    [InlineData("seasonal-naive:7", "SeasonalNaive(7)")]
     [InlineData("ma:5", "MA(5)")]
     [InlineData("ses:0.3", "SES(0.3)")]
     [InlineData("croston:0.1", "Croston(0.1)")]
@@ -98,6 +98,36 @@ public sealed class CommandLineToolTests : IDisposable
         int column = Array.IndexOf(header, "method");
         Assert.All(File.ReadLines(_tool.PathOf("forecasts.csv")).Skip(1), line => Assert.Contains(label, line, StringComparison.Ordinal));
         Assert.True(column >= 0);
+    }
+
+    [Fact]
+    public void Replay_BestOfTextForm_ReportsTheSelectedCandidateOnEveryForecast()
+    {
+        _tool.Write("sales.csv", ToolRunner.SalesCsv(days: 40));
+
+        ToolResult result = _tool.Run(Args("replay", "sales.csv", "--method", "best:naive|ma:3;min=2,switch=1,margin=0"));
+
+        Assert.True(result.ExitCode == 0, result.ToString());
+        string[] lines = [.. File.ReadLines(_tool.PathOf("forecasts.csv"))];
+        int column = Array.IndexOf(lines[0].Split(','), "method");
+        Assert.True(column >= 0, lines[0]);
+        var labels = lines.Skip(1).Select(l => l.Split(',')[column]).ToHashSet();
+        Assert.Subset(new HashSet<string> { "Naive", "MA(3)" }, labels);
+        Assert.Contains("Naive", labels); // the first candidate warm is published first
+    }
+
+    [Theory]
+    [InlineData("best:naive|best:ma:3")]
+    [InlineData("best:naive|ma:3;speed=2")]
+    [InlineData("best:naive;margin=1.5")]
+    public void Replay_BadBestOfTextForm_IsAUsageError(string method)
+    {
+        _tool.Write("sales.csv", ToolRunner.SalesCsv(days: 10));
+
+        ToolResult result = _tool.Run(Args("replay", "sales.csv", "--method", method));
+
+        Assert.Equal(1, result.ExitCode);
+        Assert.Contains(method, result.Error, StringComparison.Ordinal);
     }
 
     [Theory]

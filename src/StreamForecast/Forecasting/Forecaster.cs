@@ -35,6 +35,12 @@ public abstract class Forecaster
     /// <summary>The validated options this forecaster was created from.</summary>
     public abstract ForecasterOptions Options { get; }
 
+    /// <summary>
+    /// For a method that publishes one of several candidates' forecasts (a <see cref="MethodSelector"/>), the name of the
+    /// candidate whose forecast is published now; null for every other method. Forecast updates report it.
+    /// </summary>
+    internal virtual string? ActiveMethodName => null;
+
     /// <summary>The number of actuals taken since creation or the last <see cref="Reset"/>.</summary>
     public long Count { get; private set; }
 

@@ -64,7 +64,8 @@ public readonly record struct ErrorSummary(
 /// <param name="Next">The forecast for the next period with its interval; <see cref="ForecastPoint.IsValid"/> is false while the method warms up.</param>
 /// <param name="AtHorizon">The forecast <see cref="SeriesOptions.Horizon"/> periods ahead with its interval.</param>
 /// <param name="Errors">The running error statistics after this period.</param>
-/// <param name="Method">The method's short label.</param>
+/// <param name="Method">The short label of the method that made <paramref name="Next"/>: the series' method, or for a
+/// <see cref="Forecasting.MethodSelector"/> the candidate selected now.</param>
 /// <param name="IsRestatement">Whether this update recomputes a period already published, after a late event changed an earlier actual.</param>
 /// <remarks>An immutable value.</remarks>
 public readonly record struct ForecastUpdate<TKey>(

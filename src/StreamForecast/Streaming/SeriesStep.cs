@@ -209,7 +209,7 @@ public sealed class SeriesStep<TKey>
         ForecastPoint atHorizon = _options.Horizon == 1 ? next : Point(_options.Horizon); // the same point: compute it once
         sink!.Forecast(new ForecastUpdate<TKey>(
             _key, period, start, actual, !has, score.Forecast, score.Error,
-            next, atHorizon, errors, _options.MethodLabel, restated));
+            next, atHorizon, errors, _model.Forecaster.ActiveMethodName ?? _options.MethodLabel, restated));
 
         if (!restated && score.IsScored)
         {

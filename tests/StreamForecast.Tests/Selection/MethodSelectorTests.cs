@@ -16,7 +16,7 @@ public class MethodSelectorTests
     /// absolute error is kept in a plain array, and the incumbent/challenger rule is applied as the documentation states it.
     /// Returns, per period, the published method index (before the update) and the selected index after it.
     /// </summary>
-    private static (int Published, int Selected)[] Reference(double[] series, MethodSelectorOptions options)
+    internal static (int Published, int Selected)[] Reference(double[] series, MethodSelectorOptions options)
     {
         int k = options.Candidates.Length;
         var forecasters = options.Candidates.Select(c => c.CreateForecaster()).ToArray();
@@ -93,8 +93,8 @@ public class MethodSelectorTests
             var alone = s_candidates.Select(c => c.CreateForecaster()).ToArray();
             for (int t = 0; t < series.Length; t++)
             {
-                bool had = selector.TryForecast(1, out double forecast, out int method);
-                SelectionStep step = selector.Update(series[t]);
+                bool had = selector.TryForecastWithMethod(1, out double forecast, out int method);
+                SelectionStep step = selector.Step(series[t]);
                 if (step.MethodIndex != expected[t].Published || step.SelectedIndex != expected[t].Selected || selector.SelectedIndex != expected[t].Selected)
                 {
                     return false.Label($"period {t}: published {step.MethodIndex} / selected {step.SelectedIndex}, reference {expected[t]}");
@@ -141,7 +141,7 @@ public class MethodSelectorTests
         int switchedAt = -1;
         for (int t = 0; t < y.Length && switchedAt < 0; t++)
         {
-            SelectionStep step = selector.Update(y[t]);
+            SelectionStep step = selector.Step(y[t]);
             if (selector.ChallengerPeriods == 1 && firstLead < 0)
             {
                 firstLead = t;
@@ -178,7 +178,7 @@ public class MethodSelectorTests
         var publishers = new List<int>();
         foreach (double y in StableThenJump())
         {
-            publishers.Add(selector.Update(y).MethodIndex);
+            publishers.Add(selector.Step(y).MethodIndex);
         }
 
         Assert.Equal(2, selector.Switches);
@@ -202,7 +202,7 @@ public class MethodSelectorTests
         int switchedAt = -1;
         for (int t = 0; t < 60; t++)
         {
-            if (selector.Update(t % 2 == 0 ? 0 : 10).Switched)
+            if (selector.Step(t % 2 == 0 ? 0 : 10).Switched)
             {
                 switchedAt = t;
             }
@@ -233,13 +233,13 @@ public class MethodSelectorTests
         MethodSelector selector = options.CreateSelector();
         foreach (double y in (double[])[3, 0, 4, 2, 0, 5, 1, 0, 3])
         {
-            selector.Update(y);
+            selector.Step(y);
         }
 
         double[] before = selector.ExportState();
-        Assert.Throws<ArgumentOutOfRangeException>(() => selector.Update(-1));
-        Assert.Throws<ArgumentOutOfRangeException>(() => selector.Update(double.NaN));
-        Assert.Throws<ArgumentOutOfRangeException>(() => selector.Update(double.PositiveInfinity));
+        Assert.Throws<ArgumentOutOfRangeException>(() => selector.Step(-1));
+        Assert.Throws<ArgumentOutOfRangeException>(() => selector.Step(double.NaN));
+        Assert.Throws<ArgumentOutOfRangeException>(() => selector.Step(double.PositiveInfinity));
         Assert.Equal(before, selector.ExportState());
     }
 
@@ -275,7 +275,7 @@ public class MethodSelectorTests
         MethodSelector selector = options.CreateSelector();
         foreach (double y in (double[])[5, 6, 7, 6, 5, 6, 7, 8])
         {
-            selector.Update(y);
+            selector.Step(y);
         }
 
         double[] good = selector.ExportState();
@@ -306,15 +306,15 @@ public class MethodSelectorTests
     public void Forecast_BeforeAnyCandidateIsWarm_ThrowsAndTryForecastSaysNo()
     {
         MethodSelector selector = new MethodSelectorOptions([new MovingAverageOptions(3), new MovingAverageOptions(2)]).CreateSelector();
-        selector.Update(4);
+        selector.Step(4);
         Assert.False(selector.IsWarm);
         Assert.Throws<InvalidOperationException>(() => selector.Forecast());
-        Assert.False(selector.TryForecast(1, out double forecast, out int method));
+        Assert.False(selector.TryForecastWithMethod(1, out double forecast, out int method));
         Assert.True(double.IsNaN(forecast));
         Assert.Equal(-1, method);
 
         // MA(2) warms first although it is listed second: it is published until a challenger beats it.
-        selector.Update(6);
+        selector.Step(6);
         Assert.Equal(1, selector.SelectedIndex);
         Assert.Equal(5, selector.Forecast());
         Assert.Throws<ArgumentOutOfRangeException>(() => selector.Forecast(0));
@@ -328,7 +328,7 @@ public class MethodSelectorTests
         double y = 100;
         for (int i = 0; i < 50; i++)
         {
-            selector.Update(y + (i % 7));
+            selector.Step(y + (i % 7));
         }
 
         Allocations.AssertNone(() =>
@@ -336,7 +336,7 @@ public class MethodSelectorTests
             double sum = 0;
             for (int i = 0; i < 100; i++)
             {
-                sum += selector.Update(y + (i % 5)).Error;
+                sum += selector.Step(y + (i % 5)).Error;
                 sum += selector.Forecast(3);
             }
 
@@ -351,7 +351,7 @@ public class MethodSelectorTests
         MethodSelector selector = options.CreateSelector();
         foreach (double y in (double[])[1, 2, 3, 4, 5, 6, 7, 8, 9, 10])
         {
-            selector.Update(y);
+            selector.Step(y);
         }
 
         selector.Reset();
@@ -368,5 +368,22 @@ public class MethodSelectorTests
         Assert.Throws<ArgumentOutOfRangeException>(() => new MethodSelectorOptions(s_candidates, periodsToSwitch: 0));
         Assert.Throws<ArgumentOutOfRangeException>(() => new MethodSelectorOptions(s_candidates, minScoredPeriods: 0));
         Assert.Equal(new MethodSelectorOptions(s_candidates), new MethodSelectorOptions(s_candidates.ToList()));
+    }
+}
+
+/// <summary>The selector's step as one call, for tests: update, then read what the update did.</summary>
+internal static class MethodSelectorTestExtensions
+{
+    public static SelectionStep Step(this MethodSelector selector, double actual)
+    {
+        selector.Update(actual);
+        return selector.LastStep;
+    }
+
+    public static bool TryForecastWithMethod(this MethodSelector selector, int horizon, out double forecast, out int method)
+    {
+        bool warm = selector.TryForecast(horizon, out forecast);
+        method = selector.SelectedIndex;
+        return warm;
     }
 }

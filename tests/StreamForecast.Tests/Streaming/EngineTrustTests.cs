@@ -241,3 +241,39 @@ public sealed class EngineCountersTests
     private static EngineCounters Make(long[] v) =>
         new(v[0], v[1], v[2], v[3], v[4], v[5], v[6], v[7], v[8], v[9], v[10], v[11], v[12], v[13], v[14], v[15], v[16], v[17]);
 }
+
+public sealed class MethodSelectorEngineTests
+{
+    [Fact]
+    public async Task Forecasts_SeriesRunningASelector_NameTheCandidateThatMadeEachForecastAndSurviveARestore()
+    {
+        // An invented sensor: flat, then a ramp the moving average follows better than the naive forecast's noise.
+        var selector = new MethodSelectorOptions([new NaiveOptions(), new MovingAverageOptions(4)], errorWeight: 0.3, margin: 0, periodsToSwitch: 1, minScoredPeriods: 2);
+        var series = new SeriesOptions(selector, PeriodCalendar.FixedInterval(TimeSpan.FromMinutes(1)));
+        var time = new FakeTimeProvider(new DateTimeOffset(2027, 2, 1, 0, 0, 0, TimeSpan.Zero));
+        var options = new ForecastEngineOptions<string>(series, partitions: 1, timeProvider: time, maxEventTimeAhead: Timeout.InfiniteTimeSpan);
+        var engine = new ForecastEngine<string>(options);
+        var recorder = EngineRecorder<string>.Attach(engine);
+        var start = new DateTimeOffset(2027, 1, 1, 0, 0, 0, TimeSpan.Zero);
+        var rng = new Random(5);
+        for (int m = 0; m < 40; m++)
+        {
+            await engine.PostAsync(new("press-c", start.AddMinutes(m), 100 + (m % 2 == 0 ? 8 : -8) + rng.Next(3)));
+        }
+
+        using var snapshot = new MemoryStream();
+        await engine.SnapshotAsync(snapshot, SnapshotKeyCodecs.Utf8String, 40);
+        await engine.DisposeAsync();
+        snapshot.Position = 0;
+        var (restored, _) = await ForecastEngine.RestoreAsync(snapshot, options, SnapshotKeyCodecs.Utf8String);
+        var after = EngineRecorder<string>.Attach(restored);
+        await restored.PostAsync(new("press-c", start.AddMinutes(40), 100));
+        await restored.DisposeAsync();
+
+        var labels = recorder.Forecasts.Select(f => f.Method).ToList();
+        Assert.Equal("Naive", labels[0]); // the only candidate warm after one actual
+        Assert.Contains("MA(4)", labels); // the alternating noise costs the naive forecast: the average takes over
+        Assert.All(labels, l => Assert.True(l is "Naive" or "MA(4)", l));
+        Assert.Equal(labels[^1], Assert.Single(after.Forecasts).Method);
+    }
+}

@@ -1,16 +1,15 @@
 using System.Collections.Immutable;
 using System.Globalization;
-using StreamForecast.Forecasting;
-using StreamForecast.Selection.Internal;
+using StreamForecast.Internal;
 
-namespace StreamForecast.Selection;
+namespace StreamForecast.Forecasting;
 
 /// <summary>
 /// Options for online method selection (<see cref="MethodSelector"/>): the candidate methods run side by side, how recent
 /// error is measured, and the hysteresis that keeps the published method from flapping.
 /// </summary>
 /// <remarks>Immutable and safe to share across threads. Validated at construction.</remarks>
-public sealed record MethodSelectorOptions
+public sealed record MethodSelectorOptions : ForecasterOptions
 {
     /// <summary>The most candidates accepted.</summary>
     public const int MaxCandidates = 64;
@@ -28,6 +27,7 @@ public sealed record MethodSelectorOptions
     public const int DefaultMinScoredPeriods = 5;
 
     private readonly ImmutableArray<ForecasterOptions> _candidates;
+    private readonly ImmutableArray<string> _candidateNames;
 
     /// <summary>Creates method-selector options.</summary>
     /// <param name="candidates">
@@ -58,7 +58,7 @@ public sealed record MethodSelectorOptions
         var list = candidates.ToImmutableArray();
         if (list.Length is < 1 or > MaxCandidates)
         {
-            SelectionThrowHelper.ThrowArgument(nameof(candidates), string.Create(CultureInfo.InvariantCulture,
+            ThrowHelper.ThrowArgument(nameof(candidates), string.Create(CultureInfo.InvariantCulture,
                 $"Give between 1 and {MaxCandidates} candidate methods; got {list.Length}."));
         }
 
@@ -66,31 +66,40 @@ public sealed record MethodSelectorOptions
         {
             if (list[i] is null)
             {
-                SelectionThrowHelper.ThrowArgument(nameof(candidates), string.Create(CultureInfo.InvariantCulture, $"Candidate {i} (counting from 0) is null."));
+                ThrowHelper.ThrowArgument(nameof(candidates), string.Create(CultureInfo.InvariantCulture, $"Candidate {i} (counting from 0) is null."));
             }
         }
 
         if (!(errorWeight > 0 && errorWeight <= 1))
         {
-            SelectionThrowHelper.ThrowOutOfRange(nameof(errorWeight), errorWeight, "the error weight must be greater than 0 and at most 1");
+            ThrowHelper.ThrowOutOfRange(nameof(errorWeight), errorWeight, "the error weight must be greater than 0 and at most 1");
         }
 
         if (!(margin >= 0 && margin < 1))
         {
-            SelectionThrowHelper.ThrowOutOfRange(nameof(margin), margin, "the margin must be at least 0 and below 1");
+            ThrowHelper.ThrowOutOfRange(nameof(margin), margin, "the margin must be at least 0 and below 1");
         }
 
         if (periodsToSwitch is < 1 or > 10_000)
         {
-            SelectionThrowHelper.ThrowOutOfRange(nameof(periodsToSwitch), periodsToSwitch, "switching needs between 1 and 10,000 consecutive periods");
+            ThrowHelper.ThrowOutOfRange(nameof(periodsToSwitch), periodsToSwitch, "switching needs between 1 and 10,000 consecutive periods");
         }
 
         if (minScoredPeriods is < 1 or > 1_000_000)
         {
-            SelectionThrowHelper.ThrowOutOfRange(nameof(minScoredPeriods), minScoredPeriods, "the scored periods before a candidate counts must be between 1 and 1,000,000");
+            ThrowHelper.ThrowOutOfRange(nameof(minScoredPeriods), minScoredPeriods, "the scored periods before a candidate counts must be between 1 and 1,000,000");
+        }
+
+        for (int i = 0; i < list.Length; i++)
+        {
+            if (list[i] is MethodSelectorOptions)
+            {
+                ThrowHelper.ThrowArgument(nameof(candidates), string.Create(CultureInfo.InvariantCulture, $"Candidate {i} (counting from 0) is itself a method selector; give its candidates directly."));
+            }
         }
 
         _candidates = list;
+        _candidateNames = list.Select(static c => c.MethodName).ToImmutableArray();
         ErrorWeight = errorWeight;
         Margin = margin;
         PeriodsToSwitch = periodsToSwitch;
@@ -112,10 +121,19 @@ public sealed record MethodSelectorOptions
     /// <summary>The scored periods before a candidate's error counts.</summary>
     public int MinScoredPeriods { get; }
 
+    /// <summary>The candidates' method names, in order (computed once; a forecast update reports the selected one).</summary>
+    public ImmutableArray<string> CandidateNames => _candidateNames;
+
+    /// <inheritdoc/>
+    public override string MethodName => "Best of (" + string.Join(" | ", _candidateNames) + ")";
+
     /// <summary>Creates a new selector for one series, with every candidate's forecaster empty.</summary>
     /// <returns>The selector.</returns>
     /// <remarks>Allocates the forecasters and the selector's buffers once; updates allocate nothing afterwards.</remarks>
     public MethodSelector CreateSelector() => new(this);
+
+    /// <inheritdoc/>
+    public override Forecaster CreateForecaster() => new MethodSelector(this);
 
     /// <summary>Equal when every setting is equal (the candidates element by element).</summary>
     /// <param name="other">The other options.</param>
