@@ -356,27 +356,50 @@ internal sealed class SeriesState<TKey>
         }
     }
 
-    private void ApplyToLag(Restatement r, bool has, double sum)
+    // The lagged model takes the period exactly as the live model took it; a refusal was already reported then.
+    private void ApplyToLag(Restatement r, bool has, double sum) =>
+        Feed(r.LagModel, has, sum, ref r.LagLastActual, ref r.LagHasLastActual, out _, out _);
+
+    /// <summary>What <see cref="Feed"/> did with a period.</summary>
+    private enum FeedResult
     {
-        if (!ResolveActual(has, sum, ref r.LagLastActual, ref r.LagHasLastActual, out double actual, out bool scored))
+        /// <summary>The gap policy feeds nothing for this period.</summary>
+        NotFed,
+
+        /// <summary>The model took the period's actual.</summary>
+        Fed,
+
+        /// <summary>The model refused the actual; the model and the last actual are unchanged.</summary>
+        Refused,
+    }
+
+    /// <summary>
+    /// The model step of one closed period, the same for the live model, the lagged model of the restatement window and
+    /// the check of a restored window: resolve the actual under the gap policy, update the model, and keep the last
+    /// actual only when the model took it.
+    /// </summary>
+    private FeedResult Feed(TrackedForecaster model, bool has, double sum, ref double lastActual, ref bool hasLastActual, out PeriodScore score, out ArgumentOutOfRangeException? refusal)
+    {
+        double previousLast = lastActual;
+        bool previousHasLast = hasLastActual;
+        refusal = null;
+        score = default;
+        if (!ResolveActual(has, sum, ref lastActual, ref hasLastActual, out double actual, out bool scored))
         {
-            return;
+            return FeedResult.NotFed;
         }
 
         try
         {
-            if (scored)
-            {
-                r.LagModel.Update(actual);
-            }
-            else
-            {
-                r.LagModel.UpdateUnscored(actual);
-            }
+            score = scored ? model.Update(actual) : model.UpdateUnscored(actual);
+            return FeedResult.Fed;
         }
-        catch (ArgumentOutOfRangeException)
+        catch (ArgumentOutOfRangeException ex)
         {
-            // Already reported when the live model rejected the same actual.
+            lastActual = previousLast;
+            hasLastActual = previousHasLast;
+            refusal = ex;
+            return FeedResult.Refused;
         }
     }
 
@@ -429,26 +452,13 @@ internal sealed class SeriesState<TKey>
             output.Counters.GapPeriods++;
         }
 
-        double previousLast = _lastActual;
-        bool previousHasLast = _hasLastActual;
-        if (!ResolveActual(has, sum, ref _lastActual, ref _hasLastActual, out double actual, out bool scored))
+        FeedResult fed = Feed(_model, has, sum, ref _lastActual, ref _hasLastActual, out PeriodScore score, out ArgumentOutOfRangeException? refusal);
+        if (fed != FeedResult.Fed)
         {
-            return;
-        }
-
-        PeriodScore score;
-        try
-        {
-            score = scored ? _model.Update(actual) : _model.UpdateUnscored(actual);
-        }
-        catch (ArgumentOutOfRangeException ex)
-        {
-            _lastActual = previousLast;
-            _hasLastActual = previousHasLast;
-            if (mode == ApplyMode.Live)
+            if (fed == FeedResult.Refused && mode == ApplyMode.Live)
             {
                 output.Counters.RejectedActuals++;
-                output.Fault(new SeriesFault<TKey>(_key, period, SeriesFaultKind.ActualRejected, ex.Message));
+                output.Fault(new SeriesFault<TKey>(_key, period, SeriesFaultKind.ActualRejected, refusal!.Message));
             }
 
             return;
@@ -467,7 +477,7 @@ internal sealed class SeriesState<TKey>
         ForecastPoint next = Point(1);
         ForecastPoint atHorizon = _options.Horizon == 1 ? next : Point(_options.Horizon); // the same point: compute it once
         output.Forecast(new ForecastUpdate<TKey>(
-            _key, period, start, actual, !has, score.Forecast, score.Error,
+            _key, period, start, score.Actual, !has, score.Forecast, score.Error,
             next, atHorizon, errors, _options.MethodLabel, restated));
 
         if (!restated && score.IsScored)
