@@ -17,6 +17,10 @@ public abstract partial class DriftRule
         "the over-forecast escalation run (number 8)",
     ];
 
+    /// <summary>The last period's evidence for under-forecasting: the tracking signal, Trigg's signal or C⁺ (0 before the first period).</summary>
+    /// <remarks>For the engine's restore check, which compares it with the error tracker's signal.</remarks>
+    internal double LastUnderEvidence => _lastUnder;
+
     /// <summary>Returns why <paramref name="state"/> cannot be imported, naming the number at fault, or null if it can.</summary>
     private string? Validate(ReadOnlySpan<double> state)
     {
