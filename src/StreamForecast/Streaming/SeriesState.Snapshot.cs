@@ -143,6 +143,8 @@ internal sealed partial class SeriesState<TKey>
             throw Invalid(Invariant($"the last actual flag is {(_hasLastActual ? "on" : "off")} but the model has taken {_model.Count} actuals; the flag is on exactly when the model has taken one"));
         }
 
+        CheckLastActual(_model, _lastActual, "the last actual", "its model");
+
         int rules = reader.ReadInt32();
         if (rules != RuleCount)
         {
@@ -243,6 +245,13 @@ internal sealed partial class SeriesState<TKey>
             o.Sum = sum;
             o.Has = true;
         }
+
+        // The latest event went into its period unless that period had already closed; periods close only from the
+        // first open one on, so while the latest event's period is still open it holds that event.
+        if (_started && latest >= _nextToClose && previous != latest)
+        {
+            throw Invalid(Invariant($"the latest event's period {latest} is still open but holds no data, although it holds the latest event"));
+        }
     }
 
     private void ReadRestatement(SnapshotPayloadReader reader, long latest, double[] model)
@@ -309,6 +318,8 @@ internal sealed partial class SeriesState<TKey>
         {
             throw Invalid("the lagged model's last actual and its flag disagree with the lagged model: the flag is on exactly when it has taken an actual, and the last actual is 0 while it is off");
         }
+
+        CheckLastActual(r.LagModel, r.LagLastActual, "the lagged model's last actual", "its lagged model");
 
         // The model is the lagged model stepped through the retained periods: closing a period steps the live model and,
         // when the oldest retained period leaves the window, the lagged model through it; a restatement rolls the model
@@ -398,6 +409,18 @@ internal sealed partial class SeriesState<TKey>
             {
                 throw Invalid(Invariant($"its drift rule {i + 1} ({_options.RuleLabels[i]}) last saw a signal of {rule.LastUnderEvidence:R}, but the error tracker's signal after that period is {signal:R}"));
             }
+        }
+    }
+
+    /// <summary>
+    /// Each actual the model takes is pushed into its error tracker and kept as the last actual in the same step, so while
+    /// the tracker holds actuals (none since an acknowledgement reset it) its newest is the last actual, bit for bit.
+    /// </summary>
+    private void CheckLastActual(TrackedForecaster model, double lastActual, string what, string whose)
+    {
+        if (model.Tracker.TryGetNewestActual(out double newest) && BitConverter.DoubleToInt64Bits(newest) != BitConverter.DoubleToInt64Bits(lastActual))
+        {
+            throw Invalid(Invariant($"{what} is {lastActual:R}, but the newest actual in {whose}'s error tracker is {newest:R}; they are the same number"));
         }
     }
 

@@ -267,6 +267,14 @@ public sealed partial class ErrorTracker
         return null;
     }
 
+    /// <summary>The newest actual recorded (scored or not), or false when none has been since creation or the last reset.</summary>
+    /// <remarks>For the engine's restore check, which compares it with the series' last actual.</remarks>
+    internal bool TryGetNewestActual(out double actual)
+    {
+        actual = _actualCount > 0 ? _recent.Newest(_actualCount) : 0;
+        return _actualCount > 0;
+    }
+
     /// <summary>Checks a two-part sum of <paramref name="terms"/> non-negative terms; see the comment at its call.</summary>
     private static string? CheckNonNegativeSum(ReadOnlySpan<double> state, int index, double terms, string name)
     {
