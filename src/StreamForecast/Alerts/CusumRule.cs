@@ -198,12 +198,13 @@ public sealed class CusumRule : DriftRule
         // when the reset mode restarted them after an alarm (either sum at h). Exact: the rule copies the numbers.
         double upper = core[0];
         double lower = core[1];
-        if (!(upper >= 0) || !(lower >= 0))
+        // Math.Max(0, x) returns +0 for x = −0, so a zero sum is +0.
+        if (!(upper >= 0) || !(lower >= 0) || double.IsNegative(upper) || double.IsNegative(lower))
         {
-            return "the CUSUM sums C⁺ and C⁻ (numbers 12 and 13) cannot be negative";
+            return "the CUSUM sums C⁺ and C⁻ (numbers 12 and 13) cannot be negative (nor −0)";
         }
 
-        if (!(lastUnder >= 0) || !(lastOver >= 0))
+        if (!(lastUnder >= 0) || !(lastOver >= 0) || double.IsNegative(lastUnder) || double.IsNegative(lastOver))
         {
             return "the last evidence (numbers 10 and 11) is a pair of CUSUM sums and cannot be negative";
         }

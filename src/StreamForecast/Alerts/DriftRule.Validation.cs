@@ -39,6 +39,15 @@ public abstract partial class DriftRule
 
         DriftRuleOptions o = _settings;
         int reversalIndex = HeaderLength + CoreStateLength;
+
+        // The counts, flags and the reversal marker are integers written as doubles, so a zero among them is +0, never −0.
+        for (int i = 0; i < state.Length; i++)
+        {
+            if ((i <= 8 || i == reversalIndex) && BitConverter.DoubleToInt64Bits(state[i]) == unchecked((long)0x8000_0000_0000_0000))
+            {
+                return Invariant($"number {i + 1} is −0; the rule writes its counts, direction, severity and reversal marker as whole numbers (+0 when zero)");
+            }
+        }
         if (!IsWhole(state[0], MaxWholeNumber))
         {
             return "the period count (number 1) must be a whole number from 0 to 2^53";

@@ -92,10 +92,24 @@ internal sealed partial class SeriesState<TKey>
     /// </remarks>
     public void Read(SnapshotPayloadReader reader)
     {
+        try
+        {
+            ReadChecked(reader);
+        }
+        catch (InvalidDataException ex) when (!ex.Message.StartsWith(Prefix, StringComparison.Ordinal))
+        {
+            throw new InvalidDataException(Prefix + ex.Message, ex); // a payload error (a field cut short, a flag that is not 0 or 1)
+        }
+    }
+
+    private string Prefix => Invariant($"Series '{_key}' in the snapshot: ");
+
+    private void ReadChecked(SnapshotPayloadReader reader)
+    {
         string method = reader.ReadString();
         if (method != _options.MethodLabel)
         {
-            throw new InvalidDataException($"The snapshot holds a {method} series but the options for this key say {_options.MethodLabel}.");
+            throw Invalid($"it holds a {method} series but the options for this key say {_options.MethodLabel}");
         }
 
         PeriodCalendar calendar = _options.Calendar;
@@ -148,7 +162,7 @@ internal sealed partial class SeriesState<TKey>
         int rules = reader.ReadInt32();
         if (rules != RuleCount)
         {
-            throw new InvalidDataException($"The snapshot holds {rules} drift rules but the options for this key have {RuleCount}.");
+            throw Invalid(Invariant($"it holds {rules} drift rules but the options for this key have {RuleCount}"));
         }
 
         for (int i = 0; i < RuleCount; i++)
@@ -166,7 +180,34 @@ internal sealed partial class SeriesState<TKey>
         if (_restatement is null)
         {
             CheckRulesAgainstTracker();
+            CheckZeroGap();
         }
+    }
+
+    /// <summary>
+    /// Without restatement, a quiet count above 0 means the last period to close had no event; under the zero gap policy
+    /// that period fed an actual of 0, so the last actual is 0, unless the model refuses an actual of 0 (its domain: a
+    /// refusal leaves the model as it is now, so a trial on a copy tells).
+    /// </summary>
+    private void CheckZeroGap()
+    {
+        if (!_started || _options.Gaps != GapPolicy.Zero || _quietPeriods == 0 || IsInitialZero(_lastActual))
+        {
+            return;
+        }
+
+        var trial = new TrackedForecaster(_options.Method, _options.Tracking);
+        trial.ImportState(_model.ExportState());
+        try
+        {
+            trial.Update(0);
+        }
+        catch (ArgumentOutOfRangeException)
+        {
+            return;
+        }
+
+        throw Invalid(Invariant($"its quiet-period count {_quietPeriods} says the last period to close had no event, which feeds an actual of 0 under the zero gap policy, yet the last actual is {_lastActual:R}"));
     }
 
     /// <summary>Checks the period position, the latest event time and the quiet count of a started series; returns the latest event's period.</summary>
@@ -260,7 +301,7 @@ internal sealed partial class SeriesState<TKey>
         int closed = reader.ReadInt32();
         if (closed < 0 || closed > capacity)
         {
-            throw new InvalidDataException($"The snapshot's restatement window holds {closed} periods; the options for this key retain at most {capacity}.");
+            throw Invalid(Invariant($"its restatement window holds {closed} periods; the options for this key retain at most {capacity}"));
         }
 
         if (!_started && closed != 0)
@@ -345,7 +386,7 @@ internal sealed partial class SeriesState<TKey>
         int ids = reader.ReadInt32();
         if (ids < 0 || ids > _options.DuplicateWindow)
         {
-            throw new InvalidDataException($"The snapshot holds {ids} event ids for one series; the duplicate window for this key holds at most {_options.DuplicateWindow}.");
+            throw Invalid(Invariant($"it remembers {ids} event ids; the duplicate window for this key holds at most {_options.DuplicateWindow}"));
         }
 
         if (!_started && ids != 0)
@@ -435,7 +476,7 @@ internal sealed partial class SeriesState<TKey>
         }
         catch (ArgumentException ex)
         {
-            throw new InvalidDataException(Invariant($"Series '{_key}' in the snapshot: {what} does not fit the options for this key: {ex.Message}"), ex);
+            throw new InvalidDataException(Invariant($"{Prefix}{what} does not fit the options for this key: {ex.Message}"), ex);
         }
 
         return values;
@@ -450,7 +491,7 @@ internal sealed partial class SeriesState<TKey>
     /// <summary>Whether <paramref name="value"/> is the initial 0 (+0; −0 never arises from the series' additions).</summary>
     private static bool IsInitialZero(double value) => BitConverter.DoubleToInt64Bits(value) == 0;
 
-    private InvalidDataException Invalid(string problem) => new(Invariant($"Series '{_key}' in the snapshot: {problem}."));
+    private InvalidDataException Invalid(string problem) => new(Invariant($"{Prefix}{problem}."));
 
     private static string Invariant(FormattableString text) => text.ToString(CultureInfo.InvariantCulture);
 

@@ -9,6 +9,7 @@ namespace StreamForecast.Tracking;
 public sealed partial class ErrorTracker
 {
     private const double MaxExportedCount = 9_007_199_254_740_992; // 2^53: every whole number up to it is exact
+    private const long NegativeZeroBits = unchecked((long)0x8000_0000_0000_0000);
 
     // The unit roundoff of a double: one correctly rounded operation has a relative error of at most u = 2^-53.
     private const double UnitRoundoff = 1.0 / 9_007_199_254_740_992;
@@ -50,6 +51,18 @@ public sealed partial class ErrorTracker
             if (!double.IsFinite(state[i]))
             {
                 return Invariant($"number {i + 1} is not finite");
+            }
+        }
+
+        // −0 is never written where the tracker holds a count, a two-part sum, the smoothed MAD or Trigg's M: counts are
+        // whole numbers converted from integers; sums start at +0 and x + y is −0 in round-to-nearest only when both are
+        // −0; the smoothed MAD and M add non-negative products. Trigg's E (β·e + 0·E' with β = 1), the last error and the
+        // held actuals can be −0.
+        for (int i = 0; i < LastErrorIndex; i++)
+        {
+            if (i != TriggErrorIndex && BitConverter.DoubleToInt64Bits(state[i]) == NegativeZeroBits)
+            {
+                return Invariant($"number {i + 1} is −0, which the tracker never holds there (counts, sums, the smoothed MAD and M are +0 when zero)");
             }
         }
 
@@ -163,6 +176,13 @@ public sealed partial class ErrorTracker
             return "|RSFE| (numbers 4 and 5) cannot exceed the sum of absolute errors Σ|e| (numbers 6 and 7)";
         }
 
+        // The sums before the last period were a state too: |Σe − e| ≤ Σ|e| − |e| (triangle inequality on the earlier
+        // errors), within the rounding of the two compensated sums (relative to Σ|e|).
+        if (Math.Abs(errors - lastError) > (absErrors - Math.Abs(lastError)) + (absErrors * SumTolerance))
+        {
+            return "RSFE and the last error (numbers 4, 5 and 19) leave the earlier errors summing to more in size than Σ|e| (numbers 6 and 7) less the last error allows";
+        }
+
         // (Σ|e|)²/n ≤ Σe² ≤ (Σ|e|)² (Cauchy–Schwarz, and the square of a sum of non-negative terms), compared through
         // square roots so nothing overflows; squares below the normal range may be rounded to zero (SqrtSubnormalError).
         double rootN = Math.Sqrt(n);
@@ -196,6 +216,15 @@ public sealed partial class ErrorTracker
         if (Math.Abs(triggError) > triggAbsError)
         {
             return "Trigg's smoothed error E (number 17) cannot exceed the smoothed absolute error M (number 18) in size";
+        }
+
+        // Trigg's E and M before the last period: E = fl(a + b) and M = fl(|a| + c) with a = fl(β·e), b = fl((1 − β)·E'),
+        // c = fl((1 − β)·M') ≥ |b| (as |E'| ≤ M'); so |E − a| ≤ |b| + u·|E| ≤ M − |a| + 2u·M to first order. Slack 6u·M for
+        // the roundings of that bound and of the two subtractions here, plus one subnormal.
+        double lastShare = beta * lastError;
+        if (Math.Abs(triggError - lastShare) > triggAbsError - Math.Abs(lastShare) + (6 * UnitRoundoff * triggAbsError) + SubnormalError)
+        {
+            return "Trigg's smoothed error E and absolute error M (numbers 17 and 18) and the last error (number 19) imply an earlier E larger in size than the earlier M";
         }
 
         // The newest term of a smoothed value: x(t) = fl(fl(w·|e|) + fl((1 − w)·x(t−1))) ≥ fl(w·|e|), exactly (the second

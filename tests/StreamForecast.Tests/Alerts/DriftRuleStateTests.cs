@@ -244,7 +244,7 @@ public sealed class DriftRuleStateTests
     // ---- Unreachable edits, field by field -----------------------------------------------------------------------------
 
     /// <summary>One edit of one exported number, why no sequence of calls can produce it, and text the refusal must contain.</summary>
-    private readonly record struct Edit(int Index, double Value, string Why, string[] Names);
+    internal readonly record struct Edit(int Index, double Value, string Why, string[] Names);
 
     /// <summary>A reachable state built by evaluating <paramref name="inputs"/>, with edits that make it unreachable.</summary>
     private sealed record Base(string Name, DriftRuleOptions Options, DriftInput[] Inputs, Func<double[], IEnumerable<Edit>> Edits);
@@ -255,7 +255,7 @@ public sealed class DriftRuleStateTests
     private static Edit E(int index, double value, string why, params string[] names) => new(index, value, why, names);
 
     /// <summary>Edits every state admits as unreachable: malformed numbers and counts beyond their caps.</summary>
-    private static IEnumerable<Edit> Malformed(double[] g, DriftRuleOptions o)
+    internal static IEnumerable<Edit> Malformed(double[] g, DriftRuleOptions o)
     {
         int last = g.Length - 1;
         yield return E(0, -1, "a negative period count", Periods);

@@ -214,7 +214,7 @@ public sealed class ErrorTrackerStateTests
     /// the refusal must contain (the field's name). Index meaning: counts n, zeros, actuals; two-part sums Σe, Σ|e|, Σe²,
     /// percentage errors, Σ|y|, naive errors; smoothed MAD, Trigg's E and M, the last error; the ring of the last m actuals.
     /// </summary>
-    private static IEnumerable<(int Index, string Why, double Value, string Names)> UnreachableEdits(string baseName, double[] g, ErrorTrackerOptions o)
+    internal static IEnumerable<(int Index, string Why, double Value, string Names)> UnreachableEdits(string baseName, double[] g, ErrorTrackerOptions o)
     {
         double n = g[0], zeros = g[1], actuals = g[2];
         double absErrors = g[5] + g[6], squares = g[7] + g[8], absActuals = g[11] + g[12];
