@@ -200,23 +200,38 @@ public sealed class CusumRule : DriftRule
 
     private protected override string? ValidateCore(ReadOnlySpan<double> core, double lastUnder, double lastOver, long periods)
     {
+        // The evidence is the pair of sums C⁺, C⁻ after the last period; the stored sums are the same numbers, or both 0
+        // when the reset mode restarted them after an alarm (either sum at h). Exact: the rule copies the numbers.
         double upper = core[0];
         double lower = core[1];
-        if (!(upper >= 0) || !(lower >= 0) || !(lastUnder >= 0) || !(lastOver >= 0))
+        // Math.Max(0, x) returns +0 for x = −0, so a zero sum is +0.
+        if (!(upper >= 0) || !(lower >= 0) || double.IsNegative(upper) || double.IsNegative(lower))
         {
-            return "the CUSUM sums cannot be negative";
+            return "the CUSUM sums C⁺ and C⁻ (numbers 12 and 13) cannot be negative (nor −0)";
         }
 
-        if (upper == lastUnder && lower == lastOver)
+        if (!(lastUnder >= 0) || !(lastOver >= 0) || double.IsNegative(lastUnder) || double.IsNegative(lastOver))
         {
-            return null;
+            return "the last evidence (numbers 10 and 11) is a pair of CUSUM sums and cannot be negative";
         }
 
         double threshold = _options.RaiseThreshold;
-        bool alarmed = lastUnder >= threshold || lastOver >= threshold;
-        return _options.ResetAfterAlarm && alarmed && upper == 0 && lower == 0
-            ? null
-            : "the CUSUM sums do not match the last evidence";
+        bool restarted = _options.ResetAfterAlarm && (lastUnder >= threshold || lastOver >= threshold);
+        if (restarted ? upper != 0 || lower != 0 : upper != lastUnder || lower != lastOver)
+        {
+            return restarted
+                ? "the CUSUM sums C⁺ and C⁻ (numbers 12 and 13) must be 0: the last evidence (numbers 10 and 11) reached h and the sums restart after an alarm"
+                : "the CUSUM sums C⁺ and C⁻ (numbers 12 and 13) must equal the last evidence (numbers 10 and 11)";
+        }
+
+        // From C⁺ = C⁻ = 0 one period makes at most one sum positive: z − k > 0 and −z − k > 0 cannot both hold for
+        // k ≥ 0 (and rounding keeps the signs: fl(z − k) > 0 needs z > k ≥ 0, and then fl(−z − k) < 0).
+        if (periods == 1 && lastUnder > 0 && lastOver > 0)
+        {
+            return "after one period (the period count, number 1, is 1) at most one of the CUSUM sums (numbers 10 and 11) can be above zero";
+        }
+
+        return null;
     }
 
     private protected override void ImportCore(ReadOnlySpan<double> core)

@@ -47,13 +47,12 @@ namespace StreamForecast.Alerts;
 /// <para><b>Thread safety.</b> Not thread-safe: one owner (one thread or one reader loop at a time) evaluates and reads a
 /// rule. Different rules are independent.</para>
 /// </remarks>
-public abstract class DriftRule
+public abstract partial class DriftRule
 {
     // Exported layout: periods, last episode id, direction (+1 under, −1 over, 0 none), severity (0, 1, 2),
     // under run, over run, under escalation run, over escalation run, clear run, last under evidence, last over evidence;
     // then the rule's own numbers.
     private const int HeaderLength = 11;
-    private const double MaxWholeNumber = 9007199254740992; // 2^53: every whole number up to it is exact in a double
 
     private readonly DriftRuleOptions _settings;
     private long _periods;
@@ -392,110 +391,4 @@ public abstract class DriftRule
         _reversedTo = 0;
         ResetCore();
     }
-
-    private string? Validate(ReadOnlySpan<double> state)
-    {
-        if (state.Length != StateLength)
-        {
-            return $"it has {state.Length} numbers, expected {StateLength}";
-        }
-
-        for (int i = 0; i < state.Length; i++)
-        {
-            if (!double.IsFinite(state[i]))
-            {
-                return $"number {i + 1} is not finite";
-            }
-        }
-
-        DriftRuleOptions o = _settings;
-        if (!IsWhole(state[0], MaxWholeNumber))
-        {
-            return "the period count must be a whole number ≥ 0";
-        }
-
-        if (!IsWhole(state[1], MaxWholeNumber))
-        {
-            return "the last episode id must be a whole number ≥ 0";
-        }
-
-        long periods = (long)state[0];
-        double direction = state[2];
-        double severity = state[3];
-        if (direction is not (-1 or 0 or 1))
-        {
-            return "the direction must be −1 (over-forecast), 0 (no episode) or 1 (under-forecast)";
-        }
-
-        if (direction == 0 ? severity != 0 : severity is not (1 or 2))
-        {
-            return "the severity must be 0 without an open episode and 1 or 2 with one";
-        }
-
-        int cap = o.PeriodsToRaise;
-        for (int i = 4; i <= 7; i++)
-        {
-            if (!IsWhole(state[i], Math.Min(cap, periods)))
-            {
-                return $"consecutive-period count {i - 3} must be a whole number between 0 and min(PeriodsToRaise, periods)";
-            }
-        }
-
-        if (!IsWhole(state[8], direction == 0 ? 0 : o.PeriodsToClear - 1))
-        {
-            return "the clear count must be 0 without an open episode and below PeriodsToClear with one";
-        }
-
-        double lastUnder = state[9];
-        double lastOver = state[10];
-        if (periods == 0 && (lastUnder != 0 || lastOver != 0))
-        {
-            return "the last evidence must be zero before any period";
-        }
-
-        bool underBeyond = periods > 0 && lastUnder >= o.RaiseThreshold;
-        bool overBeyond = periods > 0 && lastOver >= o.RaiseThreshold;
-        bool underEscalated = periods > 0 && lastUnder >= o.EscalationThreshold;
-        bool overEscalated = periods > 0 && lastOver >= o.EscalationThreshold;
-        if ((state[4] > 0) != underBeyond || (state[5] > 0) != overBeyond
-            || (state[6] > 0) != underEscalated || (state[7] > 0) != overEscalated)
-        {
-            return "the consecutive-period counts contradict the last evidence";
-        }
-
-        if (direction != 0)
-        {
-            if (state[1] < 1)
-            {
-                return "an open episode needs an episode id ≥ 1";
-            }
-
-            if (periods < Math.Max(1, o.WarmUpPeriods))
-            {
-                return "an episode cannot be open during the warm-up";
-            }
-
-            double own = direction > 0 ? lastUnder : lastOver;
-            double ownEscalationRun = direction > 0 ? state[6] : state[7];
-            if ((state[8] > 0) != (own <= o.ClearThreshold))
-            {
-                return "the clear count contradicts the last evidence";
-            }
-
-            if (severity == 1 && ownEscalationRun >= cap)
-            {
-                return "a Warning episode cannot have met the escalation rule";
-            }
-        }
-
-        double reversedTo = state[HeaderLength + CoreStateLength];
-        if (reversedTo is not (-1 or 0 or 1) || (reversedTo != 0 && direction != 0))
-        {
-            return "the reversal marker must be −1, 0 or 1, and 0 while an episode is open";
-        }
-
-        return ValidateCore(state.Slice(HeaderLength, CoreStateLength), lastUnder, lastOver, periods);
-    }
-
-    private static bool IsWhole(double value, double max) => value >= 0 && value <= max && value == Math.Floor(value);
 }

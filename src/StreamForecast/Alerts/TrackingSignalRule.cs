@@ -113,7 +113,7 @@ public sealed class TrackingSignalRule : DriftRule
     }
 
     private protected override string? ValidateCore(ReadOnlySpan<double> core, double lastUnder, double lastOver, long periods) =>
-        lastOver == -lastUnder ? null : "the over-forecast evidence must be the negated tracking signal";
+        lastOver == -lastUnder ? null : "the last over-forecast evidence (number 11) must be the negated tracking signal (number 10)";
 
     private protected override void ImportCore(ReadOnlySpan<double> core)
     {

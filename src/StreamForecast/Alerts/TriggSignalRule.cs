@@ -121,10 +121,10 @@ public sealed class TriggSignalRule : DriftRule
     {
         if (!(Math.Abs(lastUnder) <= MaxMagnitude))
         {
-            return "the last Trigg signal must be between −1 and 1";
+            return "the last Trigg signal (number 10) must be between −1 and 1";
         }
 
-        return lastOver == -lastUnder ? null : "the over-forecast evidence must be the negated Trigg signal";
+        return lastOver == -lastUnder ? null : "the last over-forecast evidence (number 11) must be the negated Trigg signal (number 10)";
     }
 
     private protected override void ImportCore(ReadOnlySpan<double> core)

@@ -34,6 +34,13 @@ internal struct LagWindow
         return _ring is null ? _single : _ring[(int)(count % _ring.Length)];
     }
 
+    /// <summary>The value of the newest push, after <paramref name="count"/> pushes (count ≥ 1).</summary>
+    public readonly double Newest(long count)
+    {
+        Debug.Assert(count >= 1);
+        return _ring is null ? _single : _ring[(int)((count - 1) % _ring.Length)];
+    }
+
     /// <summary>Pushes <paramref name="value"/> as push number <paramref name="count"/> (the number of earlier pushes).</summary>
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
     public void Push(double value, long count)

@@ -29,7 +29,19 @@ public static class ForecastEngine
         using var buffer = new MemoryStream();
         await source.CopyToAsync(buffer, cancellationToken).ConfigureAwait(false);
         buffer.Position = 0;
-        SnapshotContent content = SnapshotFormat.Read(buffer);
+        (List<SeriesState<TKey>> series, long inputPosition) = ReadSnapshot(buffer, options, keyCodec);
+        return (new ForecastEngine<TKey>(options, series), inputPosition);
+    }
+
+    /// <summary>
+    /// Reads and checks a whole snapshot (envelope, checksum, every series against the options resolved for its key, the
+    /// restore checks of <see cref="SeriesState{TKey}.Read"/>, unique keys, the series limit) without starting an engine.
+    /// </summary>
+    /// <exception cref="InvalidDataException">The snapshot is corrupted, truncated, of another version, does not fit the options, or holds a state no run can reach.</exception>
+    internal static (List<SeriesState<TKey>> Series, long InputPosition) ReadSnapshot<TKey>(Stream source, ForecastEngineOptions<TKey> options, ISnapshotKeyCodec<TKey> keyCodec)
+        where TKey : notnull
+    {
+        SnapshotContent content = SnapshotFormat.Read(source);
         if (content.Sections.Count < 1 || Encoding.UTF8.GetString(content.Sections[0].Span) != keyCodec.FormatName)
         {
             throw new InvalidDataException($"The snapshot's keys were not written with the {keyCodec.FormatName} codec.");
@@ -63,7 +75,7 @@ public static class ForecastEngine
             throw new InvalidDataException($"The snapshot holds {series.Count} series, more than the limit of {options.MaxSeries}.");
         }
 
-        return (new ForecastEngine<TKey>(options, series), content.InputPosition);
+        return (series, content.InputPosition);
     }
 
     /// <summary>

@@ -41,7 +41,7 @@ namespace StreamForecast.Tracking;
 /// <para><b>Thread safety.</b> Not thread-safe: one owner (one thread or one reader loop at a time) records and reads a
 /// tracker. Different trackers are independent.</para>
 /// </remarks>
-public sealed class ErrorTracker
+public sealed partial class ErrorTracker
 {
     // Layout of the exported state: counts, six two-part sums, four scalars, then the raw ring of the last m actuals.
     private const int CountIndex = 0;
@@ -58,7 +58,6 @@ public sealed class ErrorTracker
     private const int TriggAbsErrorIndex = 17;
     private const int LastErrorIndex = 18;
     private const int FixedStateLength = 19;
-    private const double MaxExportedCount = 9_007_199_254_740_992; // 2^53: every whole number up to it is exact
 
     // One tracker per series: the weights are read from the shared options rather than copied into every tracker.
     private readonly ErrorTrackerOptions _options;
@@ -457,87 +456,6 @@ public sealed class ErrorTracker
         _actualCount++;
     }
 
-    /// <summary>Returns why <paramref name="state"/> cannot be imported, or null if it can.</summary>
-    internal string? Validate(ReadOnlySpan<double> state)
-    {
-        if (state.Length != StateLength)
-        {
-            return string.Create(CultureInfo.InvariantCulture, $"it has {state.Length} numbers, expected {StateLength} for a MASE season length of {_recent.Length}");
-        }
-
-        for (int i = 0; i < state.Length; i++)
-        {
-            if (!double.IsFinite(state[i]))
-            {
-                return string.Create(CultureInfo.InvariantCulture, $"number {i + 1} is not finite");
-            }
-        }
-
-        double count = state[CountIndex];
-        double zeroActuals = state[ZeroActualCountIndex];
-        double actuals = state[ActualCountIndex];
-        if (!IsCount(count) || !IsCount(zeroActuals) || !IsCount(actuals))
-        {
-            return "the counts must be whole numbers from 0 to 2^53";
-        }
-
-        if (zeroActuals > count || count > actuals)
-        {
-            return "the counts must satisfy zero-actual periods ≤ scored periods ≤ actuals";
-        }
-
-        double errorSum = Combined(state, ErrorSumIndex);
-        double absErrorSum = Combined(state, AbsErrorSumIndex);
-        double squaredErrorSum = Combined(state, SquaredErrorSumIndex);
-        double percentErrorSum = Combined(state, PercentErrorSumIndex);
-        double absActualSum = Combined(state, AbsActualSumIndex);
-        double naiveSum = Combined(state, NaiveSumIndex);
-        double smoothedMad = state[SmoothedMadIndex];
-        double triggError = state[TriggErrorIndex];
-        double triggAbsError = state[TriggAbsErrorIndex];
-        if (absErrorSum < 0 || squaredErrorSum < 0 || percentErrorSum < 0 || absActualSum < 0 || naiveSum < 0 || smoothedMad < 0 || triggAbsError < 0)
-        {
-            return "sums of absolute or squared values and the smoothed MADs must not be negative";
-        }
-
-        if (Math.Abs(errorSum) > absErrorSum * (1 + 1e-9))
-        {
-            return "|RSFE| cannot exceed the sum of absolute errors";
-        }
-
-        if (Math.Abs(triggError) > triggAbsError * (1 + 1e-12))
-        {
-            return "Trigg's smoothed error cannot exceed the smoothed absolute error in size";
-        }
-
-        if (count == 0 && !AllZero(state.Slice(ErrorSumIndex, NaiveSumIndex - ErrorSumIndex)))
-        {
-            return "with no scored period every error statistic must be zero";
-        }
-
-        if (count == 0 && (smoothedMad != 0 || triggError != 0 || triggAbsError != 0 || state[LastErrorIndex] != 0))
-        {
-            return "with no scored period the smoothed values and the last error must be zero";
-        }
-
-        if (count == zeroActuals && !AllZero(state.Slice(PercentErrorSumIndex, 2)))
-        {
-            return "with no non-zero scored actual the percentage-error sum must be zero";
-        }
-
-        if (actuals <= _recent.Length && !AllZero(state.Slice(NaiveSumIndex, 2)))
-        {
-            return "before m + 1 actuals the naive-error sum must be zero";
-        }
-
-        if (!RingWindow.RawFits(state[FixedStateLength..], (long)actuals))
-        {
-            return "buffer slots not yet filled must be zero";
-        }
-
-        return null;
-    }
-
     /// <summary>Reads a state that <see cref="Validate"/> accepted.</summary>
     internal void ImportValidated(ReadOnlySpan<double> state)
     {
@@ -573,23 +491,6 @@ public sealed class ErrorTracker
         }
 
         return naive;
-    }
-
-    private static bool IsCount(double value) => value >= 0 && value <= MaxExportedCount && value == Math.Floor(value);
-
-    private static double Combined(ReadOnlySpan<double> state, int index) => state[index] + state[index + 1];
-
-    private static bool AllZero(ReadOnlySpan<double> values)
-    {
-        foreach (double v in values)
-        {
-            if (v != 0)
-            {
-                return false;
-            }
-        }
-
-        return true;
     }
 
     [DoesNotReturn]

@@ -173,6 +173,58 @@ public sealed class SeriesStateTests
         }
     }
 
+    [Fact]
+    public void Observe_LateEventAfterARefusedActualLeftTheRestatementWindow_RestatesLikeTheSameEventOnTime()
+    {
+        // Croston refuses negative demand. Minute 1 sums to −5 (refused); minute 2 is empty and carries the last accepted
+        // actual (2) forward. Once minute 1 has left the restatement window, a late event restates minute 3: the rollback
+        // replays minute 2 from the lagged state, which must carry 2 forward again, exactly as the live run did. The
+        // result must equal a run in which the same event arrived on time.
+        var calendar = PeriodCalendar.FixedInterval(TimeSpan.FromMinutes(1));
+        var options = new SeriesOptions(new CrostonOptions(), calendar, new LatenessPolicy(TimeSpan.Zero, restatementPeriods: 3), GapPolicy.CarryForward);
+        (int Minute, double Quantity)[] events = [(0, 2), (1, -5), (3, 4), (4, 1), (5, 3), (6, 2)];
+        (int Minute, double Quantity) late = (3, 6);
+
+        ListOutput Run(bool lateEventOnTime)
+        {
+            var state = new SeriesState<string>("cake", options, 0);
+            var output = new ListOutput();
+            foreach ((int minute, double quantity) in events)
+            {
+                if (lateEventOnTime && minute == 4)
+                {
+                    Post(state, late.Minute, late.Quantity, output);
+                }
+
+                Post(state, minute, quantity, output);
+            }
+
+            if (!lateEventOnTime)
+            {
+                Post(state, late.Minute, late.Quantity, output);
+            }
+
+            state.CloseAll(output);
+            return output;
+        }
+
+        void Post(SeriesState<string> state, int minute, double quantity, ListOutput output)
+        {
+            DateTimeOffset t = s_start.AddMinutes(minute);
+            state.Observe(t, calendar.PeriodOf(t), quantity, null, 0, output);
+        }
+
+        ListOutput onTime = Run(lateEventOnTime: true);
+        ListOutput restated = Run(lateEventOnTime: false);
+        Assert.Equal(1, restated.Counters.Restated);
+        Assert.Equal(1, restated.Counters.RejectedActuals);
+        ForecastUpdate<string> expected = onTime.Forecasts[^1];
+        ForecastUpdate<string> actual = restated.Forecasts[^1];
+        Assert.Equal(expected.Period, actual.Period);
+        Assert.Equal(expected.Next, actual.Next);
+        Assert.Equal(expected.Errors, actual.Errors);
+    }
+
     // Snapshot + restore + continue equals an uninterrupted run, taken while periods are open, for the inline ring
     // (no lateness), the array ring (lateness of several periods) and with restatement and several rules.
     [Theory]

@@ -1,0 +1,521 @@
+using System.Globalization;
+using StreamForecast.Alerts;
+using StreamForecast.Periods;
+using StreamForecast.Tracking;
+
+namespace StreamForecast.Streaming;
+
+// The state codec of a series: what a snapshot holds, and the check that a restored series is one the period rules can
+// reach. The layout (all through SnapshotPayloadWriter):
+//   method label; started; first open period; latest event time (UTC ticks); last actual; last actual flag; quiet periods;
+//   open period count, then (period, sum) for each open period with data, in increasing period order;
+//   model state (forecaster then error tracker); rule count, then each rule's state;
+//   retained closed period count, then (sum, data flag 0/1) for each, oldest first; when restatement is on, the lagged
+//   model state, its last actual and last actual flag;
+//   event id count, then (id, period) for each, oldest arrival first.
+internal sealed partial class SeriesState<TKey>
+{
+    /// <summary>Writes the complete state (everything but the key and options, which the caller writes or re-resolves).</summary>
+    public void Write(SnapshotPayloadWriter writer)
+    {
+        writer.WriteString(_options.MethodLabel);
+        writer.WriteBoolean(_started);
+        writer.WriteInt64(_nextToClose);
+        writer.WriteInt64(_maxEventTicks);
+        writer.WriteDouble(_step.LastActual);
+        writer.WriteBoolean(_step.HasLastActual);
+        writer.WriteInt64(_quietPeriods);
+
+        Span<OpenPeriod> openPeriods = Open;
+        int open = 0;
+        foreach (OpenPeriod o in openPeriods)
+        {
+            open += o.Has ? 1 : 0;
+        }
+
+        writer.WriteInt32(open);
+        for (long p = _nextToClose; p < _nextToClose + openPeriods.Length; p++)
+        {
+            OpenPeriod o = openPeriods[Slot(p, openPeriods.Length)];
+            if (o.Has)
+            {
+                writer.WriteInt64(p);
+                writer.WriteDouble(o.Sum);
+            }
+        }
+
+        writer.WriteDoubles(_step.Model.ExportState());
+        writer.WriteInt32(RuleCount);
+        for (int i = 0; i < RuleCount; i++)
+        {
+            writer.WriteDoubles(_step.RuleAt(i).ExportState());
+        }
+
+        writer.WriteInt32(ClosedCount);
+        if (_restatement is { } r)
+        {
+            for (int i = 0; i < r.ClosedCount; i++)
+            {
+                writer.WriteDouble(r.ClosedSums[i]);
+                writer.WriteByte(r.ClosedHas[i]);
+            }
+
+            writer.WriteDoubles(r.Lag.Model.ExportState());
+            writer.WriteDouble(r.Lag.LastActual);
+            writer.WriteBoolean(r.Lag.HasLastActual);
+        }
+
+        int ids = _ids?.Count ?? 0;
+        writer.WriteInt32(ids);
+        if (_ids is not null)
+        {
+            foreach ((string id, long period) in _ids.Oldest())
+            {
+                writer.WriteString(id);
+                writer.WriteInt64(period);
+            }
+        }
+    }
+
+    /// <summary>
+    /// Reads a state written by <see cref="Write"/> into this freshly created series, and checks that the period rules can
+    /// reach it. Throws <see cref="InvalidDataException"/>, naming the series and the field, when the data does not fit the
+    /// series' options or no sequence of events and commands can produce it.
+    /// </summary>
+    /// <remarks>
+    /// <para>Every check below holds for every state the series reaches (each says why), so a restore never refuses a
+    /// state the engine wrote; they refuse the edits a writer bug would make. Everything is compared exactly: positions
+    /// and counts are integers, and the model of the restatement window is recomputed with the same operations in the
+    /// same order, so it must match bit for bit.</para>
+    /// <para><b>Cost.</b> O(state size), plus, with restatement on, one replay of the retained periods on a scratch model
+    /// (allocated here, once per series).</para>
+    /// </remarks>
+    public void Read(SnapshotPayloadReader reader)
+    {
+        try
+        {
+            ReadChecked(reader);
+        }
+        catch (InvalidDataException ex) when (!ex.Message.StartsWith(Prefix, StringComparison.Ordinal))
+        {
+            throw new InvalidDataException(Prefix + ex.Message, ex); // a payload error (a field cut short, a flag that is not 0 or 1)
+        }
+    }
+
+    private string Prefix => Invariant($"Series '{Key}' in the snapshot: ");
+
+    private void ReadChecked(SnapshotPayloadReader reader)
+    {
+        string method = reader.ReadString();
+        if (method != _options.MethodLabel)
+        {
+            throw Invalid($"it holds a {method} series but the options for this key say {_options.MethodLabel}");
+        }
+
+        PeriodCalendar calendar = _options.Calendar;
+        _started = reader.ReadBoolean();
+        _nextToClose = reader.ReadInt64();
+        _maxEventTicks = reader.ReadInt64();
+        _step.LastActual = ReadFinite(reader, "the last actual");
+        _step.HasLastActual = reader.ReadBoolean();
+        _quietPeriods = reader.ReadInt64();
+
+        // The latest event's period: every event the series took lies in it or before it.
+        long latest = 0;
+        if (!_started)
+        {
+            // Nothing happens to a series before its first event (its creation may still be counted, and an
+            // acknowledgement changes nothing), so every field is at its initial value.
+            if (_nextToClose != 0 || _maxEventTicks != 0 || !IsInitialZero(_step.LastActual) || _step.HasLastActual || _quietPeriods != 0)
+            {
+                throw Invalid("it has seen no event (the started flag is off), yet its period position, latest event time, last actual or quiet-period count is set");
+            }
+        }
+        else
+        {
+            latest = CheckPositions(calendar);
+        }
+
+        if (!_step.HasLastActual && !IsInitialZero(_step.LastActual))
+        {
+            throw Invalid(Invariant($"the last actual is {_step.LastActual} but the last actual flag is off; without a last actual it stays 0"));
+        }
+
+        ReadOpenPeriods(reader, latest);
+
+        double[] freshModel = _step.Model.ExportState();
+        double[] model = ImportInto(reader, _step.Model.ImportState, "its model (forecaster and error tracker)");
+        if (!_started && !Bits.Same(model, freshModel))
+        {
+            throw Invalid("it has seen no event, yet its model (forecaster and error tracker) is not that of a new series");
+        }
+
+        // The last actual is kept exactly when the model took an actual: both change together in the model step (Feed),
+        // and a rollback restores both from the lagged model, which keeps the same pair.
+        if (_step.HasLastActual != (_step.Model.Count > 0))
+        {
+            throw Invalid(Invariant($"the last actual flag is {(_step.HasLastActual ? "on" : "off")} but the model has taken {_step.Model.Count} actuals; the flag is on exactly when the model has taken one"));
+        }
+
+        CheckLastActual(_step.Model, _step.LastActual, "the last actual", "its model");
+
+        int rules = reader.ReadInt32();
+        if (rules != RuleCount)
+        {
+            throw Invalid(Invariant($"it holds {rules} drift rules but the options for this key have {RuleCount}"));
+        }
+
+        for (int i = 0; i < RuleCount; i++)
+        {
+            DriftRule rule = _step.RuleAt(i);
+            ImportInto(reader, rule.ImportState, Invariant($"its drift rule {i + 1} ({_options.RuleLabels[i]})"));
+            if (!_started && (rule.PeriodsObserved != 0 || rule.LastEpisodeId != 0))
+            {
+                throw Invalid(Invariant($"it has seen no event, yet its drift rule {i + 1} ({_options.RuleLabels[i]}) has evaluated periods or raised episodes"));
+            }
+        }
+
+        ReadRestatement(reader, latest, model);
+        ReadEventIds(reader, latest);
+        if (_restatement is null)
+        {
+            CheckRulesAgainstTracker();
+            CheckZeroGap();
+        }
+    }
+
+    /// <summary>
+    /// Without restatement, a quiet count above 0 means the last period to close had no event; under the zero gap policy
+    /// that period fed an actual of 0, so the last actual is 0, unless the model refuses an actual of 0 (its domain: a
+    /// refusal leaves the model as it is now, so a trial on a copy tells).
+    /// </summary>
+    private void CheckZeroGap()
+    {
+        if (!_started || _options.Gaps != GapPolicy.Zero || _quietPeriods == 0 || IsInitialZero(_step.LastActual))
+        {
+            return;
+        }
+
+        var trial = new TrackedForecaster(_options.Method, _options.Tracking);
+        trial.ImportState(_step.Model.ExportState());
+        try
+        {
+            trial.Update(0);
+        }
+        catch (ArgumentOutOfRangeException)
+        {
+            return;
+        }
+
+        throw Invalid(Invariant($"its quiet-period count {_quietPeriods} says the last period to close had no event, which feeds an actual of 0 under the zero gap policy, yet the last actual is {_step.LastActual:R}"));
+    }
+
+    /// <summary>Checks the period position, the latest event time and the quiet count of a started series; returns the latest event's period.</summary>
+    private long CheckPositions(PeriodCalendar calendar)
+    {
+        if (_nextToClose < calendar.MinPeriod || _nextToClose > calendar.MaxPeriod)
+        {
+            throw Invalid(Invariant($"its first open period {_nextToClose} is outside the calendar's periods {calendar.MinPeriod} to {calendar.MaxPeriod}"));
+        }
+
+        if (_maxEventTicks < DateTimeOffset.MinValue.UtcTicks || _maxEventTicks > DateTimeOffset.MaxValue.UtcTicks
+            || !calendar.TryPeriodOf(new DateTimeOffset(_maxEventTicks, TimeSpan.Zero), out long latest))
+        {
+            throw Invalid(Invariant($"its latest event time ({_maxEventTicks} ticks) is outside the range the calendar supports, where every event it took lies"));
+        }
+
+        // A new latest event time closes every period that ends at or before it less the allowed lateness, and periods
+        // only close further after that: the first open period ends after that watermark.
+        _nextCloseEndTicks = calendar.EndOf(_nextToClose).UtcTicks;
+        long watermark = _maxEventTicks - _options.Lateness.AllowedLateness.Ticks;
+        if (_nextCloseEndTicks <= watermark)
+        {
+            throw Invalid(Invariant($"its first open period {_nextToClose} ends at or before the watermark (latest event time less the allowed lateness), so it would have closed"));
+        }
+
+        // When the latest event arrived, periods closed until its period fitted in the open-period ring.
+        int capacity = OpenPeriodCapacity;
+        if (latest >= _nextToClose + capacity)
+        {
+            throw Invalid(Invariant($"its latest event's period {latest} is {latest - _nextToClose} periods after the first open period {_nextToClose}; at most {capacity} periods can be open"));
+        }
+
+        // The closed periods after the latest event's period never had an event, so each one added to the quiet count
+        // and none reset it; and the quiet count counts closed periods, of which there are at most as many as calendar
+        // periods before the first open one.
+        long emptyAfterLatest = Math.Max(0, _nextToClose - 1 - latest);
+        if (_quietPeriods < emptyAfterLatest || _quietPeriods > _nextToClose - calendar.MinPeriod)
+        {
+            throw Invalid(Invariant($"its quiet-period count {_quietPeriods} is impossible: the {emptyAfterLatest} closed periods after the latest event's period {latest} had no event, and at most {_nextToClose - calendar.MinPeriod} periods have closed"));
+        }
+
+        return latest;
+    }
+
+    private void ReadOpenPeriods(SnapshotPayloadReader reader, long latest)
+    {
+        int capacity = OpenPeriodCapacity;
+        int open = reader.ReadInt32();
+        if (open < 0 || open > capacity || (!_started && open != 0))
+        {
+            throw Invalid(Invariant($"its open-period count {open} does not fit: between 0 and {capacity} open periods with data, and none before the first event"));
+        }
+
+        long previous = long.MinValue;
+        for (int i = 0; i < open; i++)
+        {
+            long p = reader.ReadInt64();
+            double sum = ReadFinite(reader, "an open period's sum");
+            if (p < _nextToClose || p >= _nextToClose + capacity)
+            {
+                throw Invalid(Invariant($"its open period {p} is outside the open-period window {_nextToClose} to {_nextToClose + capacity - 1}"));
+            }
+
+            if (p <= previous)
+            {
+                throw Invalid(Invariant($"its open period {p} follows open period {previous}; open periods are written once each, in increasing order"));
+            }
+
+            if (p > latest)
+            {
+                throw Invalid(Invariant($"its open period {p} holds data but comes after the latest event's period {latest}"));
+            }
+
+            previous = p;
+            ref OpenPeriod o = ref Open[Slot(p, capacity)];
+            o.Sum = sum;
+            o.Has = true;
+        }
+
+        // The latest event went into its period unless that period had already closed; periods close only from the
+        // first open one on, so while the latest event's period is still open it holds that event.
+        if (_started && latest >= _nextToClose && previous != latest)
+        {
+            throw Invalid(Invariant($"the latest event's period {latest} is still open but holds no data, although it holds the latest event"));
+        }
+    }
+
+    private void ReadRestatement(SnapshotPayloadReader reader, long latest, double[] model)
+    {
+        int capacity = _restatement?.ClosedSums.Length ?? 0;
+        int closed = reader.ReadInt32();
+        if (closed < 0 || closed > capacity)
+        {
+            throw Invalid(Invariant($"its restatement window holds {closed} periods; the options for this key retain at most {capacity}"));
+        }
+
+        if (!_started && closed != 0)
+        {
+            throw Invalid("it has seen no event, yet its restatement window holds closed periods");
+        }
+
+        if (_restatement is not { } r)
+        {
+            return;
+        }
+
+        // The retained periods are the last `closed` periods before the first open one.
+        long first = _nextToClose - closed;
+        if (_started && first < _options.Calendar.MinPeriod)
+        {
+            throw Invalid(Invariant($"its restatement window of {closed} periods starts before the calendar's first period"));
+        }
+
+        r.ClosedCount = closed;
+        for (int i = 0; i < closed; i++)
+        {
+            double sum = ReadFinite(reader, "a retained period's sum");
+            byte has = reader.ReadByte();
+            if (has > SlotHasData)
+            {
+                throw Invalid(Invariant($"its retained period {first + i} has data flag {has}; the flag is 0 (no data) or 1"));
+            }
+
+            // A period without data keeps the initial sum 0; one with data holds events, all at or before the latest.
+            if (has == SlotEmpty && !IsInitialZero(sum))
+            {
+                throw Invalid(Invariant($"its retained period {first + i} has no data but a sum of {sum}"));
+            }
+
+            if (has == SlotHasData && first + i > latest)
+            {
+                throw Invalid(Invariant($"its retained period {first + i} holds data but comes after the latest event's period {latest}"));
+            }
+
+            r.ClosedSums[i] = sum;
+            r.ClosedHas[i] = has;
+        }
+
+        double[] freshLag = r.Lag.Model.ExportState();
+        double[] lag = ImportInto(reader, r.Lag.Model.ImportState, "its lagged model (the model before the restatement window)");
+        r.Lag.LastActual = ReadFinite(reader, "the lagged model's last actual");
+        r.Lag.HasLastActual = reader.ReadBoolean();
+        if (!_started && !Bits.Same(lag, freshLag))
+        {
+            throw Invalid("it has seen no event, yet its lagged model is not that of a new series");
+        }
+
+        if (r.Lag.HasLastActual != (r.Lag.Model.Count > 0) || (!r.Lag.HasLastActual && !IsInitialZero(r.Lag.LastActual)))
+        {
+            throw Invalid("the lagged model's last actual and its flag disagree with the lagged model: the flag is on exactly when it has taken an actual, and the last actual is 0 while it is off");
+        }
+
+        CheckLastActual(r.Lag.Model, r.Lag.LastActual, "the lagged model's last actual", "its lagged model");
+
+        // The model is the lagged model stepped through the retained periods: closing a period steps the live model and,
+        // when the oldest retained period leaves the window, the lagged model through it; a restatement rolls the model
+        // back to the lagged one and replays the window. Both use the same model step, so the replay must reproduce the
+        // model and its last actual bit for bit.
+        var replay = new SeriesStep<TKey>(Key, _options, withRules: false);
+        replay.Model.ImportState(lag);
+        replay.LastActual = r.Lag.LastActual;
+        replay.HasLastActual = r.Lag.HasLastActual;
+        for (int i = 0; i < closed; i++)
+        {
+            replay.Apply(first + i, r.ClosedHas[i] == SlotHasData, r.ClosedSums[i], StepMode.Silent, null, null);
+        }
+
+        if (!Bits.Same(replay.Model.ExportState(), model)
+            || BitConverter.DoubleToInt64Bits(replay.LastActual) != BitConverter.DoubleToInt64Bits(_step.LastActual)
+            || replay.HasLastActual != _step.HasLastActual)
+        {
+            throw Invalid(Invariant($"its model and last actual do not follow from the lagged model and the {closed} retained periods: replaying them gives a different state"));
+        }
+    }
+
+    private void ReadEventIds(SnapshotPayloadReader reader, long latest)
+    {
+        int ids = reader.ReadInt32();
+        if (ids < 0 || ids > _options.DuplicateWindow)
+        {
+            throw Invalid(Invariant($"it remembers {ids} event ids; the duplicate window for this key holds at most {_options.DuplicateWindow}"));
+        }
+
+        if (!_started && ids != 0)
+        {
+            throw Invalid("it has seen no event, yet it remembers event ids");
+        }
+
+        if (ids == 0)
+        {
+            return;
+        }
+
+        _ids = new EventIdWindow(_options.DuplicateWindow);
+        long min = _options.Calendar.MinPeriod;
+        for (int i = 0; i < ids; i++)
+        {
+            string id = reader.ReadString();
+            long period = reader.ReadInt64();
+            if (period < min || period > latest)
+            {
+                throw Invalid(Invariant($"event id '{id}' belongs to period {period}, outside the calendar's periods up to the latest event's period {latest}"));
+            }
+
+            if (!_ids.TryAdd(id, period))
+            {
+                throw Invalid(Invariant($"it remembers event id '{id}' twice"));
+            }
+        }
+    }
+
+    /// <summary>
+    /// Without restatement the error tracker changes only when a period closes live, and every such scored period is shown
+    /// to every rule whose input fits; an acknowledgement resets the tracker and re-baselines every rule together.
+    /// </summary>
+    private void CheckRulesAgainstTracker()
+    {
+        ErrorTracker tracker = _step.Model.Tracker;
+        for (int i = 0; i < RuleCount; i++)
+        {
+            DriftRule rule = _step.RuleAt(i);
+            long periods = rule.PeriodsObserved;
+            if (periods > tracker.Count)
+            {
+                throw Invalid(Invariant($"its drift rule {i + 1} ({_options.RuleLabels[i]}) has evaluated {periods} periods but the error tracker has scored only {tracker.Count} since the last acknowledgement"));
+            }
+
+            // The tracking signal and Trigg's signal are finite after every scored period, so those rules see each one, and
+            // their last evidence is the tracker's signal, which unscored periods do not change.
+            if (rule.Kind is not (DriftRuleKind.TrackingSignal or DriftRuleKind.TriggSignal))
+            {
+                continue;
+            }
+
+            double signal = rule.Kind == DriftRuleKind.TrackingSignal ? tracker.TrackingSignal : tracker.TriggSignal;
+            if (periods != tracker.Count)
+            {
+                throw Invalid(Invariant($"its drift rule {i + 1} ({_options.RuleLabels[i]}) has evaluated {periods} periods but the error tracker has scored {tracker.Count}; this rule sees every scored period"));
+            }
+
+            if (periods > 0 && BitConverter.DoubleToInt64Bits(rule.LastUnderEvidence) != BitConverter.DoubleToInt64Bits(signal))
+            {
+                throw Invalid(Invariant($"its drift rule {i + 1} ({_options.RuleLabels[i]}) last saw a signal of {rule.LastUnderEvidence:R}, but the error tracker's signal after that period is {signal:R}"));
+            }
+        }
+    }
+
+    /// <summary>
+    /// Each actual the model takes is pushed into its error tracker and kept as the last actual in the same step, so while
+    /// the tracker holds actuals (none since an acknowledgement reset it) its newest is the last actual, bit for bit.
+    /// </summary>
+    private void CheckLastActual(TrackedForecaster model, double lastActual, string what, string whose)
+    {
+        if (model.Tracker.TryGetNewestActual(out double newest) && BitConverter.DoubleToInt64Bits(newest) != BitConverter.DoubleToInt64Bits(lastActual))
+        {
+            throw Invalid(Invariant($"{what} is {lastActual:R}, but the newest actual in {whose}'s error tracker is {newest:R}; they are the same number"));
+        }
+    }
+
+    private delegate void SpanImporter(ReadOnlySpan<double> state);
+
+    private double[] ImportInto(SnapshotPayloadReader reader, SpanImporter import, string what)
+    {
+        double[] values = reader.ReadDoubles();
+        try
+        {
+            import(values);
+        }
+        catch (ArgumentException ex)
+        {
+            throw new InvalidDataException(Invariant($"{Prefix}{what} does not fit the options for this key: {ex.Message}"), ex);
+        }
+
+        return values;
+    }
+
+    private double ReadFinite(SnapshotPayloadReader reader, string what)
+    {
+        double v = reader.ReadDouble();
+        return double.IsFinite(v) ? v : throw Invalid(Invariant($"{what} is {v}, not a finite number"));
+    }
+
+    /// <summary>Whether <paramref name="value"/> is the initial 0 (+0; −0 never arises from the series' additions).</summary>
+    private static bool IsInitialZero(double value) => BitConverter.DoubleToInt64Bits(value) == 0;
+
+    private InvalidDataException Invalid(string problem) => new(Invariant($"{Prefix}{problem}."));
+
+    private static string Invariant(FormattableString text) => text.ToString(CultureInfo.InvariantCulture);
+
+    /// <summary>Bit-for-bit comparison of two exported states.</summary>
+    private static class Bits
+    {
+        public static bool Same(ReadOnlySpan<double> a, ReadOnlySpan<double> b)
+        {
+            if (a.Length != b.Length)
+            {
+                return false;
+            }
+
+            for (int i = 0; i < a.Length; i++)
+            {
+                if (BitConverter.DoubleToInt64Bits(a[i]) != BitConverter.DoubleToInt64Bits(b[i]))
+                {
+                    return false;
+                }
+            }
+
+            return true;
+        }
+    }
+}
