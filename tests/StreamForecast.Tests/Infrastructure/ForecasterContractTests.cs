@@ -336,11 +336,11 @@ public abstract class ForecasterContractTests
     /// <summary>
     /// Every state the forecaster reaches on hostile input imports back bit-identically and continues identically; a
     /// refused input changes nothing; after every accepted input the next normal value is accepted and forecasts stay
-    /// finite. Runs <see cref="PropertyRuns.Cases"/> sequences from <see cref="HostileInput"/>.
+    /// finite. Runs <see cref="PropertyCases.PerFamily"/> sequences from <see cref="HostileSeries"/>.
     /// </summary>
     [Fact]
     public void ExportState_HostileSequences_RoundTripsAndNeverFreezes() =>
-        PropertyRuns.Check(Prop.ForAll(HostileInput.Arbitrary(), Gen.Choose(0, 10_000).ToArbitrary(), (series, cut) => HostileRun(series, cut)));
+        PropertyCases.Check(Prop.ForAll(HostileSeries.ArbitraryWithRefused(120), Gen.Choose(0, 10_000).ToArbitrary(), (series, cut) => HostileRun(series, cut)));
 
     private Property HostileRun(double[] series, int cut)
     {

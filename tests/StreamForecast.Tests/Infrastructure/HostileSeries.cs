@@ -29,6 +29,12 @@ public static class PropertyCases
     /// <summary>Runs <paramref name="property"/> for <see cref="PerFamily"/> cases; throws on the first counterexample.</summary>
     public static void Check(Property property) => FsCheck.Check.One(Config, property);
 
+    /// <summary>Runs an expensive <paramref name="property"/> (one that starts engines, say) for <paramref name="cases"/> cases.</summary>
+    /// <param name="property">The property.</param>
+    /// <param name="cases">The number of cases; scale it from <see cref="PerFamily"/> so long runs lengthen it too.</param>
+    public static void Check(Property property, int cases) =>
+        FsCheck.Check.One(Config.QuickThrowOnFailure.WithMaxTest(cases).WithQuietOnSuccess(true), property);
+
     private static int Read()
     {
         string? text = Environment.GetEnvironmentVariable(EnvironmentVariable);
@@ -101,6 +107,27 @@ public static class HostileSeries
 
                 return mixed;
             })));
+
+    /// <summary>Single values, refused ones mixed in at about one in eight.</summary>
+    public static Gen<double> AnyValue { get; } = Gen.Frequency((7, AcceptedValue), (1, RefusedValue));
+
+    /// <summary>An arbitrary for <see cref="WithRefused"/> that shrinks by dropping values.</summary>
+    /// <param name="maxLength">The longest series.</param>
+    /// <returns>The arbitrary.</returns>
+    public static Arbitrary<double[]> ArbitraryWithRefused(int maxLength = 200) => Arb.From(WithRefused(maxLength), Shrink);
+
+    private static IEnumerable<double[]> Shrink(double[] values)
+    {
+        if (values.Length == 0)
+        {
+            yield break;
+        }
+
+        yield return values[..(values.Length / 2)];
+        yield return values[(values.Length / 2)..];
+        yield return values[..^1];
+        yield return values[1..];
+    }
 
     private static Gen<double[]> Segment { get; } = Gen.Frequency(
         (3, Gen.Choose(1, 80).Select(n => new double[n])),

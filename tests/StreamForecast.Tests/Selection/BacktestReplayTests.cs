@@ -58,9 +58,9 @@ public sealed class BacktestReplayTests
 
     [Fact]
     public void Replay_RandomHistoriesWithGaps_PublishesExactlyWhatTheEngineDoes() =>
-        PropertyRuns.Check(
+        PropertyCases.Check(
             Prop.ForAll(Gen.Choose(0, s_options.Length - 1).ToArbitrary(), History.ToArbitrary(), (which, history) => Same(s_options[which], history)),
-            cases: Math.Max(200, PropertyRuns.Cases / 20));
+            Math.Max(200, PropertyCases.PerFamily / 20));
 
     private static bool Same(SeriesOptions series, double[] history)
     {
