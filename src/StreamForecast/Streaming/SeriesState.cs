@@ -630,6 +630,41 @@ internal sealed class SeriesState<TKey>
         return new ForecastPoint(horizon, value, interval.Lower, interval.Upper);
     }
 
+    /// <summary>The series as it stands now (see <see cref="SeriesStatus{TKey}"/>). Allocates the status's episode list.</summary>
+    public SeriesStatus<TKey> Status()
+    {
+        int open = 0;
+        for (int i = 0; i < RuleCount; i++)
+        {
+            if (RuleAt(i).IsOpen)
+            {
+                open++;
+            }
+        }
+
+        var episodes = open == 0 ? [] : new DriftEpisodeStatus[open];
+        for (int i = 0, j = 0; i < RuleCount; i++)
+        {
+            DriftRule rule = RuleAt(i);
+            if (rule.IsOpen)
+            {
+                episodes[j++] = new DriftEpisodeStatus(i, _options.RuleLabels[i], rule.EpisodeId, rule.Direction, rule.Severity);
+            }
+        }
+
+        ForecastPoint next = Point(1);
+        return new SeriesStatus<TKey>(
+            _key,
+            _nextToClose,
+            _started ? _options.Calendar.StartOf(_nextToClose) : default,
+            _hasLastActual ? _lastActual : double.NaN,
+            next,
+            _options.Horizon == 1 ? next : Point(_options.Horizon),
+            ErrorSummary.Of(_model.Tracker),
+            _options.MethodLabel,
+            episodes);
+    }
+
     /// <summary>Writes the complete state (everything but the key and options, which the caller writes or re-resolves).</summary>
     public void Write(SnapshotPayloadWriter writer)
     {
