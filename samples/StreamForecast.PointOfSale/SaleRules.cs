@@ -15,6 +15,9 @@ public static class SaleRules
     /// <summary>The largest body of a batch request, in bytes (about 250 bytes per sale).</summary>
     public const int MaxBatchBytes = 128 * 1024;
 
+    /// <summary>How long a post waits for its sales to be logged before it is answered 503 (the input log normally takes milliseconds).</summary>
+    public static readonly TimeSpan MaxLogWait = TimeSpan.FromSeconds(5);
+
     /// <summary>The most units in one sale line.</summary>
     public const double MaxQuantity = 10_000;
 

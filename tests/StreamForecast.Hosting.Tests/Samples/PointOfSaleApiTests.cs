@@ -179,22 +179,3 @@ public sealed class PointOfSaleApiTests : IAsyncLifetime
     private static SaleEvent Sale(string id, double quantity) =>
         new("mill-lane", "rye-roll", s_now.AddHours(-2), quantity, id);
 }
-
-/// <summary>The sample's own smoke run: real Kestrel on a free loopback port, as CI runs it.</summary>
-public sealed class PointOfSaleSmokeTests
-{
-    [Fact]
-    public async Task RunAsync_OnLoopback_PrintsTheAcceptedSalesForecastsAndOpenAlert()
-    {
-        using var output = new StringWriter();
-
-        int exit = await SmokeRun.RunAsync(output);
-
-        string text = output.ToString();
-        Assert.Equal(0, exit);
-        Assert.Contains("504 sales accepted, 0 rejected", text, StringComparison.Ordinal);
-        Assert.Contains("HTTP 413 The request body is too large.", text, StringComparison.Ordinal);
-        Assert.Contains("GET /alerts: 1 open", text, StringComparison.Ordinal);
-        Assert.Contains("mill-lane/cinnamon-bun: CUSUM", text, StringComparison.Ordinal);
-    }
-}
