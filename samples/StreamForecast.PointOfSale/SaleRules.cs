@@ -70,6 +70,10 @@ public static class SaleRules
         {
             reasons.Add("saleId is required: the till's id of the sale line, 1 to 80 characters, so that a resent sale counts once.");
         }
+        else if (!IsWellFormed(sale.SaleId))
+        {
+            reasons.Add("saleId holds a control character or a broken character (an unpaired UTF-16 surrogate); it must be plain text.");
+        }
 
         if (reasons.Count == 0)
         {
@@ -77,6 +81,29 @@ public static class SaleRules
         }
 
         return reasons;
+    }
+
+    private static bool IsWellFormed(string text)
+    {
+        for (int i = 0; i < text.Length; i++)
+        {
+            char c = text[i];
+            if (char.IsControl(c))
+            {
+                return false;
+            }
+
+            if (char.IsHighSurrogate(c) && i + 1 < text.Length && char.IsLowSurrogate(text[i + 1]))
+            {
+                i++;
+            }
+            else if (char.IsSurrogate(c))
+            {
+                return false;
+            }
+        }
+
+        return true;
     }
 
     private static void CheckCode(string? code, string name, List<string> reasons)

@@ -159,9 +159,12 @@ public sealed partial class ForecastEngineService<TKey> : BackgroundService
         }
     }
 
-    /// <summary>Releases the checkpoint store (when the host created it) and the service's semaphore.</summary>
+    /// <summary>Releases the checkpoint store (when the host created it), the input log (if it was not released on stop) and the service's semaphores.</summary>
     public override void Dispose()
     {
+        // Normally released at the end of StopAsync; a host disposed without stopping still closes the log's connection.
+        _log?.DisposeAsync().AsTask().GetAwaiter().GetResult();
+
         if (_options.CheckpointStoreFactory is null)
         {
             (_store as IDisposable)?.Dispose();

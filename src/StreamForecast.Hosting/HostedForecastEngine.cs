@@ -78,6 +78,7 @@ public sealed class HostedForecastEngine<TKey>
     /// </param>
     /// <returns>A task that completes when the observation is taken (see above).</returns>
     /// <exception cref="ArgumentOutOfRangeException">The observation is invalid (a quantity that is not finite or beyond <see cref="NumericDomain.MaxMagnitude"/>, an event time too far ahead); nothing was logged or posted.</exception>
+    /// <exception cref="ArgumentException">With an input log: the key codec cannot write the key, or the event id is not well-formed text (an unpaired surrogate); nothing was logged or posted.</exception>
     /// <exception cref="InvalidOperationException">The engine has not started, or the host is stopping.</exception>
     /// <exception cref="IOException">The input log could not store it; it was not accepted.</exception>
     /// <remarks>
@@ -100,6 +101,7 @@ public sealed class HostedForecastEngine<TKey>
     /// <param name="cancellationToken">Stops waiting (see <see cref="PostAsync"/>).</param>
     /// <returns>A task that completes when the whole batch is taken.</returns>
     /// <exception cref="ArgumentOutOfRangeException">An observation is invalid; nothing of the batch was logged or posted.</exception>
+    /// <exception cref="ArgumentException">With an input log: a key or event id cannot be written to the log; nothing of the batch was logged or posted.</exception>
     /// <exception cref="InvalidOperationException">The engine has not started, or the host is stopping.</exception>
     /// <exception cref="IOException">The input log could not store the batch; none of it was accepted.</exception>
     /// <remarks>Thread-safe. An empty batch completes at once.</remarks>

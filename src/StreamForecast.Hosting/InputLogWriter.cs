@@ -73,7 +73,14 @@ internal sealed partial class InputLogWriter<TKey>
                 throw new ArgumentOutOfRangeException(nameof(observations), $"{where} is invalid: {problem}; nothing was posted.");
             }
 
-            records[i] = _codec.Encode(observations[i]);
+            try
+            {
+                records[i] = _codec.Encode(observations[i]);
+            }
+            catch (ArgumentException ex) when (observations.Length > 1)
+            {
+                throw new ArgumentException($"Observation {i} of the batch cannot be logged: {ex.Message} Nothing was posted.", nameof(observations), ex);
+            }
         }
 
         var pending = new PendingPost(observations, records);
