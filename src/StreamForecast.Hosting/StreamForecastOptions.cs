@@ -147,7 +147,12 @@ public sealed class StreamForecastCheckpointOptions
 /// durable; each checkpoint records the log position it accounts for, a start replays the log from the restored
 /// checkpoint's position, and the log is truncated behind the checkpoints.
 /// </summary>
-/// <remarks>Not thread-safe; read once at start.</remarks>
+/// <remarks>
+/// <para>Posts queued while one append is being made durable share the next append (group commit). While a
+/// checkpoint's snapshot is being taken (not while it is saved), logged observations wait to be posted to the engine,
+/// so every checkpoint holds exactly the log positions before its mark and a replay repeats nothing.</para>
+/// <para>Not thread-safe; read once at start.</para>
+/// </remarks>
 public sealed class StreamForecastInputLogOptions
 {
     /// <summary>The default for <see cref="MaxPendingPosts"/>: 10,000.</summary>
