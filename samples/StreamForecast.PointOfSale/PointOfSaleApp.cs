@@ -14,9 +14,13 @@ namespace StreamForecast.Samples.PointOfSale;
 /// shop and item, and the API serves the forecasts and the open drift alerts.
 /// </summary>
 /// <remarks>
-/// Guarding the endpoint: bodies are limited (413), batches are limited (400), every field is range-checked and a
-/// bad sale is refused with its reasons while the rest of its batch is taken; posting never waits for a full queue
-/// (503 with Retry-After instead), so one client's flood or malformed input cannot hold up the others.
+/// <para><b>Acknowledged means durable.</b> The host's input log is on (<c>StreamForecast:InputLog</c> in
+/// appsettings.json): a sale answered 2xx has been written to the log in the checkpoint file and survives a crash of
+/// the server; the next start restores the newest checkpoint and replays the log from it before serving.</para>
+/// <para>Guarding the endpoint: bodies are limited (413), batches are limited (400), every field is range-checked and a
+/// bad sale is refused with its reasons while the rest of its batch is taken; a post waits at most
+/// <see cref="SaleRules.MaxLogWait"/> for its sales to be logged (503 with Retry-After instead), so one client's flood
+/// or malformed input cannot hold up the others.</para>
 /// </remarks>
 public static class PointOfSaleApp
 {
@@ -79,7 +83,8 @@ public static class PointOfSaleApp
                 return TypedResults.ValidationProblem(new Dictionary<string, string[]> { ["sale"] = [.. reasons] }, title: "The sale was refused.");
             }
 
-            return engine.Engine.TryPost(observation) ? TypedResults.Accepted((string?)null, new BatchResult(1, [])) : Busy(request.HttpContext.Response);
+            return await TakeAsync(engine, [observation], time, request.HttpContext.Response, ct)
+                ?? TypedResults.Accepted((string?)null, new BatchResult(1, []));
         });
 
         app.MapPost("/sales/batch", async Task<IResult> (HttpRequest request, HostedForecastEngine<string> engine, TimeProvider time, CancellationToken ct) =>
@@ -100,10 +105,10 @@ public static class PointOfSaleApp
                 return Problem(StatusCodes.Status400BadRequest, "The batch length is out of range.", $"The batch has {batch.Sales.Count} sales; a batch has 1 to {SaleRules.MaxBatchLength}. Split larger batches.");
             }
 
-            // Each sale is checked on its own: the good ones are taken, each bad one is reported with its reasons.
+            // Each sale is checked on its own: the good ones are taken (logged together), each bad one is reported with its reasons.
             DateTimeOffset now = time.GetUtcNow();
             var rejected = new List<RejectedSale>();
-            int accepted = 0;
+            var good = new List<Observation<string>>(batch.Sales.Count);
             for (int i = 0; i < batch.Sales.Count; i++)
             {
                 List<string> reasons = SaleRules.Check(batch.Sales[i], now, out Observation<string> observation);
@@ -111,17 +116,18 @@ public static class PointOfSaleApp
                 {
                     rejected.Add(new RejectedSale(i, reasons));
                 }
-                else if (engine.Engine.TryPost(observation))
-                {
-                    accepted++;
-                }
                 else
                 {
-                    rejected.Add(new RejectedSale(i, ["The server is busy; resend this sale later (its saleId makes a resend safe)."]));
+                    good.Add(observation);
                 }
             }
 
-            return TypedResults.Ok(new BatchResult(accepted, rejected));
+            if (good.Count > 0 && await TakeAsync(engine, [.. good], time, request.HttpContext.Response, ct) is { } notTaken)
+            {
+                return notTaken;
+            }
+
+            return TypedResults.Ok(new BatchResult(good.Count, rejected));
         });
 
         app.MapGet("/shops/{shop}/forecasts", (string shop, SalesBoard board) => TypedResults.Ok(board.Forecasts(shop, null)));
@@ -132,6 +138,61 @@ public static class PointOfSaleApp
                 : TypedResults.Problem(statusCode: StatusCodes.Status404NotFound, title: "No forecast yet.", detail: $"No shop day of {shop}/{item} has closed yet."));
 
         app.MapGet("/alerts", (string? shop, SalesBoard board) => TypedResults.Ok(board.OpenAlerts(shop)));
+
+        app.MapGet("/status", async (HostedForecastEngine<string> engine, CancellationToken ct) =>
+        {
+            // Reading the series is queued behind every sale taken before this request, so the counters include them.
+            await engine.Engine.GetSeriesStatusAsync(ct);
+            EngineCounters c = engine.Engine.GetCounters();
+            EngineStart start = engine.Start;
+            return TypedResults.Ok(new ServerStatus(
+                start.SeriesRestored, start.ReplayFrom, start.LogRecordsReplayed, start.LogRecordsRefused, engine.PostedPosition,
+                c.Observations, c.Duplicates, c.Late, c.Restated, c.Rejected));
+        });
+    }
+
+    /// <summary>One line saying how the engine started: empty or restored, and how many logged sales were replayed.</summary>
+    /// <param name="start">The host's start report.</param>
+    /// <returns>The line.</returns>
+    public static string DescribeStart(EngineStart start)
+    {
+        ArgumentNullException.ThrowIfNull(start);
+        string restored = start.CheckpointLocation is null
+            ? "started empty (no checkpoint yet)"
+            : $"restored {start.SeriesRestored} series from the checkpoint at input position {start.ReplayFrom}";
+        return $"{restored}, then replayed {start.LogRecordsReplayed} logged sales ({start.LogRecordsRefused} refused)";
+    }
+
+    // Logs and posts the sales (all or none), waiting at most MaxLogWait; null when they were taken, else the answer.
+    private static async Task<IResult?> TakeAsync(HostedForecastEngine<string> engine, Observation<string>[] sales, TimeProvider time, HttpResponse response, CancellationToken ct)
+    {
+        using var wait = new CancellationTokenSource(SaleRules.MaxLogWait, time);
+        using var linked = CancellationTokenSource.CreateLinkedTokenSource(ct, wait.Token);
+        try
+        {
+            if (sales.Length == 1)
+            {
+                await engine.PostAsync(sales[0], linked.Token);
+            }
+            else
+            {
+                await engine.PostBatchAsync(sales, linked.Token);
+            }
+
+            return null;
+        }
+        catch (OperationCanceledException) when (!ct.IsCancellationRequested)
+        {
+            return Busy(response);
+        }
+        catch (IOException)
+        {
+            return Unavailable(response, "The sales could not be stored.", "The server could not write its input log; nothing of this request was taken. Resend it later (the saleId makes a resend safe).");
+        }
+        catch (InvalidOperationException)
+        {
+            return Unavailable(response, "The server is stopping.", "Nothing of this request was taken; resend it when the server is back (the saleId makes a resend safe).");
+        }
     }
 
     private static async Task<(T? Value, IResult? Problem)> ReadAsync<T>(HttpRequest request, int limit, CancellationToken ct)
@@ -181,10 +242,13 @@ public static class PointOfSaleApp
     private static ProblemHttpResult TooLarge(int limit) =>
         Problem(StatusCodes.Status413PayloadTooLarge, "The request body is too large.", $"This endpoint takes at most {limit:N0} bytes; split the sales into smaller batches.");
 
-    private static ProblemHttpResult Busy(HttpResponse response)
+    private static ProblemHttpResult Busy(HttpResponse response) =>
+        Unavailable(response, "The server is busy.", "The sales could not be logged in time; resend after a short wait (the saleId makes a resend safe: a sale taken twice counts once).");
+
+    private static ProblemHttpResult Unavailable(HttpResponse response, string title, string detail)
     {
         response.Headers.RetryAfter = "1";
-        return Problem(StatusCodes.Status503ServiceUnavailable, "The server is busy.", "The forecasting queue is full; resend after a short wait (the saleId makes a resend safe).");
+        return Problem(StatusCodes.Status503ServiceUnavailable, title, detail);
     }
 
     private static ProblemHttpResult Problem(int status, string title, string detail) =>

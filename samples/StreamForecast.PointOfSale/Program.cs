@@ -5,46 +5,68 @@ using Microsoft.AspNetCore.Hosting.Server.Features;
 using StreamForecast.Samples.PointOfSale;
 
 // The point-of-sale backend. `dotnet run` serves the API on the URL in appsettings.json until stopped;
-// `--smoke` starts it on a free loopback port, plays a few weeks of invented till traffic through real HTTP,
-// prints what the API answers, and stops (CI runs this).
+// `--smoke` runs the server as a child process on a free loopback port, plays a few weeks of invented till traffic
+// through real HTTP, restarts it, kills it by process id right after answering sales, restarts it again and checks
+// that every answered sale is counted (CI runs this).
 if (args.Contains("--smoke"))
 {
     return await SmokeRun.RunAsync(Console.Out);
 }
 
-WebApplication app = PointOfSaleApp.Build(args);
-await app.RunAsync();
+bool stopWhenInputCloses = args.Contains(ServerProcess.StopWhenInputClosesSwitch);
+WebApplication app = PointOfSaleApp.Build([.. args.Where(a => a != ServerProcess.StopWhenInputClosesSwitch)]);
+await app.StartAsync();
+string served = app.Services.GetRequiredService<IServer>().Features.Get<IServerAddressesFeature>()!.Addresses.First();
+Console.WriteLine($"{ServerProcess.ReadyPrefix}{served}; {PointOfSaleApp.DescribeStart(app.Services.GetRequiredService<StreamForecast.Hosting.HostedForecastEngine<string>>().Start)}");
+if (stopWhenInputCloses)
+{
+    // Run by a parent process (the smoke run, the tests): closing standard input asks for a graceful stop.
+    _ = Task.Run(async () =>
+    {
+        await Console.In.ReadToEndAsync();
+        app.Lifetime.StopApplication();
+    });
+}
+
+await app.WaitForShutdownAsync();
 return 0;
 
 namespace StreamForecast.Samples.PointOfSale
 {
-    /// <summary>The bounded demonstration run: the API on a loopback port and a client playing invented till traffic.</summary>
+    /// <summary>
+    /// The bounded demonstration run: the server as a child process on a loopback port, a client playing invented till
+    /// traffic, then the crash drill (<see cref="CrashDrill"/>): restart, kill by process id, restart, every answered sale counted.
+    /// </summary>
     public static class SmokeRun
     {
         /// <summary>Runs the demonstration and writes what the API answered.</summary>
         /// <param name="output">Where to write.</param>
         /// <returns>0 on success.</returns>
+        /// <exception cref="InvalidOperationException">A check of the crash drill failed.</exception>
         public static async Task<int> RunAsync(TextWriter output)
         {
             string data = Path.Combine(Path.GetTempPath(), "streamforecast-pos-" + Guid.NewGuid().ToString("N"));
-            WebApplication app = PointOfSaleApp.Build(
-            [
-                "--urls=http://127.0.0.1:0",
-                "--StreamForecast:Checkpoints:File=" + Path.Combine(data, "checkpoints.db"),
-                "--Logging:LogLevel:Default=Warning",
-            ]);
+            Directory.CreateDirectory(data);
+            string file = Path.Combine(data, "point-of-sale.db");
+            string server = typeof(SmokeRun).Assembly.Location;
             try
             {
-                await app.StartAsync();
-                string address = app.Services.GetRequiredService<IServer>().Features.Get<IServerAddressesFeature>()!.Addresses.First();
-                using var http = new HttpClient { BaseAddress = new Uri(address) };
-                await PlayAsync(http, output);
-                await app.StopAsync();
+                List<ItemForecast> before;
+                await using (ServerProcess first = await ServerProcess.StartAsync(server, file, CrashDrill.StartTimeout))
+                {
+                    output.WriteLine($"server 1 (PID {first.Id}): {first.StartReport}");
+                    using var http = new HttpClient { BaseAddress = first.Address };
+                    await PlayAsync(http, output);
+                    before = (await http.GetFromJsonAsync<List<ItemForecast>>("/shops/mill-lane/forecasts"))!;
+                    int exit = await first.StopAsync(TimeSpan.FromSeconds(30));
+                    output.WriteLine($"server 1 stopped (exit code {exit}); its on-stop checkpoint holds every sale it took");
+                }
+
+                await CrashDrill.RunAsync(server, file, before, output);
                 return 0;
             }
             finally
             {
-                await app.DisposeAsync();
                 Directory.Delete(data, recursive: true);
             }
         }

@@ -13,7 +13,7 @@ public sealed record SaleEvent(string? Shop, string? Item, DateTimeOffset? SoldA
 public sealed record SaleBatch(IReadOnlyList<SaleEvent>? Sales);
 
 /// <summary>What happened to a batch: how many sales were taken and why each other one was not.</summary>
-/// <param name="Accepted">Sales queued for forecasting.</param>
+/// <param name="Accepted">Sales taken: logged durably and queued for forecasting (they survive a crash of the server).</param>
 /// <param name="Rejected">The sales not taken, by their index in the batch, with the reasons.</param>
 public sealed record BatchResult(int Accepted, IReadOnlyList<RejectedSale> Rejected);
 
@@ -48,5 +48,23 @@ public sealed record ItemForecast(
 /// <param name="EpisodeId">The episode's id (stable while it is open).</param>
 /// <param name="Direction">UnderForecast (selling more than forecast) or OverForecast.</param>
 /// <param name="Severity">Warning or Critical.</param>
-/// <param name="Since">The shop day whose close raised it.</param>
-public sealed record OpenAlert(string Shop, string Item, string Rule, long EpisodeId, string Direction, string Severity, DateOnly Since);
+/// <param name="Since">
+/// The shop day whose close raised it; null for an episode that was already open when the server last started (the
+/// restored state holds the episode, not the day it was raised).
+/// </param>
+public sealed record OpenAlert(string Shop, string Item, string Rule, long EpisodeId, string Direction, string Severity, DateOnly? Since);
+
+/// <summary>What the server restored when it started and what its engine has counted since (<c>GET /status</c>).</summary>
+/// <param name="RestoredSeries">Series restored from the checkpoint at the start.</param>
+/// <param name="CheckpointPosition">The input position of that checkpoint (0 when the server started empty).</param>
+/// <param name="ReplayedSales">Sales replayed from the input log at the start (acknowledged after that checkpoint).</param>
+/// <param name="RefusedOnReplay">Of those, sales the engine refused at its door (each logged with its position).</param>
+/// <param name="LoggedSales">The input log position: every sale before it is logged and taken by the engine.</param>
+/// <param name="Counted">Sales the engine has counted since the start (replayed ones included): added to their day, or counted as late.</param>
+/// <param name="Duplicates">Resent sales ignored because their sale id was already counted (not in <paramref name="Counted"/>).</param>
+/// <param name="Late">Of <paramref name="Counted"/>, sales too late to restate their day (counted, not added to any day).</param>
+/// <param name="Restated">Of <paramref name="Counted"/>, late sales that restated a closed day.</param>
+/// <param name="Rejected">Sales the engine refused inside (a day's total out of range, the series limit reached), each also reported as a fault (not in <paramref name="Counted"/>).</param>
+public sealed record ServerStatus(
+    int RestoredSeries, long CheckpointPosition, long ReplayedSales, long RefusedOnReplay, long LoggedSales,
+    long Counted, long Duplicates, long Late, long Restated, long Rejected);

@@ -15,6 +15,9 @@ public static class SaleRules
     /// <summary>The largest body of a batch request, in bytes (about 250 bytes per sale).</summary>
     public const int MaxBatchBytes = 128 * 1024;
 
+    /// <summary>How long a post waits for its sales to be logged before it is answered 503 (the input log normally takes milliseconds).</summary>
+    public static readonly TimeSpan MaxLogWait = TimeSpan.FromSeconds(5);
+
     /// <summary>The most units in one sale line.</summary>
     public const double MaxQuantity = 10_000;
 
@@ -67,6 +70,10 @@ public static class SaleRules
         {
             reasons.Add("saleId is required: the till's id of the sale line, 1 to 80 characters, so that a resent sale counts once.");
         }
+        else if (!IsWellFormed(sale.SaleId))
+        {
+            reasons.Add("saleId holds a control character or a broken character (an unpaired UTF-16 surrogate); it must be plain text.");
+        }
 
         if (reasons.Count == 0)
         {
@@ -74,6 +81,29 @@ public static class SaleRules
         }
 
         return reasons;
+    }
+
+    private static bool IsWellFormed(string text)
+    {
+        for (int i = 0; i < text.Length; i++)
+        {
+            char c = text[i];
+            if (char.IsControl(c))
+            {
+                return false;
+            }
+
+            if (char.IsHighSurrogate(c) && i + 1 < text.Length && char.IsLowSurrogate(text[i + 1]))
+            {
+                i++;
+            }
+            else if (char.IsSurrogate(c))
+            {
+                return false;
+            }
+        }
+
+        return true;
     }
 
     private static void CheckCode(string? code, string name, List<string> reasons)

@@ -8,12 +8,15 @@ namespace StreamForecast.Samples.PointOfSale;
 /// <summary>
 /// The current view the API serves: the latest forecast of each shop and item and the drift alerts now open. It
 /// subscribes to the engine's push streams when the host starts (each with its own buffer, so reading the board never
-/// slows ingestion).
+/// slows ingestion), then reads what the engine already holds, so that after a restart the restored series are served
+/// before any day closes again.
 /// </summary>
 public sealed class SalesBoard(HostedForecastEngine<string> engine, TimeZoneInfo zone) : IHostedService, IDisposable
 {
-    private readonly ConcurrentDictionary<string, ForecastUpdate<string>> _latest = new(StringComparer.Ordinal);
-    private readonly ConcurrentDictionary<(string Key, int Rule), DriftAlert<string>> _open = new();
+    private readonly ConcurrentDictionary<string, Entry> _latest = new(StringComparer.Ordinal);
+    private readonly Lock _alertGate = new();
+    private readonly Dictionary<(string Key, int Rule), OpenAlert> _open = [];
+    private readonly HashSet<(string Key, int Rule)> _alertsSeen = [];
     private IDisposable? _forecasts;
     private IDisposable? _alerts;
 
@@ -24,17 +27,11 @@ public sealed class SalesBoard(HostedForecastEngine<string> engine, TimeZoneInfo
     public List<ItemForecast> Forecasts(string shop, string? item)
     {
         var list = new List<ItemForecast>();
-        foreach (ForecastUpdate<string> u in _latest.Values)
+        foreach (Entry e in _latest.Values)
         {
-            (string s, string i) = Split(u.Key);
-            if (s == shop && (item is null || i == item))
+            if (e.View.Shop == shop && (item is null || e.View.Item == item))
             {
-                list.Add(new ItemForecast(
-                    s, i, Day(u.PeriodStart), u.Actual,
-                    u.Next.IsValid ? Rounded(u.Next.Value, 1) : null,
-                    Rounded(u.Next.Lower, 1),
-                    Rounded(u.Next.Upper, 1),
-                    u.Method, Rounded(u.Errors.Mad, 2), Rounded(u.Errors.TrackingSignal, 2)));
+                list.Add(e.View);
             }
         }
 
@@ -48,12 +45,14 @@ public sealed class SalesBoard(HostedForecastEngine<string> engine, TimeZoneInfo
     public List<OpenAlert> OpenAlerts(string? shop)
     {
         var list = new List<OpenAlert>();
-        foreach (DriftAlert<string> a in _open.Values)
+        lock (_alertGate)
         {
-            (string s, string i) = Split(a.Key);
-            if (shop is null || s == shop)
+            foreach (OpenAlert a in _open.Values)
             {
-                list.Add(new OpenAlert(s, i, a.RuleName, a.Transition.EpisodeId, a.Transition.Direction.ToString(), a.Transition.Severity.ToString(), Day(a.PeriodStart)));
+                if (shop is null || a.Shop == shop)
+                {
+                    list.Add(a);
+                }
             }
         }
 
@@ -66,18 +65,51 @@ public sealed class SalesBoard(HostedForecastEngine<string> engine, TimeZoneInfo
     {
         ForecastEngine<string> e = await engine.WaitUntilStartedAsync(cancellationToken);
         _forecasts = e.Forecasts.Subscribe(new Sink<ForecastUpdate<string>>(u =>
-            _latest.AddOrUpdate(u.Key, u, (_, old) => u.Period >= old.Period ? u : old)));
+        {
+            (string shop, string item) = Split(u.Key);
+            Keep(u.Key, new Entry(u.Period, View(shop, item, Day(u.PeriodStart), u.Actual, u.Next, u.Method, u.Errors)), updateWinsTie: true);
+        }));
         _alerts = e.Alerts.Subscribe(new Sink<DriftAlert<string>>(a =>
         {
-            if (a.Transition.Kind == DriftTransitionKind.Cleared)
+            lock (_alertGate)
             {
-                _open.TryRemove((a.Key, a.RuleIndex), out _);
-            }
-            else
-            {
-                _open[(a.Key, a.RuleIndex)] = a;
+                _alertsSeen.Add((a.Key, a.RuleIndex));
+                if (a.Transition.Kind == DriftTransitionKind.Cleared)
+                {
+                    _open.Remove((a.Key, a.RuleIndex));
+                }
+                else
+                {
+                    (string shop, string item) = Split(a.Key);
+                    _open[(a.Key, a.RuleIndex)] = new OpenAlert(
+                        shop, item, a.RuleName, a.Transition.EpisodeId, a.Transition.Direction.ToString(), a.Transition.Severity.ToString(), Day(a.PeriodStart));
+                }
             }
         }));
+
+        // After a restart no day has closed since the restore, so nothing has been published yet: read what the engine
+        // holds (restored and replayed). Anything published meanwhile is newer, or the same day, and wins.
+        foreach (SeriesStatus<string> s in await e.GetSeriesStatusAsync(cancellationToken))
+        {
+            (string shop, string item) = Split(s.Key);
+            if (!double.IsNaN(s.LastActual) && s.OpenPeriodStart != default)
+            {
+                DateOnly lastClosed = Day(s.OpenPeriodStart).AddDays(-1);
+                Keep(s.Key, new Entry(s.OpenPeriod - 1, View(shop, item, lastClosed, s.LastActual, s.Next, s.Method, s.Errors)), updateWinsTie: false);
+            }
+
+            lock (_alertGate)
+            {
+                foreach (DriftEpisodeStatus episode in s.OpenEpisodes)
+                {
+                    if (!_alertsSeen.Contains((s.Key, episode.RuleIndex)))
+                    {
+                        _open.TryAdd((s.Key, episode.RuleIndex), new OpenAlert(
+                            shop, item, episode.RuleName, episode.EpisodeId, episode.Direction.ToString(), episode.Severity.ToString(), Since: null));
+                    }
+                }
+            }
+        }
     }
 
     /// <inheritdoc/>
@@ -90,6 +122,14 @@ public sealed class SalesBoard(HostedForecastEngine<string> engine, TimeZoneInfo
         _alerts?.Dispose();
     }
 
+    private static ItemForecast View(string shop, string item, DateOnly lastClosedDay, double sold, ForecastPoint next, string method, ErrorSummary errors) =>
+        new(
+            shop, item, lastClosedDay, sold,
+            next.IsValid ? Rounded(next.Value, 1) : null,
+            Rounded(next.Lower, 1),
+            Rounded(next.Upper, 1),
+            method, Rounded(errors.Mad, 2), Rounded(errors.TrackingSignal, 2));
+
     /// <summary>A statistic for JSON: rounded when it is a number, null when it is undefined (NaN) or infinite.</summary>
     private static double? Rounded(double value, int digits) => double.IsFinite(value) ? Math.Round(value, digits) : null;
 
@@ -99,7 +139,12 @@ public sealed class SalesBoard(HostedForecastEngine<string> engine, TimeZoneInfo
         return (key[..slash], key[(slash + 1)..]);
     }
 
+    private void Keep(string key, Entry entry, bool updateWinsTie) =>
+        _latest.AddOrUpdate(key, entry, (_, old) => entry.Period > old.Period || (updateWinsTie && entry.Period == old.Period) ? entry : old);
+
     private DateOnly Day(DateTimeOffset periodStart) => DateOnly.FromDateTime(TimeZoneInfo.ConvertTime(periodStart, zone).DateTime);
+
+    private readonly record struct Entry(long Period, ItemForecast View);
 
     private sealed class Sink<T>(Action<T> onNext) : IObserver<T>
     {

@@ -1,3 +1,4 @@
+using System.Globalization;
 using Microsoft.Extensions.Hosting;
 using Microsoft.Extensions.Logging;
 using Microsoft.Extensions.Options;
@@ -17,9 +18,17 @@ namespace StreamForecast.Hosting;
 /// <para><b>Start.</b> A store that holds checkpoints, none usable, or one that does not fit the configured series
 /// options fails the host's start (an <see cref="InvalidDataException"/> with the reasons) rather than silently
 /// starting empty and losing state.</para>
-/// <para><b>Stop.</b> Producers registered after this service are stopped before it. It takes the on-stop checkpoint
-/// (queued behind everything posted, so it covers it), completes the engine and waits for the queues to drain and
-/// subscribers to be told, within the host's shutdown timeout.</para>
+/// <para><b>Input log.</b> When one is configured (<see cref="StreamForecastOptions{TKey}.InputLog"/>), the start
+/// restores the newest checkpoint, then replays the log from the checkpoint's position into the engine, and only then
+/// hands the engine out: an observation acknowledged before a crash is in the engine before anything is served. A log
+/// that no longer holds the checkpoint's position (truncated past it) or ends before it (another file) fails the start
+/// with an <see cref="InvalidDataException"/> saying which positions are missing. After each checkpoint the log is
+/// truncated before the oldest of the last <see cref="StreamForecastCheckpointOptions.RetainCount"/> checkpoint
+/// positions this host saved or restored, so falling back to an older checkpoint still finds its input.</para>
+/// <para><b>Stop.</b> Producers registered after this service are stopped before it. It stops taking posts through the
+/// input log and waits until everything queued there is logged and posted, takes the on-stop checkpoint (queued behind
+/// everything posted, so it covers it), completes the engine and waits for the queues to drain and subscribers to be
+/// told, within the host's shutdown timeout.</para>
 /// <para>Registered by <see cref="StreamForecastServiceCollectionExtensions.AddStreamForecast{TKey}"/>. Thread-safe.</para>
 /// </remarks>
 public sealed partial class ForecastEngineService<TKey> : BackgroundService
@@ -31,12 +40,16 @@ public sealed partial class ForecastEngineService<TKey> : BackgroundService
     private readonly TimeProvider _time;
     private readonly ILogger _logger;
     private readonly SemaphoreSlim _checkpointGate = new(1, 1);
+    private readonly SemaphoreSlim _postGate = new(1, 1);
+    private readonly Queue<long> _checkpointPositions = new();
     private ForecastEngine<TKey>? _engine;
     private ICheckpointStore? _store;
     private ISnapshotKeyCodec<TKey>? _codec;
     private IDisposable? _alertLog;
     private IDisposable? _faultLog;
     private PeriodicTimer? _timer;
+    private IInputLog? _log;
+    private InputLogWriter<TKey>? _writer;
 
     /// <summary>Creates the service (the host does this).</summary>
     /// <param name="options">The validated settings.</param>
@@ -73,6 +86,12 @@ public sealed partial class ForecastEngineService<TKey> : BackgroundService
         {
             LogStartFailed(_logger, ex);
             _handle.SetStartFailed(ex);
+            if (_engine is null && _log is not null)
+            {
+                await _log.DisposeAsync().ConfigureAwait(false);
+                _log = null;
+            }
+
             throw;
         }
 
@@ -91,6 +110,18 @@ public sealed partial class ForecastEngineService<TKey> : BackgroundService
         if (engine is null)
         {
             return;
+        }
+
+        if (_writer is not null)
+        {
+            try
+            {
+                await _writer.CompleteAsync(cancellationToken).ConfigureAwait(false);
+            }
+            catch (OperationCanceledException)
+            {
+                LogLogDrainTimedOut(_logger);
+            }
         }
 
         if (_store is not null && _options.Checkpoints.OnStop)
@@ -121,18 +152,26 @@ public sealed partial class ForecastEngineService<TKey> : BackgroundService
         {
             _alertLog?.Dispose();
             _faultLog?.Dispose();
+            if (_log is not null)
+            {
+                await _log.DisposeAsync().ConfigureAwait(false);
+            }
         }
     }
 
-    /// <summary>Releases the checkpoint store (when the host created it) and the service's semaphore.</summary>
+    /// <summary>Releases the checkpoint store (when the host created it), the input log (if it was not released on stop) and the service's semaphores.</summary>
     public override void Dispose()
     {
+        // Normally released at the end of StopAsync; a host disposed without stopping still closes the log's connection.
+        _log?.DisposeAsync().AsTask().GetAwaiter().GetResult();
+
         if (_options.CheckpointStoreFactory is null)
         {
             (_store as IDisposable)?.Dispose();
         }
 
         _checkpointGate.Dispose();
+        _postGate.Dispose();
         base.Dispose();
     }
 
@@ -221,8 +260,104 @@ public sealed partial class ForecastEngineService<TKey> : BackgroundService
 
         _alertLog = engine.Alerts.Subscribe(new AlertLogger(this));
         _faultLog = engine.Faults.Subscribe(new FaultLogger(this));
+        long posted = start.ReplayFrom;
+        if (_options.HasInputLog)
+        {
+            try
+            {
+                (start, posted) = await ReplayInputLogAsync(engine, start, cancellationToken).ConfigureAwait(false);
+            }
+            catch
+            {
+                _alertLog.Dispose();
+                _faultLog.Dispose();
+                await engine.DisposeAsync().ConfigureAwait(false);
+                throw;
+            }
+
+            _writer = new InputLogWriter<TKey>(
+                _log!, new ObservationRecordCodec<TKey>(_codec!), engine, posted, _options.InputLog.MaxPendingPosts, _postGate, _handle.SetLogPosition, _logger);
+            _checkpointPositions.Enqueue(start.ReplayFrom);
+        }
+
         _engine = engine;
-        _handle.SetStarted(engine, start, _store is null ? null : TakeCheckpointAsync);
+        _handle.SetStarted(engine, start, posted, _store is null ? null : TakeCheckpointAsync, _writer);
+    }
+
+    private async Task<(EngineStart Start, long End)> ReplayInputLogAsync(ForecastEngine<TKey> engine, EngineStart start, CancellationToken cancellationToken)
+    {
+        StreamForecastInputLogOptions settings = _options.InputLog;
+        _log = _options.InputLogFactory?.Invoke(_services)
+            ?? new SqliteInputLog(
+                string.IsNullOrWhiteSpace(settings.File) ? _options.Checkpoints.File! : settings.File,
+                new SqliteInputLogOptions(settings.StreamName ?? string.Empty));
+        long from = start.ReplayFrom;
+        string source = start.CheckpointLocation ?? "no checkpoint (a first start)";
+        InputLogRange range = await _log.GetRangeAsync(cancellationToken).ConfigureAwait(false);
+        if (from < range.Start)
+        {
+            throw new InvalidDataException(string.Create(CultureInfo.InvariantCulture,
+                $"The input log holds positions {range.Start} to {range.End} (exclusive), but the engine restored from {source} needs the input from position {from}: positions {from} to {range.Start - 1} were truncated (was a newer checkpoint skipped as damaged, or the checkpoints deleted?). Those observations cannot be replayed. Restore the checkpoint file from a copy, or move the checkpoint and log files away to start empty."));
+        }
+
+        if (from > range.End)
+        {
+            throw new InvalidDataException(string.Create(CultureInfo.InvariantCulture,
+                $"The engine restored from {source} accounts for the input up to position {from}, but the input log ends at position {range.End}: it is not the log the checkpoint was taken with (a replaced or older file?). New observations would get positions the checkpoint claims to hold. Use the matching log, or move both away to start empty."));
+        }
+
+        var codec = new ObservationRecordCodec<TKey>(_codec!);
+        long replayed = 0, refused = 0, end = from;
+        await foreach (InputLogRecord record in _log.ReadAsync(from, cancellationToken).ConfigureAwait(false))
+        {
+            Observation<TKey> observation;
+            try
+            {
+                observation = codec.Decode(record.Payload.Span);
+            }
+            catch (InvalidDataException ex)
+            {
+                throw new InvalidDataException(string.Create(CultureInfo.InvariantCulture, $"The input log record at position {record.Position} cannot be read: {ex.Message}"), ex);
+            }
+
+            try
+            {
+                await engine.PostAsync(observation, cancellationToken).ConfigureAwait(false);
+            }
+            catch (ArgumentOutOfRangeException ex)
+            {
+                refused++;
+                LogReplayRefused(_logger, record.Position, ex.Message);
+            }
+
+            replayed++;
+            end = record.Position + 1;
+        }
+
+        end = Math.Max(end, range.End);
+        LogReplayed(_logger, replayed, from, end, refused);
+        return (start with { LogRecordsReplayed = replayed, LogRecordsRefused = refused }, end);
+    }
+
+    private async Task TruncateInputLogAsync(long position, CancellationToken cancellationToken)
+    {
+        // Keep the input of every checkpoint the store may fall back to: truncate before the oldest retained position.
+        _checkpointPositions.Enqueue(position);
+        while (_checkpointPositions.Count > Math.Max(1, _options.Checkpoints.RetainCount))
+        {
+            _checkpointPositions.Dequeue();
+        }
+
+        long before = _checkpointPositions.Peek();
+        try
+        {
+            await _log!.TruncateAsync(before, cancellationToken).ConfigureAwait(false);
+            LogTruncated(_logger, before);
+        }
+        catch (Exception ex) when (ex is not OperationCanceledException)
+        {
+            LogTruncateFailed(_logger, before, ex);
+        }
     }
 
     private async Task<CheckpointRecord> TakeCheckpointAsync(CancellationToken cancellationToken)
@@ -231,14 +366,31 @@ public sealed partial class ForecastEngineService<TKey> : BackgroundService
         await _checkpointGate.WaitAsync(cancellationToken).ConfigureAwait(false);
         try
         {
-            // Read the mark before queueing the snapshot: everything posted before the mark is queued ahead of it.
-            long position = _handle.PostedPosition;
+            // Read the mark before queueing the snapshot: everything posted before the mark is queued ahead of it. The
+            // input log's writer posts a whole group and moves the mark under the post gate, so with a log the snapshot
+            // holds exactly the observations before the mark (posting pauses for the snapshot, not for the save).
+            long position;
             using var buffer = new MemoryStream();
-            await engine.SnapshotAsync(buffer, _codec!, position, cancellationToken).ConfigureAwait(false);
+            await _postGate.WaitAsync(cancellationToken).ConfigureAwait(false);
+            try
+            {
+                position = _handle.PostedPosition;
+                await engine.SnapshotAsync(buffer, _codec!, position, cancellationToken).ConfigureAwait(false);
+            }
+            finally
+            {
+                _postGate.Release();
+            }
+
             await _store!.SaveAsync(buffer.GetBuffer().AsMemory(0, (int)buffer.Length), position, cancellationToken).ConfigureAwait(false);
             var record = new CheckpointRecord(position, _time.GetUtcNow(), buffer.Length);
             _handle.SetCheckpoint(record);
             LogCheckpointSaved(_logger, position, buffer.Length, engine.SeriesCount);
+            if (_log is not null)
+            {
+                await TruncateInputLogAsync(position, cancellationToken).ConfigureAwait(false);
+            }
+
             return record;
         }
         finally
@@ -293,6 +445,21 @@ public sealed partial class ForecastEngineService<TKey> : BackgroundService
 
     [LoggerMessage(EventId = 15, Level = LogLevel.Error, Message = "Internal error in the forecast engine on {SeriesKey}, period {Period}: {FaultMessage}")]
     private static partial void LogInternalError(ILogger logger, string seriesKey, long period, string faultMessage);
+
+    [LoggerMessage(EventId = 16, Level = LogLevel.Information, Message = "Replayed {Replayed} observations from the input log (positions {From} to {End}, exclusive) before serving; {Refused} refused.")]
+    private static partial void LogReplayed(ILogger logger, long replayed, long from, long end, long refused);
+
+    [LoggerMessage(EventId = 17, Level = LogLevel.Warning, Message = "The engine refused the logged observation at input position {Position} during the replay: {Reason}")]
+    private static partial void LogReplayRefused(ILogger logger, long position, string reason);
+
+    [LoggerMessage(EventId = 18, Level = LogLevel.Debug, Message = "Input log truncated before position {Position}.")]
+    private static partial void LogTruncated(ILogger logger, long position);
+
+    [LoggerMessage(EventId = 19, Level = LogLevel.Warning, Message = "The input log could not be truncated before position {Position}; it keeps growing until a later checkpoint truncates it.")]
+    private static partial void LogTruncateFailed(ILogger logger, long position, Exception exception);
+
+    [LoggerMessage(EventId = 20, Level = LogLevel.Warning, Message = "The host's shutdown timeout passed before the posts waiting for the input log were logged; those not logged were not acknowledged.")]
+    private static partial void LogLogDrainTimedOut(ILogger logger);
 
     private sealed class AlertLogger(ForecastEngineService<TKey> owner) : IObserver<DriftAlert<TKey>>
     {

@@ -53,6 +53,42 @@ public sealed class StreamForecastOptionsValidator<TKey> : IValidateOptions<Stre
             failures.Add($"StreamForecast checkpoints are configured but keys of type {typeof(TKey).Name} have no built-in codec: set options.KeyCodec to an ISnapshotKeyCodec<{typeof(TKey).Name}>.");
         }
 
+        StreamForecastInputLogOptions log = options.InputLog ?? new StreamForecastInputLogOptions();
+        if (options.HasInputLog)
+        {
+            if (!options.HasCheckpointStore)
+            {
+                failures.Add("StreamForecast:InputLog needs checkpoints: set StreamForecast:Checkpoints:File (or a CheckpointStoreFactory); without checkpoints the log is never truncated and every start replays all of it.");
+            }
+
+            if (options.FullMode != IngestionFullMode.Wait)
+            {
+                failures.Add($"StreamForecast:InputLog needs StreamForecast:FullMode Wait (it is {options.FullMode}): an observation acknowledged as logged must never be dropped by a full queue.");
+            }
+
+            if (log.MaxPendingPosts is < 1 or > 1_000_000)
+            {
+                failures.Add($"StreamForecast:InputLog:MaxPendingPosts is {log.MaxPendingPosts}; between 1 and 1,000,000 posts can wait to be logged.");
+            }
+
+            if (options.InputLogFactory is null && string.IsNullOrWhiteSpace(log.File) && string.IsNullOrWhiteSpace(options.Checkpoints?.File))
+            {
+                failures.Add("StreamForecast:InputLog:Enabled is true but no file is set: set StreamForecast:InputLog:File or StreamForecast:Checkpoints:File (the log then shares it).");
+            }
+
+            if (options.InputLogFactory is null)
+            {
+                try
+                {
+                    _ = new Sqlite.SqliteInputLogOptions(log.StreamName ?? string.Empty);
+                }
+                catch (ArgumentException ex)
+                {
+                    failures.Add($"StreamForecast:InputLog:StreamName is invalid: {ex.Message}");
+                }
+            }
+        }
+
         return failures.Count == 0 ? ValidateOptionsResult.Success : ValidateOptionsResult.Fail(failures);
     }
 

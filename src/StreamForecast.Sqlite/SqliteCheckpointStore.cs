@@ -37,7 +37,9 @@ namespace StreamForecast.Sqlite;
 /// file's write lock one at a time; a store that finds the file locked waits for it (SQLite's busy timeout and
 /// Microsoft.Data.Sqlite's retries, 30 seconds in all) instead of failing, and only a lock held longer than that
 /// surfaces as a <see cref="SqliteException"/> (SQLITE_BUSY). SQLite's file locks are not reliable on network file
-/// systems: keep a shared file on a local disk. Two stores given the same stream name share that stream:
+/// systems: keep a shared file on a local disk. An input log (<see cref="SqliteInputLog"/>) may share the file too: its
+/// tables sit beside <c>checkpoints</c>, it takes the same in-process writer gate, and this store ignores its tables.
+/// Two stores given the same stream name share that stream:
 /// <see cref="SaveAsync"/> is then last-writer-wins, and <see cref="TrySaveAsync"/> detects the other writer.</para>
 /// <para><b>Thread safety.</b> Thread-safe: within one instance saves run one at a time and loads run alongside them,
 /// each on its own connection; the saves of every instance on the same file in one process queue on one in-process
@@ -52,24 +54,12 @@ public sealed class SqliteCheckpointStore : IConditionalCheckpointStore, IDispos
     /// <summary>The value of SQLite's <c>application_id</c> header field in a checkpoint file (the ASCII bytes "SFcp").</summary>
     public const int ApplicationId = 0x53466370;
 
-    // How long a statement waits for another connection's lock before failing with SQLITE_BUSY.
-    private const int LockWaitSeconds = 30;
-
-    // SQLite result codes (https://www.sqlite.org/rescode.html) for a lock held by another connection.
-    private const int SqliteBusy = 5;
-    private const int SqliteLocked = 6;
-
     private readonly SqliteCheckpointStoreOptions _options;
-    // One writer gate per database file and process, shared by every store on that file: writers of one process queue
-    // here, in order, instead of meeting on SQLite's file lock, whose busy handler sleeps (1 ms, then longer) between
-    // retries. Other processes still meet on the file lock. Never disposed: a file's gate lives as long as the process.
-    private static readonly System.Collections.Concurrent.ConcurrentDictionary<string, SemaphoreSlim> s_fileGates = new(StringComparer.Ordinal);
+    private readonly SqliteFile _file;
     private readonly SemaphoreSlim _gate;
     private int _disposed;
-    private readonly string _connectionString;
     private readonly string _locationPrefix;
     private readonly string _streamDescription;
-    private volatile bool _schemaReady;
 
     /// <summary>Creates a store over a database file, which is created (with its directory) when first used if missing.</summary>
     /// <param name="databasePath">The database file; it may be shared with other stores that use other streams.</param>
@@ -80,20 +70,11 @@ public sealed class SqliteCheckpointStore : IConditionalCheckpointStore, IDispos
         ArgumentException.ThrowIfNullOrWhiteSpace(databasePath);
         DatabasePath = Path.GetFullPath(databasePath);
         _options = options ?? SqliteCheckpointStoreOptions.Default;
-        _gate = s_fileGates.GetOrAdd(DatabasePath, static _ => new SemaphoreSlim(1, 1));
+        _file = new SqliteFile(DatabasePath);
+        _gate = _file.WriterGate;
         string stream = _options.StreamName;
         _locationPrefix = stream.Length == 0 ? DatabasePath : $"{DatabasePath}[{stream}]";
         _streamDescription = stream.Length == 0 ? $"'{DatabasePath}'" : $"stream '{stream}' of '{DatabasePath}'";
-
-        // No pooling: a checkpoint is written every few minutes, and an unpooled connection releases the file when closed.
-        // DefaultTimeout bounds Microsoft.Data.Sqlite's own retries on SQLITE_BUSY, including the implicit BEGIN and COMMIT.
-        _connectionString = new SqliteConnectionStringBuilder
-        {
-            DataSource = DatabasePath,
-            Mode = SqliteOpenMode.ReadWriteCreate,
-            Pooling = false,
-            DefaultTimeout = LockWaitSeconds,
-        }.ToString();
     }
 
     /// <summary>The full path of the database file.</summary>
@@ -186,7 +167,7 @@ public sealed class SqliteCheckpointStore : IConditionalCheckpointStore, IDispos
         var rejected = new List<CheckpointRejection>();
         try
         {
-            using SqliteConnection connection = await OpenAsync(cancellationToken).ConfigureAwait(false);
+            using SqliteConnection connection = await _file.OpenAsync(cancellationToken).ConfigureAwait(false);
             using SqliteCommand select = SelectNewestFirst(connection, transaction: null);
             using SqliteDataReader reader = await select.ExecuteReaderAsync(cancellationToken).ConfigureAwait(false);
             while (await reader.ReadAsync(cancellationToken).ConfigureAwait(false))
@@ -200,7 +181,7 @@ public sealed class SqliteCheckpointStore : IConditionalCheckpointStore, IDispos
                 rejected.Add(new CheckpointRejection(location, problem));
             }
         }
-        catch (SqliteException ex) when (!IsLockTimeout(ex))
+        catch (SqliteException ex) when (!SqliteFile.IsLockTimeout(ex))
         {
             throw new InvalidDataException($"The checkpoint database '{DatabasePath}' could not be read: {ex.Message}", ex);
         }
@@ -241,7 +222,7 @@ public sealed class SqliteCheckpointStore : IConditionalCheckpointStore, IDispos
         await _gate.WaitAsync(cancellationToken).ConfigureAwait(false);
         try
         {
-            using SqliteConnection connection = await OpenAsync(cancellationToken).ConfigureAwait(false);
+            using SqliteConnection connection = await _file.OpenAsync(cancellationToken).ConfigureAwait(false);
             using SqliteTransaction transaction = connection.BeginTransaction(deferred: false);
             if (conditional)
             {
@@ -314,8 +295,6 @@ public sealed class SqliteCheckpointStore : IConditionalCheckpointStore, IDispos
 
     private string Location(long sequence) => string.Create(CultureInfo.InvariantCulture, $"{_locationPrefix}#{sequence}");
 
-    private static bool IsLockTimeout(SqliteException ex) => ex.SqliteErrorCode is SqliteBusy or SqliteLocked;
-
     private bool TryReadRow(SqliteDataReader reader, out long position, [System.Diagnostics.CodeAnalysis.NotNullWhen(true)] out byte[]? snapshot, [System.Diagnostics.CodeAnalysis.NotNullWhen(false)] out string? problem)
     {
         position = 0;
@@ -359,116 +338,5 @@ public sealed class SqliteCheckpointStore : IConditionalCheckpointStore, IDispos
 
         snapshot = bytes;
         return true;
-    }
-
-    private async Task<SqliteConnection> OpenAsync(CancellationToken cancellationToken)
-    {
-        string? directory = Path.GetDirectoryName(DatabasePath);
-        if (!string.IsNullOrEmpty(directory))
-        {
-            Directory.CreateDirectory(directory);
-        }
-
-        var connection = new SqliteConnection(_connectionString);
-        try
-        {
-            await connection.OpenAsync(cancellationToken).ConfigureAwait(false);
-
-            // SQLite's own busy handler: a statement that meets another connection's lock sleeps in short, growing
-            // steps and retries, up to the same limit as Microsoft.Data.Sqlite's retries, instead of failing at once.
-            using (SqliteCommand busy = connection.CreateCommand())
-            {
-                busy.CommandText = string.Create(CultureInfo.InvariantCulture, $"PRAGMA busy_timeout = {LockWaitSeconds * 1000}");
-                await busy.ExecuteNonQueryAsync(cancellationToken).ConfigureAwait(false);
-            }
-
-            if (!_schemaReady)
-            {
-                EnsureSchema(connection);
-                _schemaReady = true;
-            }
-
-            return connection;
-        }
-        catch
-        {
-            await connection.DisposeAsync().ConfigureAwait(false);
-            throw;
-        }
-    }
-
-    private void EnsureSchema(SqliteConnection connection)
-    {
-        using SqliteTransaction transaction = connection.BeginTransaction(deferred: false);
-        long version = Scalar(connection, transaction, "PRAGMA user_version");
-        long application = Scalar(connection, transaction, "PRAGMA application_id");
-        if (version == 0 && application == 0)
-        {
-            if (Scalar(connection, transaction, "SELECT count(*) FROM sqlite_schema") != 0)
-            {
-                throw new InvalidDataException($"'{DatabasePath}' is an SQLite database that already holds other tables; checkpoints need a file of their own.");
-            }
-
-            Execute(connection, transaction, string.Create(CultureInfo.InvariantCulture, $"""
-                CREATE TABLE checkpoints (
-                    sequence INTEGER PRIMARY KEY AUTOINCREMENT,
-                    input_position INTEGER NOT NULL,
-                    snapshot_length INTEGER NOT NULL,
-                    snapshot_sha256 BLOB NOT NULL,
-                    snapshot BLOB NOT NULL,
-                    stream TEXT NOT NULL DEFAULT '');
-                CREATE INDEX checkpoints_stream_sequence ON checkpoints (stream, sequence);
-                PRAGMA application_id = {ApplicationId};
-                PRAGMA user_version = {SchemaVersion};
-                """));
-            transaction.Commit();
-            return;
-        }
-
-        if (application != ApplicationId)
-        {
-            throw new InvalidDataException(string.Create(CultureInfo.InvariantCulture,
-                $"'{DatabasePath}' is not a StreamForecast checkpoint database (its application_id is {application}, a checkpoint file has {ApplicationId})."));
-        }
-
-        if (version > SchemaVersion)
-        {
-            throw new InvalidDataException(string.Create(CultureInfo.InvariantCulture,
-                $"The checkpoint database '{DatabasePath}' has schema version {version}, newer than version {SchemaVersion} that this StreamForecast.Sqlite reads. Use the newer StreamForecast.Sqlite that wrote it, or another file."));
-        }
-
-        if (version == 1)
-        {
-            // Version 1 had no streams: its rows become stream "". The column goes last, so an upgraded table has the
-            // same columns, in the same order, as one created at version 2. All of it commits or none of it does.
-            Execute(connection, transaction, string.Create(CultureInfo.InvariantCulture, $"""
-                ALTER TABLE checkpoints ADD COLUMN stream TEXT NOT NULL DEFAULT '';
-                CREATE INDEX checkpoints_stream_sequence ON checkpoints (stream, sequence);
-                PRAGMA user_version = {SchemaVersion};
-                """));
-        }
-        else if (version != SchemaVersion)
-        {
-            throw new InvalidDataException(string.Create(CultureInfo.InvariantCulture,
-                $"The checkpoint database '{DatabasePath}' has schema version {version}, which this StreamForecast.Sqlite does not know (it reads versions 1 and {SchemaVersion})."));
-        }
-
-        transaction.Commit();
-    }
-
-    private static void Execute(SqliteConnection connection, SqliteTransaction transaction, string sql)
-    {
-        using SqliteCommand command = connection.CreateCommand();
-        command.Transaction = transaction;
-        command.CommandText = sql;
-        command.ExecuteNonQuery();
-    }
-
-    private static long Scalar(SqliteConnection connection, SqliteTransaction transaction, string sql)
-    {
-        using SqliteCommand command = connection.CreateCommand();
-        command.Transaction = transaction;
-        command.CommandText = sql;
-        return Convert.ToInt64(command.ExecuteScalar(), CultureInfo.InvariantCulture);
     }
 }

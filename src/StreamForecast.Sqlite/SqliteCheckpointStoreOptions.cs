@@ -67,7 +67,8 @@ public sealed record SqliteCheckpointStoreOptions
     /// <summary>The stream whose checkpoints the store reads, writes and prunes; "" by default.</summary>
     public string StreamName { get; }
 
-    private static void ValidateStreamName(string streamName)
+    /// <summary>Checks a stream name (shared with <see cref="SqliteInputLogOptions"/>).</summary>
+    internal static void ValidateStreamName(string streamName)
     {
         if (streamName.Length > MaxStreamNameLength)
         {

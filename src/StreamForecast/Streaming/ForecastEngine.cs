@@ -248,7 +248,7 @@ public sealed class ForecastEngine<TKey> : IForecastEngine<TKey>
         {
             sections[i] = new SnapshotSection<TKey>(keyCodec);
             var done = new TaskCompletionSource(TaskCreationOptions.RunContinuationsAsynchronously);
-            waits[i] = SendAsync(_partitions[i], new Partition<TKey>.Message(MessageKind.Snapshot, default, 0, default, done, sections[i]), done, cancellationToken);
+            waits[i] = SendAsync(_partitions[i], new Partition<TKey>.Message(MessageKind.Visit, default, 0, default, done, sections[i]), done, cancellationToken);
         }
 
         await Task.WhenAll(waits).ConfigureAwait(false);
@@ -273,6 +273,40 @@ public sealed class ForecastEngine<TKey> : IForecastEngine<TKey>
         using var buffer = new MemoryStream();
         await SnapshotAsync(buffer, keyCodec, inputPosition, cancellationToken).ConfigureAwait(false);
         await store.SaveAsync(buffer.GetBuffer().AsMemory(0, (int)buffer.Length), inputPosition, cancellationToken).ConfigureAwait(false);
+    }
+
+    /// <summary>
+    /// Reads every series as it stands: the forecast for its next period, its error statistics and the drift episodes
+    /// open (see <see cref="SeriesStatus{TKey}"/>). Queued behind everything posted before the call, like a snapshot.
+    /// </summary>
+    /// <param name="cancellationToken">Stops waiting.</param>
+    /// <returns>One status per series held, in no particular order.</returns>
+    /// <exception cref="InvalidOperationException">The engine has been completed.</exception>
+    /// <remarks>
+    /// Use it to show what an engine holds when no period has closed yet, above all right after a restore, when no
+    /// <see cref="ForecastUpdate{TKey}"/> has been published since. Cost: O(series), one status and list per series,
+    /// computed on the partitions' loops (ingestion pauses for it on each partition in turn); for dashboards and
+    /// restarts, not per observation. Thread-safe.
+    /// </remarks>
+    public async Task<IReadOnlyList<SeriesStatus<TKey>>> GetSeriesStatusAsync(CancellationToken cancellationToken = default)
+    {
+        var readers = new StatusReader[_partitions.Length];
+        var waits = new Task[_partitions.Length];
+        for (int i = 0; i < _partitions.Length; i++)
+        {
+            readers[i] = new StatusReader();
+            var done = new TaskCompletionSource(TaskCreationOptions.RunContinuationsAsynchronously);
+            waits[i] = SendAsync(_partitions[i], new Partition<TKey>.Message(MessageKind.Visit, default, 0, default, done, readers[i]), done, cancellationToken);
+        }
+
+        await Task.WhenAll(waits).ConfigureAwait(false);
+        var all = new List<SeriesStatus<TKey>>();
+        foreach (StatusReader r in readers)
+        {
+            all.AddRange(r.Statuses);
+        }
+
+        return all;
     }
 
     /// <summary>The engine's counters, summed over partitions (each read without locks, so a sum may straddle an update).</summary>
@@ -453,6 +487,20 @@ public sealed class ForecastEngine<TKey> : IForecastEngine<TKey>
         _faults.Complete(loops.Exception);
         await _faults.Completion.ConfigureAwait(false);
         _completion.TrySetResult();
+    }
+
+    private sealed class StatusReader : ISeriesVisitor<TKey>
+    {
+        public List<SeriesStatus<TKey>> Statuses { get; } = [];
+
+        public void Visit(ICollection<SeriesState<TKey>> series)
+        {
+            Statuses.Capacity = series.Count;
+            foreach (SeriesState<TKey> s in series)
+            {
+                Statuses.Add(s.Status());
+            }
+        }
     }
 
     private void CreateInstruments()

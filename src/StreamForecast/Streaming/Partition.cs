@@ -136,8 +136,8 @@ internal sealed class Partition<TKey> : ISeriesHost<TKey>
                 case MessageKind.Acknowledge:
                     _table.Acknowledge(message.Observation.Key);
                     break;
-                case MessageKind.Snapshot:
-                    message.Snapshot!.Write(_table.Series);
+                case MessageKind.Visit:
+                    message.Visitor!.Visit(_table.Series);
                     break;
                 case MessageKind.Barrier:
                     break;
@@ -164,7 +164,7 @@ internal sealed class Partition<TKey> : ISeriesHost<TKey>
         long Arrival,
         DateTimeOffset Time,
         TaskCompletionSource? Done,
-        SnapshotSection<TKey>? Snapshot);
+        ISeriesVisitor<TKey>? Visitor);
 }
 
 /// <summary>What a partition's queue carries: observations, and commands ordered with them.</summary>
@@ -175,6 +175,16 @@ internal enum MessageKind : byte
     Flush,
     IdleCheck,
     Acknowledge,
-    Snapshot,
+
+    /// <summary>Hand the partition's series to a visitor on the loop (snapshots, status reads).</summary>
+    Visit,
     Barrier,
+}
+
+/// <summary>Reads a partition's series on its own loop, so it sees a consistent state (a snapshot section, a status list).</summary>
+internal interface ISeriesVisitor<TKey>
+    where TKey : notnull
+{
+    /// <summary>Called once, on the partition's loop, with every series it holds.</summary>
+    void Visit(ICollection<SeriesState<TKey>> series);
 }

@@ -470,6 +470,41 @@ internal sealed partial class SeriesState<TKey>
         }
     }
 
+    /// <summary>The series as it stands now (see <see cref="SeriesStatus{TKey}"/>). Allocates the status's episode list.</summary>
+    public SeriesStatus<TKey> Status()
+    {
+        int open = 0;
+        for (int i = 0; i < RuleCount; i++)
+        {
+            if (_step.RuleAt(i).IsOpen)
+            {
+                open++;
+            }
+        }
+
+        var episodes = open == 0 ? [] : new DriftEpisodeStatus[open];
+        for (int i = 0, j = 0; i < RuleCount; i++)
+        {
+            DriftRule rule = _step.RuleAt(i);
+            if (rule.IsOpen)
+            {
+                episodes[j++] = new DriftEpisodeStatus(i, _options.RuleLabels[i], rule.EpisodeId, rule.Direction, rule.Severity);
+            }
+        }
+
+        ForecastPoint next = _step.Point(1);
+        return new SeriesStatus<TKey>(
+            Key,
+            _nextToClose,
+            _started ? _options.Calendar.StartOf(_nextToClose) : default,
+            _step.HasLastActual ? _step.LastActual : double.NaN,
+            next,
+            _options.Horizon == 1 ? next : _step.Point(_options.Horizon),
+            ErrorSummary.Of(_step.Model.Tracker),
+            _step.Model.Forecaster.ActiveMethodName ?? _options.MethodLabel,
+            episodes);
+    }
+
     /// <summary>One open period: the sum of its observations so far, and whether it has any.</summary>
     private struct OpenPeriod
     {

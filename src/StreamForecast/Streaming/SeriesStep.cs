@@ -279,7 +279,8 @@ public sealed class SeriesStep<TKey>
             transition, errors ?? ErrorSummary.Of(_model.Tracker)));
     }
 
-    private ForecastPoint Point(int horizon)
+    /// <summary>The forecast <paramref name="horizon"/> periods ahead with its interval; NaN fields while the method is cold.</summary>
+    internal ForecastPoint Point(int horizon)
     {
         if (!_model.TryForecast(horizon, _options.IntervalMultiplier, out double value, out PredictionInterval interval))
         {

@@ -4,7 +4,7 @@ namespace StreamForecast.Streaming;
 /// One partition's part of an engine snapshot: its series, each as a key (written by the caller's codec) followed by
 /// the series state. Written on the partition's own loop, so it sees a consistent state.
 /// </summary>
-internal sealed class SnapshotSection<TKey>
+internal sealed class SnapshotSection<TKey> : ISeriesVisitor<TKey>
     where TKey : notnull
 {
     private readonly ISnapshotKeyCodec<TKey> _codec;
@@ -13,6 +13,8 @@ internal sealed class SnapshotSection<TKey>
     public SnapshotSection(ISnapshotKeyCodec<TKey> codec) => _codec = codec;
 
     public ReadOnlyMemory<byte> Bytes => _writer.WrittenMemory;
+
+    public void Visit(ICollection<SeriesState<TKey>> series) => Write(series);
 
     public void Write(ICollection<SeriesState<TKey>> series)
     {
