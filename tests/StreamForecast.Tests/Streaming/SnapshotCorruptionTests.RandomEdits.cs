@@ -91,7 +91,7 @@ public sealed partial class SnapshotCorruptionTests
     // Why an accepted edit gives a state some run reaches; null when no reason applies (the test then fails).
     private const string OtherEvents = "A: the same state after other events (another key, event id, event period, quantity, event instant, pattern of empty periods, or rule inputs)";
     private const string Rounding = "B: a sum or smoothed value changed within the rounding it can carry (compensations, the last bits)";
-    private const string Summary = "C: an error statistic changed to a value other error histories give, consistent with every relation the state holds";
+    private const string Summary = "C: an error statistic changed to a value consistent with every relation among the tracker's numbers (other error histories give it; method-specific links between a forecaster's state and the last error are not checked)";
     private const string ForecasterChecks = "D: a forecaster's number, checked by the forecaster's own import (the forecasters' checks are reworked separately)";
 
     private static readonly int[] s_compensations = [4, 6, 8, 10, 12, 14];
