@@ -11,11 +11,11 @@ namespace StreamForecast.Streaming;
 /// corrupted or truncated snapshot is rejected whole and never half-loaded.
 /// </summary>
 /// <remarks>
-/// <para><b>Layout, version 1</b> (all integers little-endian):</para>
+/// <para><b>Layout, version 2</b> (all integers little-endian):</para>
 /// <code>
 /// offset      size  field
 /// 0           4     magic, ASCII "SFSN"
-/// 4           2     format version (ushort), 1
+/// 4           2     format version (ushort), 2
 /// 6           8     total length in bytes, checksum included (long)
 /// 14          8     input position (long, ≥ 0)
 /// 22          4     section count n (int, ≥ 0)
@@ -23,6 +23,11 @@ namespace StreamForecast.Streaming;
 /// 26+4n       …     the sections' bytes, back to back
 /// total−32    32    SHA-256 of every byte before it
 /// </code>
+/// <para><b>Versions.</b> 2: the current one. The envelope and the payload layouts are those of version 1, but the
+/// payload's meaning changed: the lagged model of a series' restatement window keeps the last actual its model took
+/// (version 1 could keep one the model refused), and restoring checks that every series is a state the engine can reach.
+/// Version 1 snapshots are refused with a message naming both versions; no conversion is offered before the first
+/// release (rebuild the state by replaying the input).</para>
 /// <para><b>Reading order.</b> Magic, then version, then the declared length against the caller's limit, then the
 /// bytes themselves (a stream that ends early is reported as truncated), then the checksum, then the section table.
 /// Memory grows with the bytes actually read, never with a declared length alone.</para>
@@ -31,7 +36,7 @@ namespace StreamForecast.Streaming;
 internal static class SnapshotFormat
 {
     /// <summary>The format version this library writes (and the only one it reads).</summary>
-    public const ushort CurrentVersion = 1;
+    public const ushort CurrentVersion = 2;
 
     /// <summary>The length of the fixed header, before the section table.</summary>
     public const int HeaderLength = 26;
@@ -257,7 +262,7 @@ internal static class SnapshotFormat
         ushort version = BinaryPrimitives.ReadUInt16LittleEndian(header[VersionOffset..]);
         if (version != CurrentVersion)
         {
-            return Invariant($"The snapshot has format version {version}, which this library does not support; it reads version {CurrentVersion} only.");
+            return Invariant($"The snapshot has format version {version}, which this library does not support; it reads version {CurrentVersion} only (earlier versions are not converted: rebuild the state by replaying the input).");
         }
 
         total = BinaryPrimitives.ReadInt64LittleEndian(header[LengthOffset..]);

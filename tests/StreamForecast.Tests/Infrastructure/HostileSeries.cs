@@ -77,9 +77,6 @@ public static class HostileSeries
         double.NaN, double.PositiveInfinity, double.NegativeInfinity,
         Math.BitIncrement(Limit), -Math.BitIncrement(Limit), 2 * Limit, 1e16, -1e16, 1e100, 1e300, double.MaxValue, -double.MaxValue);
 
-    /// <summary>Whether <paramref name="value"/> is one the library must refuse whatever the state (NaN or infinite).</summary>
-    public static bool IsNonFinite(double value) => !double.IsFinite(value);
-
     /// <summary>
     /// A series of up to <paramref name="maxLength"/> accepted values, built from runs: zeros (up to 80 long), a constant,
     /// ± alternation of one value, a ramp next to the limit, and ordinary noise.

@@ -75,7 +75,7 @@ public sealed class SeriesStateSnapshotTests
     /// quantities hostile (zeros, constants, values near ±1e15, negative demand for Croston, a few beyond ±1e15).
     /// </summary>
     private static Gen<Step[]> StepsGen { get; } =
-        from n in Gen.Choose(1, 80)
+        from n in Gen.Choose(1, 60)
         from kinds in Gen.Frequency((30, Gen.Constant(StepKind.Observe)), (3, Gen.Constant(StepKind.Advance)), (1, Gen.Constant(StepKind.Flush)), (2, Gen.Constant(StepKind.Acknowledge))).ArrayOf(n)
         from moves in Gen.Frequency((12, Gen.Choose(0, 50)), (1, Gen.Constant(600))).ArrayOf(n)
         from behind in Gen.Frequency((3, Gen.Constant(0)), (1, Gen.Choose(1, 300))).ArrayOf(n)

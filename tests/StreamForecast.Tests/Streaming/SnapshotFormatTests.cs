@@ -58,7 +58,7 @@ public sealed class SnapshotFormatTests
         (byte[] bytes, ReadOnlyMemory<byte>[] sections) = Sample();
 
         Assert.Equal("SFSN"u8.ToArray(), bytes[..4]);
-        Assert.Equal(1, BinaryPrimitives.ReadUInt16LittleEndian(bytes.AsSpan(4)));
+        Assert.Equal(2, BinaryPrimitives.ReadUInt16LittleEndian(bytes.AsSpan(4)));
         Assert.Equal(bytes.Length, BinaryPrimitives.ReadInt64LittleEndian(bytes.AsSpan(6)));
         Assert.Equal(Position, BinaryPrimitives.ReadInt64LittleEndian(bytes.AsSpan(14)));
         Assert.Equal(sections.Length, BinaryPrimitives.ReadInt32LittleEndian(bytes.AsSpan(22)));
@@ -147,12 +147,25 @@ public sealed class SnapshotFormatTests
     public void Read_UnsupportedVersion_MessageNamesBothVersions()
     {
         (byte[] bytes, _) = Sample();
-        BinaryPrimitives.WriteUInt16LittleEndian(bytes.AsSpan(4), 2);
+        BinaryPrimitives.WriteUInt16LittleEndian(bytes.AsSpan(4), 3);
 
         var ex = Assert.Throws<InvalidDataException>(() => SnapshotFormat.Read(new MemoryStream(bytes)));
 
-        Assert.Contains("format version 2", ex.Message, StringComparison.Ordinal);
-        Assert.Contains("reads version 1 only", ex.Message, StringComparison.Ordinal);
+        Assert.Contains("format version 3", ex.Message, StringComparison.Ordinal);
+        Assert.Contains("reads version 2 only", ex.Message, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void Read_Version1Snapshot_RefusedNamingBothVersions()
+    {
+        // Version 1 payloads can hold a lagged model whose last actual the model refused; they are not converted.
+        (byte[] bytes, _) = Sample();
+        BinaryPrimitives.WriteUInt16LittleEndian(bytes.AsSpan(4), 1);
+
+        var ex = Assert.Throws<InvalidDataException>(() => SnapshotFormat.Read(new MemoryStream(bytes)));
+
+        Assert.Contains("format version 1", ex.Message, StringComparison.Ordinal);
+        Assert.Contains("reads version 2 only", ex.Message, StringComparison.Ordinal);
     }
 
     [Fact]

@@ -26,7 +26,7 @@ public sealed class ErrorTrackerStateTests
     /// the actual (long runs of zero errors), or the previous actual; about one period in six unscored.
     /// </summary>
     private static Gen<Period[]> PeriodsGen { get; } =
-        from actuals in HostileSeries.WithRefused(150)
+        from actuals in HostileSeries.WithRefused(100)
         from mode in Gen.Choose(0, 2)
         from own in HostileSeries.WithRefused(actuals.Length).Select(f => f.Length >= actuals.Length ? f : [.. f, .. new double[actuals.Length - f.Length]])
         from unscored in Gen.Frequency((5, Gen.Constant(false)), (1, Gen.Constant(true))).ArrayOf(actuals.Length)
