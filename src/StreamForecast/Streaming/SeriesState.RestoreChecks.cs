@@ -13,9 +13,10 @@ internal sealed partial class SeriesState<TKey>
     /// <summary>Checks the period position, the latest event time and the quiet count of a started series; returns the latest event's period.</summary>
     private long CheckPositions(PeriodCalendar calendar)
     {
-        if (_nextToClose < calendar.MinPeriod || _nextToClose > calendar.MaxPeriod)
+        // MaxPeriod + 1: every period closed, the calendar's last one included (nothing can close after it).
+        if (_nextToClose < calendar.MinPeriod || _nextToClose > calendar.MaxPeriod + 1)
         {
-            throw Invalid(Invariant($"its first open period {_nextToClose} is outside the calendar's periods {calendar.MinPeriod} to {calendar.MaxPeriod}"));
+            throw Invalid(Invariant($"its first open period {_nextToClose} is outside the calendar's periods {calendar.MinPeriod} to {calendar.MaxPeriod} (or one past the last, once every period closed)"));
         }
 
         if (_maxEventTicks < DateTimeOffset.MinValue.UtcTicks || _maxEventTicks > DateTimeOffset.MaxValue.UtcTicks
@@ -26,7 +27,7 @@ internal sealed partial class SeriesState<TKey>
 
         // A new latest event time closes every period that ends at or before it less the allowed lateness, and periods
         // only close further after that: the first open period ends after that watermark.
-        _nextCloseEndTicks = calendar.EndOf(_nextToClose).UtcTicks;
+        _nextCloseEndTicks = _nextToClose <= calendar.MaxPeriod ? calendar.EndOf(_nextToClose).UtcTicks : long.MaxValue;
         long watermark = _maxEventTicks - _options.Lateness.AllowedLateness.Ticks;
         if (_nextCloseEndTicks <= watermark)
         {

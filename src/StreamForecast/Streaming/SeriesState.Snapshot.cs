@@ -117,7 +117,7 @@ internal sealed partial class SeriesState<TKey>
         _started = reader.ReadBoolean();
         _nextToClose = reader.ReadInt64();
         _maxEventTicks = reader.ReadInt64();
-        _step.LastActual = ReadFinite(reader, "the last actual");
+        _step.LastActual = ReadInDomain(reader, "the last actual");
         _step.HasLastActual = reader.ReadBoolean();
         _quietPeriods = reader.ReadInt64();
 
@@ -198,7 +198,7 @@ internal sealed partial class SeriesState<TKey>
         for (int i = 0; i < open; i++)
         {
             long p = reader.ReadInt64();
-            double sum = ReadFinite(reader, "an open period's sum");
+            double sum = ReadInDomain(reader, "an open period's sum");
             if (p < _nextToClose || p >= _nextToClose + capacity)
             {
                 throw Invalid(Invariant($"its open period {p} is outside the open-period window {_nextToClose} to {_nextToClose + capacity - 1}"));
@@ -257,7 +257,7 @@ internal sealed partial class SeriesState<TKey>
         r.ClosedCount = closed;
         for (int i = 0; i < closed; i++)
         {
-            double sum = ReadFinite(reader, "a retained period's sum");
+            double sum = ReadInDomain(reader, "a retained period's sum");
             byte has = reader.ReadByte();
             if (has > SlotHasData)
             {
@@ -281,7 +281,7 @@ internal sealed partial class SeriesState<TKey>
 
         double[] freshLag = r.Lag.Model.ExportState();
         double[] lag = ImportInto(reader, r.Lag.Model.ImportState, "its lagged model (the model before the restatement window)");
-        r.Lag.LastActual = ReadFinite(reader, "the lagged model's last actual");
+        r.Lag.LastActual = ReadInDomain(reader, "the lagged model's last actual");
         r.Lag.HasLastActual = reader.ReadBoolean();
         if (!_started && !Bits.Same(lag, freshLag))
         {
@@ -369,10 +369,11 @@ internal sealed partial class SeriesState<TKey>
         return values;
     }
 
-    private double ReadFinite(SnapshotPayloadReader reader, string what)
+    /// <summary>Reads a period total or an actual: the engine never holds one outside ±<see cref="NumericDomain.MaxMagnitude"/>.</summary>
+    private double ReadInDomain(SnapshotPayloadReader reader, string what)
     {
         double v = reader.ReadDouble();
-        return double.IsFinite(v) ? v : throw Invalid(Invariant($"{what} is {v}, not a finite number"));
+        return NumericDomain.Contains(v) ? v : throw Invalid(Invariant($"{what} is {v}, not a finite number within ±1e15 (NumericDomain.MaxMagnitude), the most a period total or an actual can be"));
     }
 
     /// <summary>Whether <paramref name="value"/> is the initial 0 (+0; −0 never arises from the series' additions).</summary>

@@ -414,7 +414,8 @@ internal sealed partial class SeriesState<TKey>
         double sum = open.Sum;
         open = default;
         _nextToClose = period + 1;
-        _nextCloseEndTicks = _options.Calendar.EndOf(period + 1).UtcTicks;
+        // After the calendar's last period nothing can close: no instant lies beyond it.
+        _nextCloseEndTicks = period < _options.Calendar.MaxPeriod ? _options.Calendar.EndOf(period + 1).UtcTicks : long.MaxValue;
         output.Counters.PeriodsClosed++;
         _quietPeriods = has ? 0 : _quietPeriods + 1;
 

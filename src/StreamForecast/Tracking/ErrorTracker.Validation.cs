@@ -107,13 +107,14 @@ public sealed partial class ErrorTracker
             return "with the actual count (number 3) at most m, the sum of naive errors (numbers 14 and 15) must be zero";
         }
 
-        // Σ|y| over the scored periods is above zero exactly when one of them had a non-zero actual: a sum of
-        // non-negative terms is zero only if every term is.
-        if ((n > zeros) != (state[AbsActualSumIndex] > 0))
+        // Σ|y| over the scored periods is at least the floor when one of them had an actual at or above the floor (a sum of
+        // non-negative terms is at least each term), and at most n·floor when every actual was below it ("zero" for MAPE).
+        double heldActuals = Combined(state, AbsActualSumIndex);
+        if (n > zeros ? !(heldActuals >= PercentageFloor * (1 - 1e-9)) : !(heldActuals <= zeros * PercentageFloor * (1 + 1e-9)))
         {
             return n > zeros
-                ? "the sum of absolute actuals (number 12) must be above zero when some scored actual was not zero (the zero-actual count, number 2, is below the scored-period count, number 1)"
-                : "the sum of absolute actuals (numbers 12 and 13) must be zero when every scored actual was zero (the zero-actual count, number 2, equals the scored-period count, number 1)";
+                ? "the sum of absolute actuals (number 12) must be at least 1e-15 when some scored actual was not zero (the zero-actual count, number 2, is below the scored-period count, number 1)"
+                : "the sum of absolute actuals (numbers 12 and 13) must be below the zero-actual count times 1e-15 when every scored actual was zero or below 1e-15 (the zero-actual count, number 2, equals the scored-period count, number 1)";
         }
 
         if (n == zeros && !AllZero(state.Slice(PercentErrorSumIndex, 2)))

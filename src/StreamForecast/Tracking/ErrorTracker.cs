@@ -96,7 +96,16 @@ public sealed partial class ErrorTracker
     /// <summary>The number of actuals recorded, scored or not; the MASE scale is computed over these.</summary>
     public long ActualCount => _actualCount;
 
-    /// <summary>The number of scored periods whose actual was zero, which MAPE leaves out.</summary>
+    /// <summary>
+    /// The smallest actual magnitude MAPE divides by: 10^-15. A scored actual below it counts as zero for MAPE (see
+    /// <see cref="ZeroActualCount"/>), since a percentage of a near-zero actual means nothing and could overflow.
+    /// </summary>
+    public const double PercentageFloor = 1e-15;
+
+    /// <summary>
+    /// The number of scored periods whose actual was zero or smaller in magnitude than <see cref="PercentageFloor"/>,
+    /// which MAPE leaves out.
+    /// </summary>
     public long ZeroActualCount => _zeroActualCount;
 
     /// <summary>The error of the last scored period (sign: see <see cref="ErrorTracker"/>); NaN before the first.</summary>
@@ -125,7 +134,8 @@ public sealed partial class ErrorTracker
 
     /// <summary>
     /// The mean absolute percentage error in percent, the mean of 100·|e|/|actual| over the scored periods whose actual
-    /// is not zero (see <see cref="ZeroActualCount"/>); NaN while there is no such period.
+    /// is not zero (at least <see cref="PercentageFloor"/> in magnitude; see <see cref="ZeroActualCount"/>); NaN while
+    /// there is no such period.
     /// </summary>
     public double Mape
     {
@@ -376,7 +386,7 @@ public sealed partial class ErrorTracker
         staged.Scored = true;
         staged.Actual = actual;
         staged.Error = error;
-        staged.ZeroActual = actual == 0;
+        staged.ZeroActual = Math.Abs(actual) < PercentageFloor;
         staged.ErrorSum = _errorSum;
         staged.ErrorSum.Add(error);
         staged.AbsErrorSum = _absErrorSum;
@@ -384,7 +394,7 @@ public sealed partial class ErrorTracker
         staged.SquaredErrorSum = _squaredErrorSum;
         staged.SquaredErrorSum.Add(error * error);
         staged.PercentErrorSum = _percentErrorSum;
-        if (actual != 0)
+        if (!staged.ZeroActual)
         {
             staged.PercentErrorSum.Add(100 * absError / Math.Abs(actual));
         }

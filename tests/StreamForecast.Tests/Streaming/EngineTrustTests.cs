@@ -61,6 +61,31 @@ public sealed class EngineTrustTests
         Assert.Equal([4.0, 6.0], recorder.Forecasts.TakeLast(2).Select(f => f.Actual));
     }
 
+    [Fact]
+    public async Task Flush_SeriesAtTheCalendarsLastPeriod_ClosesItWithoutAFault()
+    {
+        var series = new SeriesOptions(new NaiveOptions(), PeriodCalendar.FixedInterval(TimeSpan.FromMinutes(1)));
+        await using var engine = new ForecastEngine<string>(Options(series, partitions: 1));
+        var recorder = EngineRecorder<string>.Attach(engine);
+        DateTimeOffset last = series.Calendar.StartOf(series.Calendar.MaxPeriod);
+        await engine.PostAsync(new("probe", last.AddMinutes(-1), 1));
+        await engine.PostAsync(new("probe", last, 2));
+        await engine.FlushAsync();
+        await engine.PostAsync(new("probe", last.AddSeconds(30), 3)); // the last period already closed: late
+        await engine.FlushAsync();
+        EngineCounters c = engine.GetCounters();
+        using var snapshot = new MemoryStream();
+        await engine.SnapshotAsync(snapshot, SnapshotKeyCodecs.Utf8String, 3);
+        await engine.DisposeAsync();
+        snapshot.Position = 0;
+        var (restored, _) = await ForecastEngine.RestoreAsync(snapshot, Options(series, partitions: 1), SnapshotKeyCodecs.Utf8String);
+        await restored.DisposeAsync();
+
+        Assert.Empty(recorder.Faults);
+        Assert.Equal([1.0, 2.0], recorder.Forecasts.Select(f => f.Actual));
+        Assert.Equal(1, c.Late);
+    }
+
     [Theory]
     [InlineData(1e308)]
     [InlineData(-1.0000001e15)]

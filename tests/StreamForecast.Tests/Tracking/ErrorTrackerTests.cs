@@ -10,6 +10,25 @@ namespace StreamForecast.Tests.Tracking;
 
 public sealed class ErrorTrackerTests
 {
+    [Theory]
+    [InlineData(5e-324)]
+    [InlineData(-1e-300)]
+    [InlineData(9e-16)]
+    public void Record_ActualBelowThePercentageFloor_IsScoredAndLeftOutOfMapeLikeZero(double tiny)
+    {
+        // Found by the hostile-input properties: 100·|e|/|y| overflowed for subnormal actuals and the period was refused.
+        var tracker = ErrorTrackerOptions.Default.CreateTracker();
+        tracker.Record(10, 8);
+        tracker.Record(tiny, 1e15);
+        Assert.Equal(2, tracker.Count);
+        Assert.Equal(1, tracker.ZeroActualCount);
+        Assert.Equal(20.0, tracker.Mape, 12); // only the first period: 100·2/10
+        double[] state = tracker.ExportState();
+        var copy = ErrorTrackerOptions.Default.CreateTracker();
+        copy.ImportState(state);
+        Assert.Equal(state, copy.ExportState());
+    }
+
     /// <summary>
     /// SES forecasts for the NIST §6.4.3.1 series with α = 0.1 and the first forecast equal to the first actual
     /// (S_2 = y_1; check-values S1), written as a plain loop here: element t is the forecast for period t+1, NaN for
