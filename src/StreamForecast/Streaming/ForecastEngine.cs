@@ -31,7 +31,7 @@ namespace StreamForecast.Streaming;
 /// when no post runs concurrently with it.</para>
 /// <para>Forecasts and alerts are advisory and need a person's judgement before stock or staff are changed.</para>
 /// </remarks>
-public sealed class ForecastEngine<TKey> : IForecastEngine<TKey>
+public sealed partial class ForecastEngine<TKey> : IForecastEngine<TKey>
     where TKey : notnull
 {
     private readonly Partition<TKey>[] _partitions;
@@ -229,113 +229,6 @@ public sealed class ForecastEngine<TKey> : IForecastEngine<TKey>
         return SendAsync(PartitionOf(key), message, done, cancellationToken);
     }
 
-    /// <summary>
-    /// Writes a snapshot of every series (forecaster, error statistics, drift rules, open periods, restatement window,
-    /// remembered event ids) with the caller's input position, in a versioned, checksummed format.
-    /// </summary>
-    /// <param name="destination">Where to write.</param>
-    /// <param name="keyCodec">How keys are written (see <see cref="SnapshotKeyCodecs"/>).</param>
-    /// <param name="inputPosition">Where in the caller's input this snapshot stands (for example a log offset), returned on restore.</param>
-    /// <param name="cancellationToken">Stops waiting.</param>
-    /// <returns>A task that completes when the snapshot is written.</returns>
-    public async Task SnapshotAsync(Stream destination, ISnapshotKeyCodec<TKey> keyCodec, long inputPosition, CancellationToken cancellationToken = default)
-    {
-        ArgumentNullException.ThrowIfNull(destination);
-        ArgumentNullException.ThrowIfNull(keyCodec);
-        var sections = new SnapshotSection<TKey>[_partitions.Length];
-        var waits = new Task[_partitions.Length];
-        for (int i = 0; i < _partitions.Length; i++)
-        {
-            sections[i] = new SnapshotSection<TKey>(keyCodec);
-            var done = new TaskCompletionSource(TaskCreationOptions.RunContinuationsAsynchronously);
-            waits[i] = SendAsync(_partitions[i], new Partition<TKey>.Message(MessageKind.Visit, default, 0, default, done, sections[i]), done, cancellationToken);
-        }
-
-        await Task.WhenAll(waits).ConfigureAwait(false);
-        var parts = new List<ReadOnlyMemory<byte>>(sections.Length + 1) { Encoding.UTF8.GetBytes(keyCodec.FormatName) };
-        foreach (SnapshotSection<TKey> s in sections)
-        {
-            parts.Add(s.Bytes);
-        }
-
-        await SnapshotFormat.WriteAsync(destination, inputPosition, parts, cancellationToken).ConfigureAwait(false);
-    }
-
-    /// <summary>Takes a snapshot (see <see cref="SnapshotAsync"/>) and saves it in a checkpoint store.</summary>
-    /// <param name="store">Where checkpoints are kept, for example a <see cref="FileCheckpointStore"/>.</param>
-    /// <param name="keyCodec">How keys are written.</param>
-    /// <param name="inputPosition">Where in the caller's input this checkpoint stands; replay from here after a restore.</param>
-    /// <param name="cancellationToken">Stops waiting.</param>
-    /// <returns>A task that completes when the checkpoint is stored.</returns>
-    public async Task SaveCheckpointAsync(ICheckpointStore store, ISnapshotKeyCodec<TKey> keyCodec, long inputPosition, CancellationToken cancellationToken = default)
-    {
-        ArgumentNullException.ThrowIfNull(store);
-        using var buffer = new MemoryStream();
-        await SnapshotAsync(buffer, keyCodec, inputPosition, cancellationToken).ConfigureAwait(false);
-        await store.SaveAsync(buffer.GetBuffer().AsMemory(0, (int)buffer.Length), inputPosition, cancellationToken).ConfigureAwait(false);
-    }
-
-    /// <summary>
-    /// Reads every series as it stands: the forecast for its next period, its error statistics and the drift episodes
-    /// open (see <see cref="SeriesStatus{TKey}"/>). Queued behind everything posted before the call, like a snapshot.
-    /// </summary>
-    /// <param name="cancellationToken">Stops waiting.</param>
-    /// <returns>One status per series held, in no particular order.</returns>
-    /// <exception cref="InvalidOperationException">The engine has been completed.</exception>
-    /// <remarks>
-    /// Use it to show what an engine holds when no period has closed yet, above all right after a restore, when no
-    /// <see cref="ForecastUpdate{TKey}"/> has been published since. Cost: O(series), one status and list per series,
-    /// computed on the partitions' loops (ingestion pauses for it on each partition in turn); for dashboards and
-    /// restarts, not per observation. Thread-safe.
-    /// </remarks>
-    public async Task<IReadOnlyList<SeriesStatus<TKey>>> GetSeriesStatusAsync(CancellationToken cancellationToken = default)
-    {
-        var readers = new StatusReader[_partitions.Length];
-        var waits = new Task[_partitions.Length];
-        for (int i = 0; i < _partitions.Length; i++)
-        {
-            readers[i] = new StatusReader();
-            var done = new TaskCompletionSource(TaskCreationOptions.RunContinuationsAsynchronously);
-            waits[i] = SendAsync(_partitions[i], new Partition<TKey>.Message(MessageKind.Visit, default, 0, default, done, readers[i]), done, cancellationToken);
-        }
-
-        await Task.WhenAll(waits).ConfigureAwait(false);
-        var all = new List<SeriesStatus<TKey>>();
-        foreach (StatusReader r in readers)
-        {
-            all.AddRange(r.Statuses);
-        }
-
-        return all;
-    }
-
-    /// <summary>The engine's counters, summed over partitions (each read without locks, so a sum may straddle an update).</summary>
-    /// <returns>The counters now.</returns>
-    public EngineCounters GetCounters()
-    {
-        EngineCounters total = default;
-        long depth = 0;
-        foreach (Partition<TKey> p in _partitions)
-        {
-            total += p.Counters.ToEngineCounters();
-            depth += p.QueueDepth;
-        }
-
-        return total with
-        {
-            Dropped = Interlocked.Read(ref _dropped),
-            Rejected = Interlocked.Read(ref _rejected),
-            ActiveSeries = SeriesCount,
-            QueueDepth = depth,
-            SubscriberDrops = Interlocked.Read(ref _subscriberDrops),
-            SubscriberFaults = Interlocked.Read(ref _subscriberFaults),
-        };
-    }
-
-    /// <inheritdoc/>
-    public Task<EngineCounters> GetCountersAsync(CancellationToken cancellationToken = default) =>
-        cancellationToken.IsCancellationRequested ? Task.FromCanceled<EngineCounters>(cancellationToken) : Task.FromResult(GetCounters());
-
     /// <summary>Stops taking posts and commands; queued observations are still processed, then subscribers are completed.</summary>
     public void Complete()
     {
@@ -501,24 +394,5 @@ public sealed class ForecastEngine<TKey> : IForecastEngine<TKey>
                 Statuses.Add(s.Status());
             }
         }
-    }
-
-    private void CreateInstruments()
-    {
-        // Counters are read from the partitions' own tallies when a listener collects: nothing on the hot path.
-        // Tags never carry a series key.
-        _meter.CreateObservableCounter("streamforecast.observations", () => GetCounters().Observations, description: "Observations taken by the partitions.");
-        _meter.CreateObservableCounter("streamforecast.late", () => GetCounters().Late, description: "Late observations dropped (too late to restate).");
-        _meter.CreateObservableCounter("streamforecast.restated", () => GetCounters().Restated, description: "Late observations that restated a closed period.");
-        _meter.CreateObservableCounter("streamforecast.dropped", () => GetCounters().Dropped, description: "Observations dropped because a queue was full.");
-        _meter.CreateObservableCounter("streamforecast.duplicates", () => GetCounters().Duplicates, description: "Observations ignored as repeats of a remembered event id.");
-        _meter.CreateObservableCounter("streamforecast.rejected", () => GetCounters().Rejected, description: "Observations rejected inside the engine (outside the calendar, series limit reached, period total out of range).");
-        _meter.CreateObservableCounter("streamforecast.periods_skipped", () => GetCounters().SkippedPeriods, description: "Empty periods skipped because one step had more to close than the series allows.");
-        _meter.CreateObservableCounter("streamforecast.periods_closed", () => GetCounters().PeriodsClosed, description: "Periods closed across all series.");
-        _meter.CreateObservableCounter("streamforecast.evictions", () => GetCounters().Evictions, description: "Series removed after their quiet-period limit.");
-        _meter.CreateObservableCounter("streamforecast.alerts_raised", () => GetCounters().AlertsRaised, description: "Drift episodes raised.");
-        _meter.CreateObservableCounter("streamforecast.alerts_cleared", () => GetCounters().AlertsCleared, description: "Drift episodes cleared.");
-        _meter.CreateObservableUpDownCounter("streamforecast.active_series", () => (long)SeriesCount, description: "Series held now.");
-        _meter.CreateObservableUpDownCounter("streamforecast.queue_depth", () => GetCounters().QueueDepth, description: "Observations and commands waiting in the partition queues.");
     }
 }

@@ -6,85 +6,6 @@ using StreamForecast.Tracking;
 
 namespace StreamForecast.Streaming;
 
-/// <summary>Where a series sends what it produces, and the counters it bumps. Implemented by the owner (a partition).</summary>
-internal interface ISeriesOutput<TKey> : ISeriesSink<TKey>
-{
-    SeriesCounters Counters { get; }
-}
-
-/// <summary>
-/// Counters bumped by one owner; read by others with relaxed reads (metrics, <c>GetCounters</c>). The one place their
-/// order is spelled out is <see cref="Slot"/>: storage, reading and conversion all go through it.
-/// </summary>
-internal sealed class SeriesCounters
-{
-    /// <summary>How many counters there are (the length of <see cref="ToArray"/>).</summary>
-    public const int Count = 12;
-
-    public long Observations;
-    public long Late;
-    public long Restated;
-    public long Duplicates;
-    public long PeriodsClosed;
-    public long GapPeriods;
-    public long RejectedActuals;
-    public long SkippedPeriods;
-    public long AlertsRaised;
-    public long AlertsEscalated;
-    public long AlertsCleared;
-    public long Evictions;
-
-    /// <summary>The counter at a fixed position (0 … <see cref="Count"/> − 1), for storing and loading them as an array.</summary>
-    public ref long Slot(int index)
-    {
-        switch (index)
-        {
-            case 0: return ref Observations;
-            case 1: return ref Late;
-            case 2: return ref Restated;
-            case 3: return ref Duplicates;
-            case 4: return ref PeriodsClosed;
-            case 5: return ref GapPeriods;
-            case 6: return ref RejectedActuals;
-            case 7: return ref SkippedPeriods;
-            case 8: return ref AlertsRaised;
-            case 9: return ref AlertsEscalated;
-            case 10: return ref AlertsCleared;
-            case 11: return ref Evictions;
-            default: throw new ArgumentOutOfRangeException(nameof(index));
-        }
-    }
-
-    /// <summary>The counters in <see cref="Slot"/> order, each read once with a relaxed read.</summary>
-    public long[] ToArray()
-    {
-        var values = new long[Count];
-        for (int i = 0; i < Count; i++)
-        {
-            values[i] = Volatile.Read(ref Slot(i));
-        }
-
-        return values;
-    }
-
-    /// <summary>Sets the counters from <see cref="ToArray"/>'s layout.</summary>
-    public void Load(ReadOnlySpan<long> values)
-    {
-        Debug.Assert(values.Length == Count);
-        for (int i = 0; i < Count; i++)
-        {
-            Slot(i) = values[i];
-        }
-    }
-
-    /// <summary>These counters as the public record; the engine-level fields (dropped, rejected, series, queues, subscribers) are 0.</summary>
-    public EngineCounters ToEngineCounters() => new(
-        Volatile.Read(ref Observations), Volatile.Read(ref Late), Volatile.Read(ref Restated), Volatile.Read(ref Duplicates), 0, 0,
-        Volatile.Read(ref PeriodsClosed), Volatile.Read(ref GapPeriods), Volatile.Read(ref RejectedActuals),
-        Volatile.Read(ref AlertsRaised), Volatile.Read(ref AlertsEscalated), Volatile.Read(ref AlertsCleared), Volatile.Read(ref Evictions),
-        0, 0, 0, 0, Volatile.Read(ref SkippedPeriods));
-}
-
 /// <summary>
 /// The whole engine-side state of one series: event-time bucketing into periods, lateness and restatement, gaps,
 /// duplicate suppression, the forecaster with its error tracker, and the drift rules. One owner at a time.
@@ -389,16 +310,6 @@ internal sealed partial class SeriesState<TKey>
         CommitRestatementWindow();
     }
 
-    /// <summary>Periods before now can no longer be restated: the lagged model catches up with the live one.</summary>
-    private void CommitRestatementWindow()
-    {
-        if (_restatement is { } r)
-        {
-            r.Lag.CopyModelFrom(_step, r.Scratch);
-            r.ClosedCount = 0;
-        }
-    }
-
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
     private static int Slot(long period, int capacity)
     {
@@ -427,48 +338,6 @@ internal sealed partial class SeriesState<TKey>
         // Repeats of events in periods that can no longer change are late anyway: stop remembering their ids.
         _ids?.ForgetBefore(_nextToClose - ClosedCount);
         _step.Apply(period, has, sum, StepMode.Live, output, output.Counters);
-    }
-
-    private void Retain(Restatement r, bool has, double sum)
-    {
-        int restatable = r.ClosedSums.Length;
-        if (r.ClosedCount == restatable)
-        {
-            // The oldest retained period leaves the horizon: move the lagged model past it, then shift.
-            r.Lag.Apply(_nextToClose - restatable - 1, r.ClosedHas[0] == SlotHasData, r.ClosedSums[0], StepMode.Silent, null, null);
-            Array.Copy(r.ClosedSums, 1, r.ClosedSums, 0, restatable - 1);
-            Array.Copy(r.ClosedHas, 1, r.ClosedHas, 0, restatable - 1);
-            r.ClosedCount--;
-        }
-
-        r.ClosedSums[r.ClosedCount] = sum;
-        r.ClosedHas[r.ClosedCount] = has ? SlotHasData : SlotEmpty;
-        r.ClosedCount++;
-    }
-
-    private void Late(long period, double quantity, ISeriesOutput<TKey> output)
-    {
-        long age = _nextToClose - period; // 1 = the last closed period
-        if (age > ClosedCount)
-        {
-            output.Counters.Late++;
-            return;
-        }
-
-        Restatement r = _restatement!; // a closed period is retained only when restatement is on
-        int index = (int)(r.ClosedCount - age);
-        r.ClosedSums[index] += quantity;
-        r.ClosedHas[index] = SlotHasData;
-        output.Counters.Restated++;
-
-        // Roll the model back to before the oldest retained period and replay the retained periods. Drift rules are
-        // not rolled back: they keep their episodes and see the corrected statistics from the next period on.
-        _step.CopyModelFrom(r.Lag, r.Scratch);
-        long first = _nextToClose - r.ClosedCount;
-        for (int i = 0; i < r.ClosedCount; i++)
-        {
-            _step.Apply(first + i, r.ClosedHas[i] == SlotHasData, r.ClosedSums[i], i >= index ? StepMode.Restated : StepMode.Silent, output, output.Counters);
-        }
     }
 
     /// <summary>The series as it stands now (see <see cref="SeriesStatus{TKey}"/>). Allocates the status's episode list.</summary>
@@ -518,31 +387,5 @@ internal sealed partial class SeriesState<TKey>
     private struct OpenPeriods
     {
         private OpenPeriod _first;
-    }
-
-    /// <summary>
-    /// What restatement needs, created only when the options allow it: the model as it was before the oldest retained
-    /// closed period, those periods' raw inputs, and a buffer to copy model states through.
-    /// </summary>
-    private sealed class Restatement
-    {
-        public Restatement(int periods, TKey key, SeriesOptions options, int modelStateLength)
-        {
-            Lag = new SeriesStep<TKey>(key, options, withRules: false);
-            ClosedSums = new double[periods];
-            ClosedHas = new byte[periods];
-            Scratch = new double[modelStateLength];
-        }
-
-        /// <summary>The step as it was before the oldest retained closed period (no rules: it never publishes).</summary>
-        public SeriesStep<TKey> Lag { get; }
-
-        public double[] ClosedSums { get; }
-
-        public byte[] ClosedHas { get; }
-
-        public double[] Scratch { get; }
-
-        public int ClosedCount;
     }
 }
