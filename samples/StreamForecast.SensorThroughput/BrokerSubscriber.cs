@@ -37,6 +37,9 @@ public sealed partial class BrokerSubscriber : IHostedService, IDisposable
     /// <summary>How long the broker keeps the session (and the QoS 1 messages queued for it) after a disconnect: 7 days.</summary>
     public const uint SessionExpirySeconds = 7 * 24 * 3600;
 
+    /// <summary>A status line is printed after every this many acknowledgements (and when anything changed in the last half second).</summary>
+    public const int ProgressEvery = 100;
+
     private static readonly JsonSerializerOptions s_json = new(JsonSerializerDefaults.Web);
     private readonly HostedForecastEngine<string> _hosted;
     private readonly BrokerSettings _settings;
@@ -163,7 +166,10 @@ public sealed partial class BrokerSubscriber : IHostedService, IDisposable
         }
 
         await e.AcknowledgeAsync(stopping);
-        Interlocked.Increment(ref _acknowledged);
+        if (Interlocked.Increment(ref _acknowledged) % ProgressEvery == 0)
+        {
+            _output.WriteLine(StatusPrefix + Status(_hosted.Engine.GetCounters()));
+        }
     }
 
     private static bool TryRead(MqttApplicationMessage message, out Observation<string> observation, out string? problem)
