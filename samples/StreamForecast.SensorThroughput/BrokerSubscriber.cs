@@ -3,6 +3,7 @@ using System.Text.Json;
 using Microsoft.Extensions.Hosting;
 using Microsoft.Extensions.Logging;
 using MQTTnet;
+using MQTTnet.Exceptions;
 using MQTTnet.Formatter;
 using MQTTnet.Protocol;
 using StreamForecast.Hosting;
@@ -50,6 +51,7 @@ public sealed partial class BrokerSubscriber : IHostedService, IDisposable
     private long _acknowledged;
     private long _refused;
     private Task? _statusLoop;
+    private MqttClientOptions? _options;
 
     /// <summary>Creates the consumer (it connects when the host starts it).</summary>
     /// <param name="hosted">The hosted engine (with the input log on).</param>
@@ -74,14 +76,15 @@ public sealed partial class BrokerSubscriber : IHostedService, IDisposable
             throw new InvalidOperationException("The broker mode acknowledges a message only once the input log holds it: StreamForecast:InputLog:Enabled must be true.");
         }
 
-        MqttClientOptions options = new MqttClientOptionsBuilder()
+        _options = new MqttClientOptionsBuilder()
             .WithTcpServer(_settings.Host, _settings.Port)
             .WithClientId(_settings.ClientId)
             .WithProtocolVersion(MqttProtocolVersion.V500)
             .WithCleanStart(false)
             .WithSessionExpiryInterval(SessionExpirySeconds)
             .Build();
-        MqttClientConnectResult connected = await _client.ConnectAsync(options, cancellationToken);
+        MqttClientConnectResult connected = await _client.ConnectAsync(_options, cancellationToken);
+        _client.DisconnectedAsync += OnDisconnectedAsync;
         await _client.SubscribeAsync(new MqttClientSubscribeOptionsBuilder().WithTopicFilter(_settings.TopicFilter, MqttQualityOfServiceLevel.AtLeastOnce).Build(), cancellationToken);
         _output.WriteLine($"{ReadyPrefix}{_settings.TopicFilter} on {_settings.Host}:{_settings.Port} as {_settings.ClientId} (QoS 1, {(connected.IsSessionPresent ? "session resumed" : "new session")}); engine {Describe(_hosted.Start)}");
         _statusLoop = ReportWhileRunningAsync(_stopping.Token);
@@ -172,6 +175,34 @@ public sealed partial class BrokerSubscriber : IHostedService, IDisposable
         }
     }
 
+    private async Task OnDisconnectedAsync(MqttClientDisconnectedEventArgs e)
+    {
+        // Lost the broker while running: reconnect every 2 s with the same session (the broker keeps what arrives).
+        CancellationToken stopping = _stopping.Token;
+        if (!stopping.IsCancellationRequested)
+        {
+            LogDisconnected(_logger, e.Reason.ToString());
+        }
+
+        while (!stopping.IsCancellationRequested && !_client.IsConnected)
+        {
+            try
+            {
+                await Task.Delay(TimeSpan.FromSeconds(2), stopping);
+                await _client.ConnectAsync(_options!, stopping);
+                await _client.SubscribeAsync(new MqttClientSubscribeOptionsBuilder().WithTopicFilter(_settings.TopicFilter, MqttQualityOfServiceLevel.AtLeastOnce).Build(), stopping);
+            }
+            catch (OperationCanceledException)
+            {
+                return;
+            }
+            catch (Exception ex) when (ex is MqttCommunicationException or InvalidOperationException)
+            {
+                // still unreachable: try again
+            }
+        }
+    }
+
     private static bool TryRead(MqttApplicationMessage message, out Observation<string> observation, out string? problem)
     {
         observation = default;
@@ -208,6 +239,9 @@ public sealed partial class BrokerSubscriber : IHostedService, IDisposable
         Interlocked.Increment(ref _refused);
         LogRefused(_logger, topic, problem);
     }
+
+    [LoggerMessage(Level = LogLevel.Warning, Message = "Disconnected from the broker ({Reason}); reconnecting every 2 s with the same session")]
+    private static partial void LogDisconnected(ILogger logger, string reason);
 
     [LoggerMessage(Level = LogLevel.Warning, Message = "A reading on {Topic} was not acknowledged (the broker will deliver it again)")]
     private static partial void LogNotAcknowledged(ILogger logger, Exception error, string topic);
