@@ -10,7 +10,8 @@ namespace StreamForecast.Hosting.Tests.Samples;
 /// <summary>
 /// The sensor sample's broker mode against a real Mosquitto broker (a throwaway one on a free loopback port): readings
 /// published with <c>mosquitto_pub -q 1</c>, the consumer killed by process id mid-stream and restarted with the same
-/// client id: every reading is counted exactly once, the redelivered ones as duplicates.
+/// client id: every reading is counted exactly once, the redelivered and resent ones as duplicates; a garbled message is
+/// refused; a third start after a graceful stop has nothing to replay.
 /// </summary>
 public sealed partial class SensorBrokerKillTests(ITestOutputHelper log) : IDisposable
 {
@@ -73,6 +74,10 @@ public sealed partial class SensorBrokerKillTests(ITestOutputHelper log) : IDisp
         ThroughputReading repeat = readings.FindLast(r => r.Device == FleetScenario.Devices[0].Device)!;
         await broker.PublishAsync($"plant/{repeat.Device}/throughput", "gateway-resend", [JsonSerializer.Serialize(repeat, s_json)]);
         await second.WaitForLineAsync(l => Parse(l, BrokerSubscriber.StatusPrefix) is { } c && c.Taken >= total && c.Duplicates >= 1 && c.Acknowledged >= total - replayed + 1, s_wait, "ignoring the resent reading");
+
+        // A message that is not a reading is refused (and acknowledged, so the broker does not send it forever).
+        await broker.PublishAsync("plant/dock-b/throughput", "gateway-garbled", ["{\"device\":\"dock-b\",\"sequence\":"]);
+        await second.WaitForLineAsync(l => Parse(l, BrokerSubscriber.StatusPrefix) is { Refused: 1 }, s_wait, "refusing the garbled message");
         Assert.Equal(0, await second.StopAsync(TimeSpan.FromSeconds(30)));
         string stopped = (await second.WaitForLineAsync(l => l.StartsWith(BrokerSubscriber.StoppedPrefix, StringComparison.Ordinal), TimeSpan.FromSeconds(1), "its stop report"));
         Counts end = Parse(stopped, BrokerSubscriber.StoppedPrefix)!.Value;
@@ -81,7 +86,7 @@ public sealed partial class SensorBrokerKillTests(ITestOutputHelper log) : IDisp
         // dropped as late or rejected none, and ignored as duplicates exactly the redelivered messages that were already
         // in the log and the resent one: run 2 acknowledged the readings the log did not hold plus those repeats.
         Assert.Equal(total, end.Taken);
-        Assert.Equal((0, 0, 0), (end.Refused, end.Late, end.Rejected));
+        Assert.Equal((1, 0, 0), (end.Refused, end.Late, end.Rejected));
         Assert.Equal(end.Acknowledged - (total - replayed), end.Duplicates);
         Assert.True(end.Duplicates >= 1, stopped);
         // Each gateway's open interval is the one its last reading's time, less the allowed lateness, falls in: the
@@ -91,6 +96,17 @@ public sealed partial class SensorBrokerKillTests(ITestOutputHelper log) : IDisp
         foreach ((string device, _) in FleetScenario.Devices)
         {
             Assert.Contains($"  {device,-7} open interval from {open:yyyy-MM-dd HH:mm}; next ", second.Output, StringComparison.Ordinal);
+        }
+
+        // Run 3, after the graceful stop: the on-stop checkpoint holds every logged reading (the replayed ones and
+        // every one run 2 acknowledged, duplicates included), so nothing is replayed and the session has nothing queued.
+        await using (SensorConsumerProcess third = SensorConsumerProcess.Start(args))
+        {
+            string again = await third.WaitForLineAsync(l => l.StartsWith(BrokerSubscriber.ReadyPrefix, StringComparison.Ordinal), s_wait, "subscribing a third time");
+            Assert.EndsWith($"(QoS 1, session resumed); engine restored {FleetScenario.Devices.Count} series from the checkpoint at input position {replayed + end.Acknowledged}, then replayed 0 logged readings (0 refused)", again, StringComparison.Ordinal);
+            Assert.Equal(0, await third.StopAsync(TimeSpan.FromSeconds(30)));
+            string idle = await third.WaitForLineAsync(l => l.StartsWith(BrokerSubscriber.StoppedPrefix, StringComparison.Ordinal), TimeSpan.FromSeconds(1), "its stop report");
+            Assert.Equal(new Counts(0, 0, 0, 0, 0, 0), Parse(idle, BrokerSubscriber.StoppedPrefix));
         }
 
         log.WriteLine($"{total} readings published; consumer PID {killedPid} killed after {acknowledgedBeforeKill}+ acknowledgements; restart replayed {replayed} from the input log, " +
