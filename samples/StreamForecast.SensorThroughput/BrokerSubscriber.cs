@@ -142,12 +142,14 @@ public sealed partial class BrokerSubscriber : IHostedService, IDisposable
 
     private async Task OnMessageAsync(MqttApplicationMessageReceivedEventArgs e)
     {
-        e.AutoAcknowledge = false; // acknowledged below, only once the input log holds the reading
+        // Acknowledged below, only once the input log holds the reading (or the message can never be one). The
+        // acknowledgement itself is not cancelled by a stop: a reading that is logged should not be delivered again.
+        e.AutoAcknowledge = false;
         CancellationToken stopping = _stopping.Token;
         if (!TryRead(e.ApplicationMessage, out Observation<string> observation, out string? problem))
         {
             Refuse(e.ApplicationMessage.Topic, problem);
-            await e.AcknowledgeAsync(stopping);
+            await e.AcknowledgeAsync(CancellationToken.None);
             return;
         }
 
@@ -158,7 +160,7 @@ public sealed partial class BrokerSubscriber : IHostedService, IDisposable
         catch (ArgumentOutOfRangeException ex)
         {
             Refuse(e.ApplicationMessage.Topic, ex.Message);
-            await e.AcknowledgeAsync(stopping);
+            await e.AcknowledgeAsync(CancellationToken.None);
             return;
         }
         catch (Exception ex) when (ex is IOException or InvalidOperationException or OperationCanceledException)
@@ -168,7 +170,7 @@ public sealed partial class BrokerSubscriber : IHostedService, IDisposable
             return;
         }
 
-        await e.AcknowledgeAsync(stopping);
+        await e.AcknowledgeAsync(CancellationToken.None);
         if (Interlocked.Increment(ref _acknowledged) % ProgressEvery == 0)
         {
             _output.WriteLine(StatusPrefix + Status(_hosted.Engine.GetCounters()));
