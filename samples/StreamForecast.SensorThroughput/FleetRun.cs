@@ -134,17 +134,22 @@ public static class FleetRun
         builder.Logging.AddSimpleConsole().SetMinimumLevel(LogLevel.Error);
         builder.Services.AddStreamForecast<string>(builder.Configuration.GetSection("StreamForecast"), o =>
         {
-            o.DefaultSeries = new SeriesOptions(
-                new ExponentialSmoothingOptions(alpha: 0.2),
-                PeriodCalendar.FixedInterval(FleetScenario.Interval),
-                lateness: new LatenessPolicy(TimeSpan.FromSeconds(30)),
-                gaps: GapPolicy.Missing, // an offline gateway's silence is no data, not zero traffic
-                rules: [new CusumRuleOptions(decisionInterval: 5, warmUpPeriods: 10)]);
+            o.DefaultSeries = SeriesFor(TimeSpan.FromSeconds(30));
             o.KeyComparer = StringComparer.Ordinal;
             o.Partitions = 2;
         });
         return builder.Build();
     }
+
+    /// <summary>How a gateway's throughput is forecast, in both modes.</summary>
+    /// <param name="allowedLateness">How late (by event time) a reading may arrive and still count.</param>
+    /// <returns>The series options.</returns>
+    internal static SeriesOptions SeriesFor(TimeSpan allowedLateness) => new(
+        new ExponentialSmoothingOptions(alpha: 0.2),
+        PeriodCalendar.FixedInterval(FleetScenario.Interval),
+        lateness: new LatenessPolicy(allowedLateness),
+        gaps: GapPolicy.Missing, // an offline gateway's silence is no data, not zero traffic
+        rules: [new CusumRuleOptions(decisionInterval: 5, warmUpPeriods: 10)]);
 
     private static async Task<int> PublishDeviceAsync(MqttClientFactory clients, int port, string device, double rate, int seed, CancellationToken cancellationToken)
     {
