@@ -1,4 +1,5 @@
 using System.Globalization;
+using StreamForecast.Streaming;
 
 namespace StreamForecast.PostgreSql;
 
@@ -18,8 +19,8 @@ public sealed record PostgreSqlCheckpointStoreOptions
     /// <summary>The largest limit accepted: 1,000,000,000 bytes, below PostgreSQL's limit of 1 GiB on one <c>bytea</c> value.</summary>
     public const long MaxSnapshotLengthLimit = 1_000_000_000;
 
-    /// <summary>The longest stream name accepted: 256 characters.</summary>
-    public const int MaxStreamNameLength = 256;
+    /// <summary>The longest stream name accepted: 256 characters (<see cref="CheckpointStreamName.MaxLength"/>).</summary>
+    public const int MaxStreamNameLength = CheckpointStreamName.MaxLength;
 
     /// <summary>The default database schema that holds the store's tables: <c>streamforecast</c>.</summary>
     public const string DefaultSchemaName = "streamforecast";
@@ -68,7 +69,7 @@ public sealed record PostgreSqlCheckpointStoreOptions
 
         ArgumentNullException.ThrowIfNull(streamName);
         ArgumentNullException.ThrowIfNull(schemaName);
-        ValidateStreamName(streamName);
+        CheckpointStreamName.Validate(streamName);
         ValidateSchemaName(schemaName);
         RetainCount = retainCount;
         MaxSnapshotLength = maxSnapshotLength;
@@ -90,40 +91,6 @@ public sealed record PostgreSqlCheckpointStoreOptions
 
     /// <summary>The database schema that holds the store's tables; <c>streamforecast</c> by default.</summary>
     public string SchemaName { get; }
-
-    // The same rule as SqliteCheckpointStoreOptions' stream names, so that a stream name valid for one store is valid for
-    // the other (the Orleans grain storage names streams the same way for both).
-    private static void ValidateStreamName(string streamName)
-    {
-        if (streamName.Length > MaxStreamNameLength)
-        {
-            throw new ArgumentException(
-                string.Create(CultureInfo.InvariantCulture, $"The stream name is {streamName.Length} characters long; a stream name has at most {MaxStreamNameLength} characters."),
-                nameof(streamName));
-        }
-
-        for (int i = 0; i < streamName.Length; i++)
-        {
-            char c = streamName[i];
-            if (char.IsControl(c))
-            {
-                throw new ArgumentException(
-                    string.Create(CultureInfo.InvariantCulture, $"The stream name holds the control character U+{(int)c:X4} at index {i}; a stream name may hold any characters except control characters."),
-                    nameof(streamName));
-            }
-
-            if (char.IsHighSurrogate(c) && i + 1 < streamName.Length && char.IsLowSurrogate(streamName[i + 1]))
-            {
-                i++;
-            }
-            else if (char.IsSurrogate(c))
-            {
-                throw new ArgumentException(
-                    string.Create(CultureInfo.InvariantCulture, $"The stream name holds an unpaired surrogate U+{(int)c:X4} at index {i}; a stream name must be well-formed UTF-16, since it is stored as UTF-8."),
-                    nameof(streamName));
-            }
-        }
-    }
 
     private static void ValidateSchemaName(string schemaName)
     {

@@ -1,4 +1,5 @@
 using System.Globalization;
+using StreamForecast.Streaming;
 
 namespace StreamForecast.Sqlite;
 
@@ -18,8 +19,8 @@ public sealed record SqliteCheckpointStoreOptions
     /// <summary>The largest limit accepted: 1,000,000,000 bytes, SQLite's default limit on one value.</summary>
     public const long MaxSnapshotLengthLimit = 1_000_000_000;
 
-    /// <summary>The longest stream name accepted: 256 characters.</summary>
-    public const int MaxStreamNameLength = 256;
+    /// <summary>The longest stream name accepted: 256 characters (<see cref="CheckpointStreamName.MaxLength"/>).</summary>
+    public const int MaxStreamNameLength = CheckpointStreamName.MaxLength;
 
     /// <summary>Creates SQLite checkpoint store options.</summary>
     /// <param name="retainCount">
@@ -49,7 +50,7 @@ public sealed record SqliteCheckpointStoreOptions
         }
 
         ArgumentNullException.ThrowIfNull(streamName);
-        ValidateStreamName(streamName);
+        CheckpointStreamName.Validate(streamName);
         RetainCount = retainCount;
         MaxSnapshotLength = maxSnapshotLength;
         StreamName = streamName;
@@ -66,37 +67,4 @@ public sealed record SqliteCheckpointStoreOptions
 
     /// <summary>The stream whose checkpoints the store reads, writes and prunes; "" by default.</summary>
     public string StreamName { get; }
-
-    /// <summary>Checks a stream name (shared with <see cref="SqliteInputLogOptions"/>).</summary>
-    internal static void ValidateStreamName(string streamName)
-    {
-        if (streamName.Length > MaxStreamNameLength)
-        {
-            throw new ArgumentException(
-                string.Create(CultureInfo.InvariantCulture, $"The stream name is {streamName.Length} characters long; a stream name has at most {MaxStreamNameLength} characters."),
-                nameof(streamName));
-        }
-
-        for (int i = 0; i < streamName.Length; i++)
-        {
-            char c = streamName[i];
-            if (char.IsControl(c))
-            {
-                throw new ArgumentException(
-                    string.Create(CultureInfo.InvariantCulture, $"The stream name holds the control character U+{(int)c:X4} at index {i}; a stream name may hold any characters except control characters."),
-                    nameof(streamName));
-            }
-
-            if (char.IsHighSurrogate(c) && i + 1 < streamName.Length && char.IsLowSurrogate(streamName[i + 1]))
-            {
-                i++;
-            }
-            else if (char.IsSurrogate(c))
-            {
-                throw new ArgumentException(
-                    string.Create(CultureInfo.InvariantCulture, $"The stream name holds an unpaired surrogate U+{(int)c:X4} at index {i}; a stream name must be well-formed UTF-16, since it is stored as UTF-8."),
-                    nameof(streamName));
-            }
-        }
-    }
 }

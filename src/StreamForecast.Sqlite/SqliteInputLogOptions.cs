@@ -1,4 +1,5 @@
 using System.Globalization;
+using StreamForecast.Streaming;
 
 namespace StreamForecast.Sqlite;
 
@@ -26,7 +27,7 @@ public sealed record SqliteInputLogOptions
     public SqliteInputLogOptions(string streamName = "", int maxRecordLength = DefaultMaxRecordLength)
     {
         ArgumentNullException.ThrowIfNull(streamName);
-        SqliteCheckpointStoreOptions.ValidateStreamName(streamName);
+        CheckpointStreamName.Validate(streamName);
         if (maxRecordLength is < 1 or > MaxRecordLengthLimit)
         {
             throw new ArgumentOutOfRangeException(
