@@ -167,6 +167,15 @@ public sealed class ClusterNodeKillTests : IAsyncLifetime
         _output.WriteLine($"whole test {clock.Elapsed.TotalSeconds:F1} s");
     }
 
+    [Fact]
+    public async Task StartAsync_NoConnectionString_ExitsWithCode2NamingTheSetting()
+    {
+        var error = await Assert.ThrowsAsync<InvalidOperationException>(() => NodeProcess.StartAsync("", _clusterId, NodeStartTimeout));
+
+        Assert.Contains("exited with code 2", error.Message, StringComparison.Ordinal);
+        Assert.Contains("ClusterNode:ConnectionString is missing", error.Message, StringComparison.Ordinal);
+    }
+
     // The client retries a call with the same call id itself; if it gives up, the test posts the batch again with the
     // same event ids, as a producer would, so the part already applied is recognised by id and not counted twice.
     private static async Task PostAsync(ForecastClusterClient<string> client, Observation<string>[] batch, Action reposted)
