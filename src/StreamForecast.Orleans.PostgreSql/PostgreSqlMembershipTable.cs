@@ -156,6 +156,11 @@ internal sealed class PostgreSqlMembershipTable : IMembershipTable
         await using NpgsqlConnection connection = await _dataSource.OpenConnectionAsync().ConfigureAwait(false);
         await using NpgsqlTransaction transaction = await connection.BeginTransactionAsync(IsolationLevel.ReadCommitted).ConfigureAwait(false);
 
+        // A cluster initialised without its version row (InitializeMembershipTable(false) first, or entries deleted)
+        // starts at version 0, ETag 0, as ReadAll reports it; an existing row is left alone.
+        await ExecuteAsync(connection, transaction,
+            $"INSERT INTO {_schema}.membership_version (cluster_id, version, etag) VALUES ($1, 0, 0) ON CONFLICT DO NOTHING", _clusterId).ConfigureAwait(false);
+
         // The version row is the one point every writer of this cluster passes: its row lock orders them, and the ETag
         // comparison under that lock lets exactly one of several writers holding the same ETag through.
         int moved = await ExecuteAsync(connection, transaction,

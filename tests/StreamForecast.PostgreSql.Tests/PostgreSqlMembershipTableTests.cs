@@ -36,6 +36,18 @@ public sealed class PostgreSqlMembershipTableTests : IAsyncLifetime
     }
 
     [Fact]
+    public async Task InsertRow_TableInitialisedWithoutVersion_FirstWriterOnTheReadVersionSucceeds()
+    {
+        PostgreSqlMembershipTable table = Table();
+        await table.InitializeMembershipTable(false);
+        MembershipTableData empty = await table.ReadAll();
+
+        Assert.True(await table.InsertRow(Entry(11111, SiloStatus.Joining), empty.Version.Next()));
+        Assert.False(await table.InsertRow(Entry(22222, SiloStatus.Joining), empty.Version.Next()));
+        Assert.Equal(1, (await table.ReadAll()).Version.Version);
+    }
+
+    [Fact]
     public async Task InsertRow_CurrentVersion_RowReadsBackFieldForFieldAndVersionMoves()
     {
         PostgreSqlMembershipTable table = await InitializedAsync();
