@@ -52,8 +52,10 @@ public sealed partial class MethodSelector
                 return string.Create(CultureInfo.InvariantCulture, $"candidate {i}'s forecaster has seen a different number of actuals than the selector");
             }
 
-            // Imports are rare: a probe forecaster checks the candidate's part with the candidate's own rules.
-            Forecaster probe = _options.Candidates[i].CreateForecaster();
+            // A probe forecaster per candidate checks the candidate's part with the candidate's own rules; made on the first
+            // import and reused, so a restating series (which imports on every late event) allocates nothing after that.
+            _probes ??= new Forecaster[k];
+            Forecaster probe = _probes[i] ??= _options.Candidates[i].CreateForecaster();
             try
             {
                 probe.ImportState(part);

@@ -58,6 +58,7 @@ public sealed partial class MethodSelector : Forecaster
     private int _challenger = -1;
     private int _challengerRun;
     private long _switches;
+    private Forecaster?[]? _probes; // scratch forecasters for import validation, made on the first import
     private SelectionStep _last = new(double.NaN, double.NaN, double.NaN, -1, -1, false);
 
     /// <summary>Creates a selector with every candidate's forecaster empty.</summary>
