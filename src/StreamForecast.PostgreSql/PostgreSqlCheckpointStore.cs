@@ -106,14 +106,7 @@ public sealed class PostgreSqlCheckpointStore : IConditionalCheckpointStore, IAs
     /// <summary>The store's settings.</summary>
     public PostgreSqlCheckpointStoreOptions Options => _options;
 
-    /// <summary>
-    /// Saves a checkpoint as a new row of the store's stream and deletes all but the stream's newest
-    /// <see cref="PostgreSqlCheckpointStoreOptions.RetainCount"/> rows, in one transaction.
-    /// </summary>
-    /// <param name="snapshot">The snapshot's bytes, 1 to <see cref="PostgreSqlCheckpointStoreOptions.MaxSnapshotLength"/>.</param>
-    /// <param name="inputPosition">The input position the snapshot accounts for, ≥ 0.</param>
-    /// <param name="cancellationToken">Cancels the save before the commit; the stored checkpoints are then unchanged.</param>
-    /// <returns>A task that completes once the transaction has committed.</returns>
+    /// <inheritdoc/>
     /// <exception cref="ArgumentOutOfRangeException"><paramref name="inputPosition"/> is negative.</exception>
     /// <exception cref="ArgumentException">The snapshot is empty or longer than <see cref="PostgreSqlCheckpointStoreOptions.MaxSnapshotLength"/>.</exception>
     /// <exception cref="InvalidDataException">The schema is not a checkpoint schema this version can use.</exception>
@@ -132,23 +125,7 @@ public sealed class PostgreSqlCheckpointStore : IConditionalCheckpointStore, IAs
         System.Diagnostics.Debug.Assert(saved, "An unconditional save always stores its checkpoint.");
     }
 
-    /// <summary>
-    /// Saves a checkpoint as <see cref="SaveAsync"/> does, but only if the stream's newest valid checkpoint accounts for
-    /// <paramref name="expectedLatestPosition"/>; the comparison, the insert and the pruning are one transaction, under
-    /// the stream's row lock.
-    /// </summary>
-    /// <param name="snapshot">The snapshot's bytes, 1 to <see cref="PostgreSqlCheckpointStoreOptions.MaxSnapshotLength"/>.</param>
-    /// <param name="inputPosition">The input position the snapshot accounts for, ≥ 0.</param>
-    /// <param name="expectedLatestPosition">
-    /// The input position of the stream's newest checkpoint that passes validation (the one <see cref="LoadLatestAsync"/>
-    /// returns), ≥ 0; or <see langword="null"/> to save only when the stream holds no valid checkpoint (no row at all, or
-    /// only damaged rows, the case in which <see cref="LoadLatestAsync"/> throws).
-    /// </param>
-    /// <param name="cancellationToken">Cancels the save before the commit; the stored checkpoints are then unchanged.</param>
-    /// <returns>
-    /// <see langword="true"/> once the transaction has committed; <see langword="false"/> when the expectation did not
-    /// match, in which case nothing was written or deleted.
-    /// </returns>
+    /// <inheritdoc/>
     /// <exception cref="ArgumentOutOfRangeException"><paramref name="inputPosition"/> or <paramref name="expectedLatestPosition"/> is negative.</exception>
     /// <exception cref="ArgumentException">The snapshot is empty or longer than <see cref="PostgreSqlCheckpointStoreOptions.MaxSnapshotLength"/>.</exception>
     /// <exception cref="InvalidDataException">The schema is not a checkpoint schema this version can use.</exception>
@@ -175,11 +152,7 @@ public sealed class PostgreSqlCheckpointStore : IConditionalCheckpointStore, IAs
         return await SaveCoreAsync(snapshot, inputPosition, conditional: true, expectedLatestPosition, cancellationToken).ConfigureAwait(false);
     }
 
-    /// <summary>
-    /// Loads the stream's newest checkpoint whose length and SHA-256 match its bytes, falling back to older rows.
-    /// </summary>
-    /// <param name="cancellationToken">Cancels the load.</param>
-    /// <returns>The checkpoint, with any newer rows skipped; null when the stream holds no checkpoint (a new schema or stream).</returns>
+    /// <inheritdoc/>
     /// <exception cref="InvalidDataException">
     /// Checkpoints of the stream exist but none is usable (the message lists each and why), or the schema is not a
     /// checkpoint schema this version can use (a newer schema version, another application's tables).
