@@ -1,6 +1,7 @@
 using BenchmarkDotNet.Attributes;
 using Orleans.TestingHost;
 using StreamForecast.Orleans;
+using StreamForecast.Orleans.PostgreSql;
 using StreamForecast.Streaming;
 
 namespace StreamForecast.Benchmarks;
@@ -13,6 +14,9 @@ namespace StreamForecast.Benchmarks;
 /// Each invocation continues the event time of the last one, so the series' state does not grow between iterations.
 /// <see cref="ThreeSiloClusterNotDurable"/> runs the same cluster with Orleans' in-memory grain storage, which loses a
 /// bucket when its silo dies (never use it for the buckets): the difference between the two is the cost of the durable writes.
+/// <see cref="ThreeSiloClusterPostgreSql"/> runs the same cluster with the bucket state in PostgreSQL
+/// (<c>AddPostgreSqlCheckpointGrainStorage</c>, every silo on one database of a throwaway server started in the setup
+/// on loopback, on this same machine).
 /// </summary>
 [MemoryDiagnoser]
 public class ClusterThroughputBenchmarks
@@ -29,10 +33,18 @@ public class ClusterThroughputBenchmarks
     private InProcessTestCluster? _silos;
     private ForecastClusterClient<string>? _client;
     private string _directory = "";
+    private ThrowawayPostgreSqlServer? _postgres;
 
     /// <summary>Observations per post: 1,000 (about 42 per bucket call) or 4,000 (about 167); a bucket stores once per call.</summary>
-    [Params(1_000, 4_000)]
+    [ParamsSource(nameof(Batches))]
     public int Batch { get; set; }
+
+    /// <summary>
+    /// 1,000 and 4,000; only 1,000 when STREAMFORECAST_BENCH_SMOKE=1 (the CI dry run, which must stay short: each case
+    /// starts a 3-silo cluster, and the PostgreSQL case a database server too).
+    /// </summary>
+    public static IEnumerable<int> Batches =>
+        Environment.GetEnvironmentVariable("STREAMFORECAST_BENCH_SMOKE") == "1" ? [1_000] : [1_000, 4_000];
 
     /// <summary>Setup for the single-process engine (2 partitions, as on this 2-core machine).</summary>
     [GlobalSetup(Target = nameof(SingleProcessEngine))]
@@ -48,13 +60,36 @@ public class ClusterThroughputBenchmarks
 
     /// <summary>Setup for the cluster: 3 silos, shared SQLite storage, one connected client.</summary>
     [GlobalSetup(Target = nameof(ThreeSiloCluster))]
-    public void SetupCluster() => StartCluster(durable: true);
+    public void SetupCluster() => StartCluster(Storage.Sqlite);
+
+    /// <summary>Setup for the same cluster on PostgreSQL: a throwaway server, then the silos on it.</summary>
+    [GlobalSetup(Target = nameof(ThreeSiloClusterPostgreSql))]
+    public void SetupClusterPostgreSql()
+    {
+        _postgres = ThrowawayPostgreSqlServer.Start(maxPoolSize: 30);
+        try
+        {
+            StartCluster(Storage.PostgreSql);
+        }
+        catch
+        {
+            Cleanup(); // a setup that throws gets no cleanup: stop the server here
+            throw;
+        }
+    }
 
     /// <summary>Setup for the same cluster on Orleans' in-memory storage.</summary>
     [GlobalSetup(Target = nameof(ThreeSiloClusterNotDurable))]
-    public void SetupClusterNotDurable() => StartCluster(durable: false);
+    public void SetupClusterNotDurable() => StartCluster(Storage.Memory);
 
-    private void StartCluster(bool durable)
+    private enum Storage
+    {
+        Sqlite,
+        PostgreSql,
+        Memory,
+    }
+
+    private void StartCluster(Storage storage)
     {
         Common();
         _directory = Path.Combine(Path.GetTempPath(), "sf-bench-cluster-" + Guid.NewGuid().ToString("N"));
@@ -65,13 +100,17 @@ public class ClusterThroughputBenchmarks
         builder.ConfigureSilo((_, silo) =>
         {
             silo.AddForecastBuckets(Options(), SnapshotKeyCodecs.Utf8String, s_cluster);
-            if (durable)
+            switch (storage)
             {
-                silo.AddSqliteCheckpointGrainStorage(path);
-            }
-            else
-            {
-                silo.AddMemoryGrainStorage(ForecastClusterOptions.StorageName);
+                case Storage.Sqlite:
+                    silo.AddSqliteCheckpointGrainStorage(path);
+                    break;
+                case Storage.PostgreSql:
+                    silo.AddPostgreSqlCheckpointGrainStorage(_postgres!.ConnectionString);
+                    break;
+                default:
+                    silo.AddMemoryGrainStorage(ForecastClusterOptions.StorageName);
+                    break;
             }
         });
         _silos = builder.Build();
@@ -95,6 +134,9 @@ public class ClusterThroughputBenchmarks
             Microsoft.Data.Sqlite.SqliteConnection.ClearAllPools();
             Directory.Delete(_directory, recursive: true);
         }
+
+        _postgres?.Dispose();
+        _postgres = null;
     }
 
     /// <summary>The baseline: post and flush through the in-process engine.</summary>
@@ -104,6 +146,10 @@ public class ClusterThroughputBenchmarks
     /// <summary>Post and flush through the cluster client: applied and stored by the bucket grains.</summary>
     [Benchmark(OperationsPerInvoke = Ops)]
     public void ThreeSiloCluster() => RunAsync(_client!).GetAwaiter().GetResult();
+
+    /// <summary>The same with the bucket state in PostgreSQL (one throwaway server on loopback, shared by the 3 silos).</summary>
+    [Benchmark(OperationsPerInvoke = Ops)]
+    public void ThreeSiloClusterPostgreSql() => RunAsync(_client!).GetAwaiter().GetResult();
 
     /// <summary>The same on in-memory grain storage (not durable; for the comparison only).</summary>
     [Benchmark(OperationsPerInvoke = Ops)]
