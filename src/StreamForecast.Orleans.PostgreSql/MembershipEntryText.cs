@@ -3,7 +3,10 @@ using Orleans.Runtime;
 
 namespace StreamForecast.Orleans.PostgreSql;
 
-// A membership entry as the JSON text stored in its row. Times are UTC ticks; addresses are Orleans' parsable form.
+/// <summary>
+/// A membership entry as the JSON text stored in its row. Times are UTC ticks; addresses are Orleans' parsable form.
+/// </summary>
+/// <remarks>Thread safety: stateless; thread-safe.</remarks>
 internal static class MembershipEntryText
 {
     public static string Write(MembershipEntry entry)

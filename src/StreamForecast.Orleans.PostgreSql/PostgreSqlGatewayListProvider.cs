@@ -2,7 +2,10 @@ using Orleans.Messaging;
 
 namespace StreamForecast.Orleans.PostgreSql;
 
-// The client's list of gateways: the active silos of its cluster in the membership table, with their gateway ports.
+/// <summary>
+/// The client's list of gateways: the active silos of its cluster in the membership table, with their gateway ports.
+/// </summary>
+/// <remarks>Thread safety: safe for concurrent use by the silo or client that owns it.</remarks>
 internal sealed class PostgreSqlGatewayListProvider(PostgreSqlMembershipTable table, TimeSpan refreshPeriod) : IGatewayListProvider
 {
     public TimeSpan MaxStaleness { get; } = refreshPeriod;

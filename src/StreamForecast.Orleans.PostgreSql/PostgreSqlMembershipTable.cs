@@ -6,12 +6,15 @@ using Orleans.Runtime;
 
 namespace StreamForecast.Orleans.PostgreSql;
 
-// Orleans' membership table over PostgreSQL. Two tables in a schema of their own: one row per cluster holding the table
-// version and its ETag (a counter that every row change moves), and one row per silo holding the entry and a row ETag (a
-// counter moved by UpdateRow only, so heartbeats leave previously read row ETags valid, as the interface asks).
-// Every change of the table version runs in one transaction: first the version row is moved only if its ETag still
-// matches (so of two writers with the same stale ETag exactly one wins), then the member row is inserted or updated;
-// either failing rolls both back.
+/// <summary>
+/// Orleans' membership table over PostgreSQL. Two tables in a schema of their own: one row per cluster holding the table
+/// version and its ETag (a counter that every row change moves), and one row per silo holding the entry and a row ETag (a
+/// counter moved by UpdateRow only, so heartbeats leave previously read row ETags valid, as the interface asks).
+/// Every change of the table version runs in one transaction: first the version row is moved only if its ETag still
+/// matches (so of two writers with the same stale ETag exactly one wins), then the member row is inserted or updated;
+/// either failing rolls both back.
+/// </summary>
+/// <remarks>Thread safety: safe for concurrent use by the silo or client that owns it.</remarks>
 internal sealed class PostgreSqlMembershipTable : IMembershipTable
 {
     // The key of the transaction-scoped advisory lock held while the schema is created: "SFmember" in ASCII.

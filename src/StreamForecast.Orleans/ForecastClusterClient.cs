@@ -27,7 +27,7 @@ namespace StreamForecast.Orleans;
 /// <para><b>Thread safety.</b> Every public member is thread-safe.</para>
 /// <para>Forecasts and alerts are advisory and need a person's judgement before stock or staff are changed.</para>
 /// </remarks>
-public sealed class ForecastClusterClient<TKey> : IForecastEngine<TKey>, ISeriesBucketObserver<TKey>
+public sealed partial class ForecastClusterClient<TKey> : IForecastEngine<TKey>, ISeriesBucketObserver<TKey>
     where TKey : notnull
 {
     private readonly IGrainFactory _grains;
@@ -285,76 +285,6 @@ public sealed class ForecastClusterClient<TKey> : IForecastEngine<TKey>, ISeries
         _faults.Complete();
         await Task.WhenAll(_forecasts.Completion, _alerts.Completion, _faults.Completion).ConfigureAwait(false);
         _stopping.Dispose();
-    }
-
-    private void Deliver(BucketOutput<TKey> output)
-    {
-        _lastNumber[output.Bucket] = output.Number;
-        foreach (ForecastUpdate<TKey> f in output.Forecasts)
-        {
-            _forecasts.TryPublish(f);
-        }
-
-        foreach (DriftAlert<TKey> a in output.Alerts)
-        {
-            _alerts.TryPublish(a);
-        }
-
-        foreach (SeriesFault<TKey> f in output.Faults)
-        {
-            _faults.TryPublish(f);
-        }
-    }
-
-    /// <summary>Delivers the waiting outputs that now follow on without a gap. Under <see cref="_outputGate"/>.</summary>
-    private void DeliverWaiting(int bucket)
-    {
-        SortedList<long, (BucketOutput<TKey> Output, long Arrived)>? waiting = _waiting[bucket];
-        while (waiting is { Count: > 0 } && waiting.Keys[0] <= _lastNumber[bucket])
-        {
-            // Made before the first subscription's starting number: already accounted for.
-            waiting.RemoveAt(0);
-            _repeatedOutputs++;
-        }
-
-        while (waiting is { Count: > 0 } && waiting.Keys[0] == _lastNumber[bucket] + 1)
-        {
-            BucketOutput<TKey> next = waiting.Values[0].Output;
-            waiting.RemoveAt(0);
-            Deliver(next);
-        }
-    }
-
-    /// <summary>Gives up on the gap before the oldest waiting output: counts it as missed and delivers on. Under <see cref="_outputGate"/>.</summary>
-    private void SkipGap(int bucket)
-    {
-        DeliverWaiting(bucket);
-        SortedList<long, (BucketOutput<TKey> Output, long Arrived)>? waiting = _waiting[bucket];
-        if (waiting is not { Count: > 0 })
-        {
-            return;
-        }
-
-        long first = waiting.Keys[0];
-        _missedOutputs += first - _lastNumber[bucket] - 1;
-        _lastNumber[bucket] = first - 1;
-        DeliverWaiting(bucket);
-    }
-
-    /// <summary>Skips every gap that has waited longer than the reorder window (or, when stopping, every gap).</summary>
-    private void SkipStaleGaps(bool all)
-    {
-        long now = _time.GetTimestamp();
-        lock (_outputGate)
-        {
-            for (int b = 0; b < _waiting.Length; b++)
-            {
-                while (_waiting[b] is { Count: > 0 } waiting && (all || _time.GetElapsedTime(waiting.Values[0].Arrived, now) >= Options.OutputReorderWindow))
-                {
-                    SkipGap(b);
-                }
-            }
-        }
     }
 
     private async Task PostPartAsync(int bucket, List<Observation<TKey>> part, CancellationToken cancellationToken)

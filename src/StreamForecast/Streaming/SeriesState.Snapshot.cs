@@ -316,42 +316,6 @@ internal sealed partial class SeriesState<TKey>
         }
     }
 
-    private void ReadEventIds(SnapshotPayloadReader reader, long latest)
-    {
-        int ids = reader.ReadInt32();
-        if (ids < 0 || ids > _options.DuplicateWindow)
-        {
-            throw Invalid(Invariant($"it remembers {ids} event ids; the duplicate window for this key holds at most {_options.DuplicateWindow}"));
-        }
-
-        if (!_started && ids != 0)
-        {
-            throw Invalid("it has seen no event, yet it remembers event ids");
-        }
-
-        if (ids == 0)
-        {
-            return;
-        }
-
-        _ids = new EventIdWindow(_options.DuplicateWindow);
-        long min = _options.Calendar.MinPeriod;
-        for (int i = 0; i < ids; i++)
-        {
-            string id = reader.ReadString();
-            long period = reader.ReadInt64();
-            if (period < min || period > latest)
-            {
-                throw Invalid(Invariant($"event id '{id}' belongs to period {period}, outside the calendar's periods up to the latest event's period {latest}"));
-            }
-
-            if (!_ids.TryAdd(id, period))
-            {
-                throw Invalid(Invariant($"it remembers event id '{id}' twice"));
-            }
-        }
-    }
-
     private delegate void SpanImporter(ReadOnlySpan<double> state);
 
     private double[] ImportInto(SnapshotPayloadReader reader, SpanImporter import, string what)
