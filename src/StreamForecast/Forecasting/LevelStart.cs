@@ -3,19 +3,6 @@ using StreamForecast.Internal;
 
 namespace StreamForecast.Forecasting;
 
-/// <summary>The kinds of <see cref="LevelStart"/>.</summary>
-public enum LevelStartKind
-{
-    /// <summary>The first actual is the first level (<see cref="LevelStart.FirstActual"/>).</summary>
-    FirstActual = 0,
-
-    /// <summary>The mean of the first k actuals is the first level (<see cref="LevelStart.MeanOfFirst"/>).</summary>
-    MeanOfFirst = 1,
-
-    /// <summary>The caller gives the level before any actual (<see cref="LevelStart.Given"/>).</summary>
-    Given = 2,
-}
-
 /// <summary>
 /// How single exponential smoothing gets its first level, the value every later level is smoothed from.
 /// Create one with <see cref="FirstActual"/> (the default), <see cref="MeanOfFirst"/> or <see cref="Given"/>.

@@ -93,7 +93,7 @@ public sealed class TrackedForecasterTests
     [Fact]
     public void TryForecast_NaiveForecasterAfterNv1_IntervalWidthGrowsWithRootHorizon()
     {
-        // Random-walk model of the naive forecast: σ_h = σ·√h (practice.md, FPP from memory; NaiveForecaster ratio h).
+        // Random-walk model of the naive forecast: σ_h = σ·√h (practice.md, FPP from memory; Naive ratio h).
         // σ = 1.25·MAD (check-values M1, Armstrong) with MAD 2.266667 (check-values NV1, DERIVED).
         (var tracked, _) = Run(new NaiveOptions(), ReferenceData.NistTrend);
         double sigma = 1.25 * (20.4 / 9); // NV1: MAD = Σ|e| / 9 = 20.4 / 9 = 2.266667

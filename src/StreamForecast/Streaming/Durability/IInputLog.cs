@@ -51,19 +51,3 @@ public interface IInputLog : IAsyncDisposable
     /// <returns>The start (first position held) and end (the next position to be given); both 0 for a new log.</returns>
     ValueTask<InputLogRange> GetRangeAsync(CancellationToken cancellationToken = default);
 }
-
-/// <summary>One record read from an <see cref="IInputLog"/>.</summary>
-/// <param name="Position">The record's position.</param>
-/// <param name="Payload">The record's bytes, exactly as appended.</param>
-/// <remarks>An immutable value.</remarks>
-public readonly record struct InputLogRecord(long Position, ReadOnlyMemory<byte> Payload);
-
-/// <summary>The positions an <see cref="IInputLog"/> holds: from <paramref name="Start"/> up to, not including, <paramref name="End"/>.</summary>
-/// <param name="Start">The first position still held (everything before it was truncated); equal to <paramref name="End"/> when the log holds nothing.</param>
-/// <param name="End">The position the next appended record will get: the number of records ever appended.</param>
-/// <remarks>An immutable value.</remarks>
-public readonly record struct InputLogRange(long Start, long End)
-{
-    /// <summary>How many records the log holds.</summary>
-    public long Count => End - Start;
-}

@@ -2,52 +2,6 @@ using StreamForecast.Tracking;
 
 namespace StreamForecast.Streaming;
 
-/// <summary>The running error statistics of one series after a closed period (see <see cref="ErrorTracker"/> for definitions and the sign convention).</summary>
-/// <param name="ScoredPeriods">Periods scored so far.</param>
-/// <param name="Rsfe">Running sum of forecast errors.</param>
-/// <param name="Mad">Mean absolute deviation (cumulative).</param>
-/// <param name="SmoothedMad">Exponentially smoothed MAD.</param>
-/// <param name="Mse">Mean squared error.</param>
-/// <param name="Bias">Mean error.</param>
-/// <param name="Mape">Mean absolute percentage error in percent over non-zero actuals; NaN when undefined.</param>
-/// <param name="Mase">Mean absolute scaled error; NaN when undefined.</param>
-/// <param name="TrackingSignal">RSFE / MAD.</param>
-/// <param name="TriggSignal">Trigg's smoothed error / smoothed absolute error.</param>
-/// <param name="Sigma">The one-step error σ estimate.</param>
-public readonly record struct ErrorSummary(
-    long ScoredPeriods,
-    double Rsfe,
-    double Mad,
-    double SmoothedMad,
-    double Mse,
-    double Bias,
-    double Mape,
-    double Mase,
-    double TrackingSignal,
-    double TriggSignal,
-    double Sigma)
-{
-    /// <summary>Reads the current statistics of a tracker.</summary>
-    /// <param name="tracker">The tracker.</param>
-    /// <returns>A copy of its statistics.</returns>
-    public static ErrorSummary Of(ErrorTracker tracker)
-    {
-        ArgumentNullException.ThrowIfNull(tracker);
-        return new ErrorSummary(
-            tracker.Count, tracker.Rsfe, tracker.Mad, tracker.SmoothedMad, tracker.Mse, tracker.Bias,
-            tracker.Mape, tracker.Mase, tracker.TrackingSignal, tracker.TriggSignal, tracker.Sigma);
-    }
-
-    /// <summary>
-    /// The input every drift rule reads for a scored period: its error with this summary's σ and signals. The engine,
-    /// the backtester and the limit calibrator all build it here, so a rule sees the same numbers in each.
-    /// </summary>
-    /// <param name="error">The period's error (actual − forecast).</param>
-    /// <returns>The drift-rule input.</returns>
-    /// <remarks>O(1), no allocation.</remarks>
-    public Alerts.DriftInput ToDriftInput(double error) => new(error, Sigma, TrackingSignal, TriggSignal);
-}
-
 /// <summary>
 /// What happened to one series when a period closed: the period's actual, the forecast that had been made for it and
 /// its error, the new forecasts for the next period and for the configured horizon with prediction intervals, and
@@ -81,14 +35,3 @@ public readonly record struct ForecastUpdate<TKey>(
     ErrorSummary Errors,
     string Method,
     bool IsRestatement);
-
-/// <summary>A point forecast some periods ahead with its prediction interval.</summary>
-/// <param name="Horizon">Periods ahead (1 = the next period).</param>
-/// <param name="Value">The point forecast; NaN when <see cref="IsValid"/> is false.</param>
-/// <param name="Lower">The lower interval bound; NaN when no σ estimate exists yet.</param>
-/// <param name="Upper">The upper interval bound; NaN when no σ estimate exists yet.</param>
-public readonly record struct ForecastPoint(int Horizon, double Value, double Lower, double Upper)
-{
-    /// <summary>Whether a forecast exists (the method is warm).</summary>
-    public bool IsValid => !double.IsNaN(Value);
-}
