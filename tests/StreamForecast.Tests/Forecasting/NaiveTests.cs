@@ -3,7 +3,7 @@ using StreamForecast.Tests.Infrastructure;
 
 namespace StreamForecast.Tests.Forecasting;
 
-public sealed class NaiveForecasterTests : ForecasterContractTests
+public sealed class NaiveTests : ForecasterContractTests
 {
     protected override ForecasterOptions Options => new NaiveOptions();
 
