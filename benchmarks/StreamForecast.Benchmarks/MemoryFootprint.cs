@@ -71,7 +71,7 @@ internal static class MemoryFootprint
         Part("ErrorTracker, default options (m = 1)", () => ErrorTrackerOptions.Default.CreateTracker());
         Part("TrackedForecaster MA(12) (its object + the two above)", () => new TrackedForecaster(ma12));
         var signalRule = new TrackingSignalRuleOptions();
-        Part("TrackingSignalRule, default options", () => signalRule.CreateRule());
+        Part("Tracking-signal rule, default options", () => signalRule.CreateRule());
         Part("SeriesState<long>, no rule (the TrackedForecaster included)", () => new SeriesState<long>(1, noRules, 0));
         Part("SeriesState<long>, one tracking-signal rule (TrackedForecaster and rule included)", () => new SeriesState<long>(1, oneRule, 0));
         return 0;

@@ -11,9 +11,9 @@ namespace StreamForecast.Alerts;
 /// The estimate σ of the one-step error's standard deviation used to standardize the error, z = e/σ (for example
 /// 1.25·MAD, or a σ frozen from an in-control stretch). Read by <see cref="CusumRule"/>; must be finite and positive there.
 /// </param>
-/// <param name="TrackingSignal">The tracking signal RSFE/MAD after this period. Read by <see cref="TrackingSignalRule"/>.</param>
+/// <param name="TrackingSignal">The tracking signal RSFE/MAD after this period. Read by <see cref="TrackingSignalRuleOptions"/>.</param>
 /// <param name="TriggSignal">
-/// Trigg's smoothed signal E/M after this period, between −1 and 1. Read by <see cref="TriggSignalRule"/>.
+/// Trigg's smoothed signal E/M after this period, between −1 and 1. Read by <see cref="TriggSignalRuleOptions"/>.
 /// </param>
 /// <remarks>
 /// <para>Each rule reads only its own fields and ignores the others, which may be NaN: the static factories fill the
@@ -23,13 +23,13 @@ namespace StreamForecast.Alerts;
 /// </remarks>
 public readonly record struct DriftInput(double Error, double Sigma, double TrackingSignal, double TriggSignal)
 {
-    /// <summary>An input for a <see cref="TrackingSignalRule"/>: only <see cref="TrackingSignal"/> is set, the rest are NaN.</summary>
+    /// <summary>An input for a <see cref="TrackingSignalRuleOptions"/>: only <see cref="TrackingSignal"/> is set, the rest are NaN.</summary>
     /// <param name="trackingSignal">The tracking signal RSFE/MAD after the period.</param>
     /// <returns>The input.</returns>
     public static DriftInput FromTrackingSignal(double trackingSignal) =>
         new(double.NaN, double.NaN, trackingSignal, double.NaN);
 
-    /// <summary>An input for a <see cref="TriggSignalRule"/>: only <see cref="TriggSignal"/> is set, the rest are NaN.</summary>
+    /// <summary>An input for a <see cref="TriggSignalRuleOptions"/>: only <see cref="TriggSignal"/> is set, the rest are NaN.</summary>
     /// <param name="triggSignal">Trigg's smoothed signal after the period, between −1 and 1.</param>
     /// <returns>The input.</returns>
     public static DriftInput FromTriggSignal(double triggSignal) =>

@@ -15,8 +15,8 @@ namespace StreamForecast.Alerts;
 /// <param name="Severity">The episode's severity after the transition (for a close, the severity it closed with).</param>
 /// <param name="Signal">
 /// The value that explains the transition, signed by direction: positive for under-forecast evidence, negative for
-/// over-forecast evidence. It is the tracking signal for <see cref="TrackingSignalRule"/>, Trigg's signal for
-/// <see cref="TriggSignalRule"/>, and C⁺ (positive) or −C⁻ (negative) for <see cref="CusumRule"/>. For a
+/// over-forecast evidence. It is the tracking signal for <see cref="TrackingSignalRuleOptions"/>, Trigg's signal for
+/// <see cref="TriggSignalRuleOptions"/>, and C⁺ (positive) or −C⁻ (negative) for <see cref="CusumRule"/>. For a
 /// <see cref="DriftCloseReason.DirectionReversed"/> close it is the opposite-side signal that caused the close; for
 /// <see cref="DriftCloseReason.Acknowledged"/> and <see cref="DriftCloseReason.Rebaselined"/> closes, the episode's
 /// signal in the last evaluated period.

@@ -56,5 +56,5 @@ public sealed record TrackingSignalRuleOptions : DriftRuleOptions
         new TrackingSignalRuleOptions(raise, clear, escalation, WarmUpPeriods, PeriodsToRaise, PeriodsToClear);
 
     /// <inheritdoc/>
-    public override DriftRule CreateRule() => new TrackingSignalRule(this);
+    public override DriftRule CreateRule() => new SignalLimitRule(this, LimitedSignal.TrackingSignal);
 }

@@ -62,5 +62,5 @@ public sealed record TriggSignalRuleOptions : DriftRuleOptions
         new TriggSignalRuleOptions(raise, clear, escalation, WarmUpPeriods, PeriodsToRaise, PeriodsToClear);
 
     /// <inheritdoc/>
-    public override DriftRule CreateRule() => new TriggSignalRule(this);
+    public override DriftRule CreateRule() => new SignalLimitRule(this, LimitedSignal.TriggSignal);
 }
