@@ -37,13 +37,13 @@ public sealed class StreamForecastOptions<TKey>
     public int? Partitions { get; set; }
 
     /// <summary>Observations each partition's queue holds, 1 to 10,000,000. Default 16,384.</summary>
-    public int QueueCapacity { get; set; } = 16_384;
+    public int QueueCapacity { get; set; } = ForecastEngineOptions<TKey>.DefaultQueueCapacity;
 
     /// <summary>What posting does when a queue is full. Default <see cref="IngestionFullMode.Wait"/>.</summary>
     public IngestionFullMode FullMode { get; set; } = IngestionFullMode.Wait;
 
     /// <summary>The most series held at once. Default 10,000,000.</summary>
-    public int MaxSeries { get; set; } = 10_000_000;
+    public int MaxSeries { get; set; } = ForecastEngineOptions<TKey>.DefaultMaxSeries;
 
     /// <summary>How far ahead of the clock an event may be stamped. Default 1 day.</summary>
     public TimeSpan? MaxEventTimeAhead { get; set; }

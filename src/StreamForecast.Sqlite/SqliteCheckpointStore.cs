@@ -46,7 +46,7 @@ namespace StreamForecast.Sqlite;
 /// gate (so they never sleep in SQLite's busy handler waiting for each other); across processes the file's locks keep
 /// transactions apart. Saving after <see cref="Dispose"/> throws <see cref="ObjectDisposedException"/>.</para>
 /// </remarks>
-public sealed class SqliteCheckpointStore : IConditionalCheckpointStore, IDisposable
+public sealed class SqliteCheckpointStore : IConditionalCheckpointStore, IAsyncDisposable, IDisposable
 {
     /// <summary>The schema version this store writes and reads; version 1 files are upgraded to it when opened.</summary>
     public const int SchemaVersion = 2;
@@ -203,6 +203,14 @@ public sealed class SqliteCheckpointStore : IConditionalCheckpointStore, IDispos
 
     /// <summary>Ends this store: later saves throw <see cref="ObjectDisposedException"/>. The file is not touched. Idempotent.</summary>
     public void Dispose() => Volatile.Write(ref _disposed, 1);
+
+    /// <summary>Ends this store as <see cref="Dispose"/> does (nothing to await; present so every store disposes alike). Idempotent.</summary>
+    /// <returns>A completed task.</returns>
+    public ValueTask DisposeAsync()
+    {
+        Dispose();
+        return ValueTask.CompletedTask;
+    }
 
     private void ValidateSnapshot(ReadOnlyMemory<byte> snapshot)
     {

@@ -20,10 +20,10 @@ namespace StreamForecast.Streaming;
 /// on local file systems. The directory entry itself is not flushed (.NET has no portable call for it), so right
 /// after a power failure the newest save may be missing, in which case the previous checkpoint loads.</para>
 /// <para><b>Thread safety.</b> Thread-safe within one instance: saves run one at a time, loads run alongside them.
-/// Use one instance (one process) per directory. Dispose the store when done with it (it holds a semaphore);
-/// saving after that throws <see cref="ObjectDisposedException"/>.</para>
+/// Use one instance (one process) per directory. Dispose the store when done with it (<see cref="DisposeAsync"/> or
+/// <see cref="Dispose"/>, like the other stores); saving after that throws <see cref="ObjectDisposedException"/>.</para>
 /// </remarks>
-public sealed class FileCheckpointStore : ICheckpointStore, IDisposable
+public sealed class FileCheckpointStore : ICheckpointStore, IAsyncDisposable, IDisposable
 {
     /// <summary>The bytes a checkpoint file adds around the snapshot: the envelope's header, one section length, the checksum.</summary>
     public const int FramingLength = SnapshotFormat.MinLength + 4;
@@ -35,6 +35,7 @@ public sealed class FileCheckpointStore : ICheckpointStore, IDisposable
 
     private readonly FileCheckpointStoreOptions _options;
     private readonly SemaphoreSlim _saveGate = new(1, 1);
+    private int _disposed;
 
     /// <summary>Creates a store over a directory, which is created on the first save if missing.</summary>
     /// <param name="directoryPath">The directory that holds the checkpoints; used only by this store.</param>
@@ -78,6 +79,7 @@ public sealed class FileCheckpointStore : ICheckpointStore, IDisposable
                 nameof(snapshot));
         }
 
+        ObjectDisposedException.ThrowIf(Volatile.Read(ref _disposed) != 0, this);
         await _saveGate.WaitAsync(cancellationToken).ConfigureAwait(false);
         try
         {
@@ -182,8 +184,16 @@ public sealed class FileCheckpointStore : ICheckpointStore, IDisposable
         throw new InvalidDataException(message.ToString());
     }
 
-    /// <summary>Releases the semaphore that serialises saves. Files are not touched. Idempotent.</summary>
-    public void Dispose() => _saveGate.Dispose();
+    /// <summary>Ends this store: later saves throw <see cref="ObjectDisposedException"/>; a save already running completes. Files are not touched. Idempotent.</summary>
+    public void Dispose() => Volatile.Write(ref _disposed, 1);
+
+    /// <summary>Ends this store as <see cref="Dispose"/> does (nothing to await; present so every store disposes alike). Idempotent.</summary>
+    /// <returns>A completed task.</returns>
+    public ValueTask DisposeAsync()
+    {
+        Dispose();
+        return ValueTask.CompletedTask;
+    }
 
     /// <summary>The file name of checkpoint number <paramref name="sequence"/>.</summary>
     internal static string FileName(long sequence) =>

@@ -19,7 +19,7 @@ public static class ForecastEngine
     /// <param name="cancellationToken">Stops reading.</param>
     /// <returns>The running engine and the input position stored in the snapshot (continue the input from there).</returns>
     /// <exception cref="InvalidDataException">The snapshot is corrupted, truncated, of another version, or does not fit the options.</exception>
-    public static async Task<(ForecastEngine<TKey> Engine, long InputPosition)> RestoreAsync<TKey>(
+    public static async Task<RestoredEngine<TKey>> RestoreAsync<TKey>(
         Stream source, ForecastEngineOptions<TKey> options, ISnapshotKeyCodec<TKey> keyCodec, CancellationToken cancellationToken = default)
         where TKey : notnull
     {
@@ -30,7 +30,7 @@ public static class ForecastEngine
         await source.CopyToAsync(buffer, cancellationToken).ConfigureAwait(false);
         buffer.Position = 0;
         (List<SeriesState<TKey>> series, long inputPosition) = ReadSnapshot(buffer, options, keyCodec);
-        return (new ForecastEngine<TKey>(options, series), inputPosition);
+        return new RestoredEngine<TKey>(new ForecastEngine<TKey>(options, series), inputPosition);
     }
 
     /// <summary>
@@ -89,7 +89,7 @@ public static class ForecastEngine
     /// <param name="cancellationToken">Stops reading.</param>
     /// <returns>The running engine and the input position to continue the input from.</returns>
     /// <exception cref="InvalidDataException">Every stored checkpoint is damaged, or the newest valid one does not fit the options.</exception>
-    public static async Task<(ForecastEngine<TKey> Engine, long InputPosition)> RestoreAsync<TKey>(
+    public static async Task<RestoredEngine<TKey>> RestoreAsync<TKey>(
         ICheckpointStore store, ForecastEngineOptions<TKey> options, ISnapshotKeyCodec<TKey> keyCodec, CancellationToken cancellationToken = default)
         where TKey : notnull
     {
@@ -97,7 +97,7 @@ public static class ForecastEngine
         Checkpoint? checkpoint = await store.LoadLatestAsync(cancellationToken).ConfigureAwait(false);
         if (checkpoint is null)
         {
-            return (new ForecastEngine<TKey>(options), 0);
+            return new RestoredEngine<TKey>(new ForecastEngine<TKey>(options), 0);
         }
 
         using var stream = new MemoryStream(checkpoint.Snapshot.ToArray(), writable: false);

@@ -8,6 +8,12 @@ namespace StreamForecast.Streaming;
 public sealed record ForecastEngineOptions<TKey>
     where TKey : notnull
 {
+    /// <summary>The default capacity of each partition's queue: 16,384 observations.</summary>
+    public const int DefaultQueueCapacity = 16_384;
+
+    /// <summary>The default limit on series held at once: 10,000,000.</summary>
+    public const int DefaultMaxSeries = 10_000_000;
+
     /// <summary>Creates engine options.</summary>
     /// <param name="defaultSeries">How a series is treated unless <paramref name="seriesOverrides"/> says otherwise.</param>
     /// <param name="seriesOverrides">
@@ -42,12 +48,12 @@ public sealed record ForecastEngineOptions<TKey>
         Func<TKey, SeriesOptions?>? seriesOverrides = null,
         IEqualityComparer<TKey>? keyComparer = null,
         int? partitions = null,
-        int queueCapacity = 16_384,
+        int queueCapacity = DefaultQueueCapacity,
         IngestionFullMode fullMode = IngestionFullMode.Wait,
         Action<Observation<TKey>>? onDropped = null,
         TimeProvider? timeProvider = null,
         TimeSpan? maxEventTimeAhead = null,
-        int maxSeries = 10_000_000,
+        int maxSeries = DefaultMaxSeries,
         int? evictAfterQuietPeriods = null,
         TimeSpan? idleCheckInterval = null,
         PublishingOptions? publishing = null)
