@@ -1,6 +1,3 @@
-using System.Globalization;
-using StreamForecast.Internal;
-
 namespace StreamForecast.Forecasting;
 
 /// <summary>Which estimator a <see cref="CrostonOptions"/> forecaster reports.</summary>

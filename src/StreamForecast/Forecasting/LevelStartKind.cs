@@ -1,6 +1,3 @@
-using System.Globalization;
-using StreamForecast.Internal;
-
 namespace StreamForecast.Forecasting;
 
 /// <summary>The kinds of <see cref="LevelStart"/>.</summary>

@@ -1,7 +1,3 @@
-using System.Diagnostics.CodeAnalysis;
-using System.Globalization;
-using StreamForecast.Internal;
-
 namespace StreamForecast.Forecasting;
 
 /// <summary>How the seasonal pattern combines with level and trend in <see cref="HoltWintersOptions"/>.</summary>

@@ -1,7 +1,3 @@
-using System.Collections.Immutable;
-using System.Globalization;
-using StreamForecast.Internal;
-
 namespace StreamForecast.Forecasting;
 
 /// <summary>The order in which weights are given to <see cref="WeightedMovingAverageOptions"/>.</summary>

@@ -1,7 +1,3 @@
-using System.Globalization;
-using StreamForecast.Forecasting;
-using StreamForecast.Internal;
-
 namespace StreamForecast.Tracking;
 
 /// <summary>What one period step of a <see cref="TrackedForecaster"/> did.</summary>

@@ -1,5 +1,3 @@
-using StreamForecast.Internal;
-
 namespace StreamForecast.Tracking;
 
 /// <summary>How an <see cref="ErrorTracker"/> estimates σ, the standard deviation of the one-step forecast error.</summary>

@@ -1,5 +1,3 @@
-using StreamForecast.Internal;
-
 namespace StreamForecast.Streaming;
 
 /// <summary>What <see cref="ForecastEngine{TKey}.TryPost"/> does when a partition's ingestion queue is full.</summary>

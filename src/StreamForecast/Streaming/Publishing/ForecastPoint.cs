@@ -1,5 +1,3 @@
-using StreamForecast.Tracking;
-
 namespace StreamForecast.Streaming;
 
 /// <summary>A point forecast some periods ahead with its prediction interval.</summary>

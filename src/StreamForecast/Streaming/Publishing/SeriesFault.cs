@@ -1,5 +1,3 @@
-using StreamForecast.Alerts;
-
 namespace StreamForecast.Streaming;
 
 /// <summary>A per-series or per-subscriber fault: the stream goes on for every other key and subscriber.</summary>

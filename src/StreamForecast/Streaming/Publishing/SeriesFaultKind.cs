@@ -1,5 +1,3 @@
-using StreamForecast.Alerts;
-
 namespace StreamForecast.Streaming;
 
 /// <summary>Why a series could not process something; published as a <see cref="SeriesFault{TKey}"/>, never as OnError.</summary>

@@ -1,10 +1,3 @@
-using System.Collections.Immutable;
-using StreamForecast.Alerts;
-using StreamForecast.Forecasting;
-using StreamForecast.Internal;
-using StreamForecast.Periods;
-using StreamForecast.Tracking;
-
 namespace StreamForecast.Streaming;
 
 /// <summary>What a closed period with no observations means for a series.</summary>
