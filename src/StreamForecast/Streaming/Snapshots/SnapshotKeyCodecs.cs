@@ -2,6 +2,7 @@ using System.Buffers;
 using System.Buffers.Binary;
 using System.Diagnostics.CodeAnalysis;
 using System.Globalization;
+using System.Numerics;
 using System.Text;
 
 namespace StreamForecast.Streaming;
@@ -17,10 +18,10 @@ public static class SnapshotKeyCodecs
     public static ISnapshotKeyCodec<string> Utf8String { get; } = new Utf8StringCodec();
 
     /// <summary>64-bit integers as 8 little-endian bytes (format name <c>int64-le/v1</c>).</summary>
-    public static ISnapshotKeyCodec<long> Int64LittleEndian { get; } = new Int64Codec();
+    public static ISnapshotKeyCodec<long> Int64LittleEndian { get; } = new IntegerCodec<long>("int64-le/v1", "64-bit integer");
 
     /// <summary>32-bit integers as 4 little-endian bytes (format name <c>int32-le/v1</c>).</summary>
-    public static ISnapshotKeyCodec<int> Int32LittleEndian { get; } = new Int32Codec();
+    public static ISnapshotKeyCodec<int> Int32LittleEndian { get; } = new IntegerCodec<int>("int32-le/v1", "32-bit integer");
 
     /// <summary>GUIDs as their 16 bytes in little-endian field order, as <see cref="Guid.ToByteArray()"/> gives them (format name <c>guid-le/v1</c>).</summary>
     public static ISnapshotKeyCodec<Guid> GuidBytes { get; } = new GuidCodec();
@@ -88,49 +89,30 @@ public static class SnapshotKeyCodecs
         }
     }
 
-    private sealed class Int64Codec : ISnapshotKeyCodec<long>
+    /// <summary>A signed integer written in its two's-complement little-endian bytes (8 for long, 4 for int).</summary>
+    private sealed class IntegerCodec<T>(string formatName, string description) : ISnapshotKeyCodec<T>
+        where T : IBinaryInteger<T>
     {
-        public string FormatName => "int64-le/v1";
+        private static readonly int Width = T.Zero.GetByteCount();
 
-        public void Write(long key, IBufferWriter<byte> destination)
+        public string FormatName => formatName;
+
+        public void Write(T key, IBufferWriter<byte> destination)
         {
             ArgumentNullException.ThrowIfNull(destination);
-            BinaryPrimitives.WriteInt64LittleEndian(destination.GetSpan(8), key);
-            destination.Advance(8);
+            int written = key.WriteLittleEndian(destination.GetSpan(Width));
+            destination.Advance(written);
         }
 
-        public long Read(ReadOnlySpan<byte> source, out int bytesConsumed)
+        public T Read(ReadOnlySpan<byte> source, out int bytesConsumed)
         {
-            if (source.Length < 8)
+            if (source.Length < Width)
             {
-                throw TooShort("64-bit integer", 8, source.Length);
+                throw TooShort(description, Width, source.Length);
             }
 
-            bytesConsumed = 8;
-            return BinaryPrimitives.ReadInt64LittleEndian(source);
-        }
-    }
-
-    private sealed class Int32Codec : ISnapshotKeyCodec<int>
-    {
-        public string FormatName => "int32-le/v1";
-
-        public void Write(int key, IBufferWriter<byte> destination)
-        {
-            ArgumentNullException.ThrowIfNull(destination);
-            BinaryPrimitives.WriteInt32LittleEndian(destination.GetSpan(4), key);
-            destination.Advance(4);
-        }
-
-        public int Read(ReadOnlySpan<byte> source, out int bytesConsumed)
-        {
-            if (source.Length < 4)
-            {
-                throw TooShort("32-bit integer", 4, source.Length);
-            }
-
-            bytesConsumed = 4;
-            return BinaryPrimitives.ReadInt32LittleEndian(source);
+            bytesConsumed = Width;
+            return T.ReadLittleEndian(source[..Width], isUnsigned: false);
         }
     }
 
