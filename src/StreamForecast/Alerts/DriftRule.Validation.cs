@@ -1,3 +1,4 @@
+using StreamForecast.Internal;
 using System.Globalization;
 
 namespace StreamForecast.Alerts;
@@ -7,7 +8,6 @@ namespace StreamForecast.Alerts;
 // evidence as the rule computed it, so no rounding enters (the rule-specific checks say so where it does).
 public abstract partial class DriftRule
 {
-    private const double MaxWholeNumber = 9007199254740992; // 2^53: every whole number up to it is exact in a double
 
     private static readonly string[] s_runNames =
     [
@@ -48,12 +48,12 @@ public abstract partial class DriftRule
                 return Invariant($"number {i + 1} is −0; the rule writes its counts, direction, severity and reversal marker as whole numbers (+0 when zero)");
             }
         }
-        if (!IsWhole(state[0], MaxWholeNumber))
+        if (!WholeNumbers.IsCount(state[0]))
         {
             return "the period count (number 1) must be a whole number from 0 to 2^53";
         }
 
-        if (!IsWhole(state[1], MaxWholeNumber))
+        if (!WholeNumbers.IsCount(state[1]))
         {
             return "the last episode id (number 2) must be a whole number from 0 to 2^53";
         }
@@ -87,7 +87,7 @@ public abstract partial class DriftRule
         int cap = o.PeriodsToRaise;
         for (int i = 4; i <= 7; i++)
         {
-            if (!IsWhole(state[i], Math.Min(cap, periods)))
+            if (!WholeNumbers.IsWhole(state[i], Math.Min(cap, periods)))
             {
                 return s_runNames[i - 4] + " must be a whole number from 0 to min(PeriodsToRaise, the period count (number 1))";
             }
@@ -109,7 +109,7 @@ public abstract partial class DriftRule
         }
 
         double clearRun = state[8];
-        if (!IsWhole(clearRun, direction == 0 ? 0 : o.PeriodsToClear - 1))
+        if (!WholeNumbers.IsWhole(clearRun, direction == 0 ? 0 : o.PeriodsToClear - 1))
         {
             return "the clear count (number 9) must be 0 without an open episode and below PeriodsToClear with one";
         }
@@ -223,7 +223,6 @@ public abstract partial class DriftRule
     /// <summary>Whether evidence is both at the raise level and at or below the clear level (possible only for levels within the tolerance).</summary>
     private static bool InClearBand(DriftRuleOptions o, double evidence) => evidence >= o.RaiseThreshold && evidence <= o.ClearThreshold;
 
-    private static bool IsWhole(double value, double max) => value >= 0 && value <= max && value == Math.Floor(value);
 
     private static string Invariant(FormattableString text) => text.ToString(CultureInfo.InvariantCulture);
 }

@@ -47,7 +47,7 @@ namespace StreamForecast.Alerts;
 /// <para><b>Thread safety.</b> Not thread-safe: one owner (one thread or one reader loop at a time) evaluates and reads a
 /// rule. Different rules are independent.</para>
 /// </remarks>
-public abstract partial class DriftRule
+public abstract partial class DriftRule : IExportableState
 {
     // Exported layout: periods, last episode id, direction (+1 under, −1 over, 0 none), severity (0, 1, 2),
     // under run, over run, under escalation run, over escalation run, clear run, last under evidence, last over evidence;
@@ -217,15 +217,6 @@ public abstract partial class DriftRule
         destination[10] = _lastOver;
         ExportCore(destination.Slice(HeaderLength, CoreStateLength));
         destination[HeaderLength + CoreStateLength] = _reversedTo;
-    }
-
-    /// <summary>Returns the full state as a new array of <see cref="StateLength"/> numbers.</summary>
-    /// <returns>The exported state.</returns>
-    public double[] ExportState()
-    {
-        var state = new double[StateLength];
-        ExportState(state);
-        return state;
     }
 
     /// <summary>Replaces the state with one exported from a rule created from equal options.</summary>

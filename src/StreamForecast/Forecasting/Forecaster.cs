@@ -26,7 +26,7 @@ namespace StreamForecast.Forecasting;
 /// <para><b>Thread safety.</b> Not thread-safe: one owner (one thread or one reader loop at a time) updates and
 /// reads a forecaster. Different forecasters are independent.</para>
 /// </remarks>
-public abstract class Forecaster
+public abstract class Forecaster : IExportableState
 {
     private protected Forecaster()
     {
@@ -146,15 +146,6 @@ public abstract class Forecaster
         ExportCore(destination.Slice(1, CoreStateLength));
     }
 
-    /// <summary>Returns the full state as a new array of <see cref="StateLength"/> numbers.</summary>
-    /// <returns>The exported state.</returns>
-    public double[] ExportState()
-    {
-        var state = new double[StateLength];
-        ExportState(state);
-        return state;
-    }
-
     /// <summary>Replaces the state with one exported from a forecaster created from equal options.</summary>
     /// <param name="state">Exactly <see cref="StateLength"/> numbers from <see cref="ExportState(Span{double})"/>.</param>
     /// <exception cref="ArgumentException">
@@ -168,7 +159,7 @@ public abstract class Forecaster
         }
 
         double count = state[0];
-        if (!(count >= 0) || count != Math.Floor(count) || count > (1L << 53))
+        if (!WholeNumbers.IsCount(count))
         {
             ThrowHelper.ThrowInvalidState(Options.MethodName, "the count must be a whole number ≥ 0");
         }

@@ -9,17 +9,17 @@ public sealed partial class MethodSelector
     private protected override string? ValidateCore(ReadOnlySpan<double> state, long count)
     {
         int k = _forecasters.Length;
-        if (!IsWhole(state[3], count))
+        if (!WholeNumbers.IsWhole(state[3], count))
         {
             return "the switch count must be a whole number no larger than the period count";
         }
 
-        if (!IsWhole(state[0] + 1, k) || !IsWhole(state[1] + 1, k))
+        if (!WholeNumbers.IsWhole(state[0] + 1, k) || !WholeNumbers.IsWhole(state[1] + 1, k))
         {
             return "the selected and challenging candidates must be −1 or a candidate's index";
         }
 
-        if (!IsWhole(state[2], _options.PeriodsToSwitch - 1) || (state[2] == 0) != (state[1] < 0))
+        if (!WholeNumbers.IsWhole(state[2], _options.PeriodsToSwitch - 1) || (state[2] == 0) != (state[1] < 0))
         {
             return "the challenger's run must be between 1 and PeriodsToSwitch − 1 with a challenger, and 0 without one";
         }
@@ -35,7 +35,7 @@ public sealed partial class MethodSelector
         {
             double scored = state[offset];
             double recent = state[offset + 1];
-            if (!IsWhole(scored, count))
+            if (!WholeNumbers.IsWhole(scored, count))
             {
                 return string.Create(CultureInfo.InvariantCulture, $"candidate {i}'s scored periods must be a whole number no larger than the period count");
             }

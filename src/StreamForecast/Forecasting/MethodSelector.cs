@@ -333,5 +333,4 @@ public sealed partial class MethodSelector : Forecaster
         }
     }
 
-    private static bool IsWhole(double value, double max) => value >= 0 && value <= max && value == Math.Floor(value);
 }

@@ -37,15 +37,6 @@ public sealed partial class ErrorTracker
         _recent.CopyRawTo(destination.Slice(FixedStateLength, _recent.Length));
     }
 
-    /// <summary>Returns the full state as a new array of <see cref="StateLength"/> numbers.</summary>
-    /// <returns>The exported state.</returns>
-    public double[] ExportState()
-    {
-        var state = new double[StateLength];
-        ExportState(state);
-        return state;
-    }
-
     /// <summary>Replaces the state with one exported from a tracker created from equal options.</summary>
     /// <param name="state">Exactly <see cref="StateLength"/> numbers from <see cref="ExportState(Span{double})"/>.</param>
     /// <exception cref="ArgumentException">

@@ -8,7 +8,6 @@ namespace StreamForecast.Tracking;
 // slack is derived from the operations the tracker performs (u = 2^-53 is the unit roundoff of a double).
 public sealed partial class ErrorTracker
 {
-    private const double MaxExportedCount = 9_007_199_254_740_992; // 2^53: every whole number up to it is exact
     private const long NegativeZeroBits = unchecked((long)0x8000_0000_0000_0000);
 
     // The unit roundoff of a double: one correctly rounded operation has a relative error of at most u = 2^-53.
@@ -67,17 +66,17 @@ public sealed partial class ErrorTracker
         }
 
         // Counts: whole numbers; a zero-actual period is a scored period and a scored period is an actual.
-        if (!IsCount(state[CountIndex]))
+        if (!WholeNumbers.IsCount(state[CountIndex]))
         {
             return "the scored-period count (number 1) must be a whole number from 0 to 2^53";
         }
 
-        if (!IsCount(state[ZeroActualCountIndex]))
+        if (!WholeNumbers.IsCount(state[ZeroActualCountIndex]))
         {
             return "the zero-actual count (number 2) must be a whole number from 0 to 2^53";
         }
 
-        if (!IsCount(state[ActualCountIndex]))
+        if (!WholeNumbers.IsCount(state[ActualCountIndex]))
         {
             return "the actual count (number 3) must be a whole number from 0 to 2^53";
         }
@@ -339,7 +338,6 @@ public sealed partial class ErrorTracker
             ? (largest * (1 + (4 * UnitRoundoff / weight))) + (2 * SubnormalError / weight)
             : double.PositiveInfinity;
 
-    private static bool IsCount(double value) => value >= 0 && value <= MaxExportedCount && value == Math.Floor(value);
 
     private static double Combined(ReadOnlySpan<double> state, int index) => state[index] + state[index + 1];
 

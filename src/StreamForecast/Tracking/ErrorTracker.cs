@@ -41,7 +41,7 @@ namespace StreamForecast.Tracking;
 /// <para><b>Thread safety.</b> Not thread-safe: one owner (one thread or one reader loop at a time) records and reads a
 /// tracker. Different trackers are independent.</para>
 /// </remarks>
-public sealed partial class ErrorTracker
+public sealed partial class ErrorTracker : IExportableState
 {
     // Layout of the exported state: counts, six two-part sums, four scalars, then the raw ring of the last m actuals.
     private const int CountIndex = 0;

@@ -22,7 +22,7 @@ namespace StreamForecast.Tracking;
 /// <para><b>Cost.</b> The forecaster's update cost plus O(1); allocation-free. <b>Thread safety:</b> not thread-safe;
 /// one owner per series.</para>
 /// </remarks>
-public sealed class TrackedForecaster
+public sealed class TrackedForecaster : IExportableState
 {
     private readonly Forecaster _forecaster;
     private readonly ErrorTracker _tracker;
@@ -166,15 +166,6 @@ public sealed class TrackedForecaster
         int split = _forecaster.StateLength;
         _forecaster.ExportState(destination[..split]);
         _tracker.ExportState(destination.Slice(split, _tracker.StateLength));
-    }
-
-    /// <summary>Returns both states as a new array of <see cref="StateLength"/> numbers.</summary>
-    /// <returns>The exported state.</returns>
-    public double[] ExportState()
-    {
-        var state = new double[StateLength];
-        ExportState(state);
-        return state;
     }
 
     /// <summary>Replaces both states with ones exported from a tracked forecaster created from equal options.</summary>
