@@ -58,13 +58,16 @@ public sealed class SeriesPublisher<TKey> : ISeriesSink<TKey>
 
     /// <summary>Ends the three streams: every subscriber gets what is buffered, then <see cref="IObserver{T}.OnCompleted"/>.</summary>
     /// <returns>A task that completes when every subscriber's delivery has ended; it never faults.</returns>
-    /// <remarks>Call it after the last sink call; later calls do nothing more. Thread-safe.</remarks>
-    public Task CompleteAsync()
+    /// <remarks>Call it after the last sink call; later calls do nothing more. The fault stream ends last, after the
+    /// other two have drained, so a subscriber failure during the drain is still reported. Thread-safe.</remarks>
+    public async Task CompleteAsync()
     {
+        // Faults last: a forecast or alert subscriber that throws while its buffer drains is still reported.
         _forecasts.Complete();
         _alerts.Complete();
+        await Task.WhenAll(_forecasts.Completion, _alerts.Completion).ConfigureAwait(false);
         _faults.Complete();
-        return Task.WhenAll(_forecasts.Completion, _alerts.Completion, _faults.Completion);
+        await _faults.Completion.ConfigureAwait(false);
     }
 
     private void ReportSubscriberFault(DeliveryFault fault) =>
