@@ -67,7 +67,7 @@ internal sealed partial class InputLogWriter<TKey>
         DateTimeOffset? latest = ObservationRules.LatestEventTime(_engine.Options.MaxEventTimeAhead, _engine.Options.TimeProvider);
         for (int i = 0; i < observations.Length; i++)
         {
-            if (ObservationRules.Problem(observations[i], latest) is { } problem)
+            if (ObservationRules.FindProblem(observations[i], latest) is { } problem)
             {
                 string where = observations.Length == 1 ? "The observation" : $"Observation {i} of the batch";
                 throw new ArgumentOutOfRangeException(nameof(observations), $"{where} is invalid: {problem}; nothing was posted.");

@@ -1,5 +1,3 @@
-using System.Text;
-using Microsoft.Extensions.Logging;
 using StreamForecast.Streaming;
 
 namespace StreamForecast.Orleans;
@@ -22,8 +20,8 @@ internal sealed class BucketState<TKey>
     /// <summary>Calls ignored as repeats.</summary>
     [Id(3)] public long Repeats { get; set; }
 
-    /// <summary>The series counters (see <see cref="SeriesBucketGrain{TKey}"/>), then the rejected count.</summary>
-    [Id(4)] public long[] Counters { get; set; } = [];
+    /// <summary>The counters of the bucket's series set (<see cref="SeriesSet{TKey}.GetCounters"/>); id 4 held an older layout.</summary>
+    [Id(8)] public EngineCounters Counters { get; set; }
 
     /// <summary>Subscribers and when their lease ends.</summary>
     [Id(5)] public List<BucketSubscriber<TKey>> Subscribers { get; set; } = [];

@@ -10,17 +10,17 @@ public sealed partial class ForecastClusterClient<TKey>
         _lastNumber[output.Bucket] = output.Number;
         foreach (ForecastUpdate<TKey> f in output.Forecasts)
         {
-            _forecasts.TryPublish(f);
+            _outputs.Forecast(f);
         }
 
         foreach (DriftAlert<TKey> a in output.Alerts)
         {
-            _alerts.TryPublish(a);
+            _outputs.Alert(a);
         }
 
         foreach (SeriesFault<TKey> f in output.Faults)
         {
-            _faults.TryPublish(f);
+            _outputs.Fault(f);
         }
     }
 

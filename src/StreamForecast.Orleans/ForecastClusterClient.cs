@@ -34,9 +34,7 @@ public sealed partial class ForecastClusterClient<TKey> : IForecastEngine<TKey>,
     private readonly BucketMap<TKey> _map;
     private readonly TimeProvider _time;
     private readonly TimeSpan _maxEventTimeAhead;
-    private readonly Publisher<ForecastUpdate<TKey>> _forecasts;
-    private readonly Publisher<DriftAlert<TKey>> _alerts;
-    private readonly Publisher<SeriesFault<TKey>> _faults;
+    private readonly SeriesPublisher<TKey> _outputs;
     private const int MaxWaitingOutputs = 4096;
 
     private readonly long[] _lastNumber;
@@ -58,10 +56,8 @@ public sealed partial class ForecastClusterClient<TKey> : IForecastEngine<TKey>,
         Options = options;
         _map = new BucketMap<TKey>(keyCodec, options.BucketCount);
         _time = time;
-        // A subscriber that throws is reported on Faults, as the engine does (a throwing Faults subscriber only counts).
-        _forecasts = new Publisher<ForecastUpdate<TKey>>(publishing, onFault: ReportSubscriberFault);
-        _alerts = new Publisher<DriftAlert<TKey>>(publishing, onFault: ReportSubscriberFault);
-        _faults = new Publisher<SeriesFault<TKey>>(publishing);
+        // A subscriber that throws is reported on Faults, as the engine does (a throwing Faults subscriber is only skipped).
+        _outputs = new SeriesPublisher<TKey>(publishing);
         _lastNumber = new long[options.BucketCount];
         _waiting = new SortedList<long, (BucketOutput<TKey> Output, long Arrived)>?[options.BucketCount];
     }
@@ -70,16 +66,13 @@ public sealed partial class ForecastClusterClient<TKey> : IForecastEngine<TKey>,
     public ForecastClusterOptions Options { get; }
 
     /// <inheritdoc/>
-    public IObservable<ForecastUpdate<TKey>> Forecasts => _forecasts;
+    public IObservable<ForecastUpdate<TKey>> Forecasts => _outputs.Forecasts;
 
     /// <inheritdoc/>
-    public IObservable<DriftAlert<TKey>> Alerts => _alerts;
+    public IObservable<DriftAlert<TKey>> Alerts => _outputs.Alerts;
 
     /// <inheritdoc/>
-    public IObservable<SeriesFault<TKey>> Faults => _faults;
-
-    private void ReportSubscriberFault(DeliveryFault fault) =>
-        _faults.TryPublish(new SeriesFault<TKey>(default!, 0, SeriesFaultKind.SubscriberFailed, $"Subscriber {fault.Subscription.Id} threw: {fault.Exception.Message}"));
+    public IObservable<SeriesFault<TKey>> Faults => _outputs.Faults;
 
     /// <summary>Bucket outputs this client never received (counted from gaps in each bucket's numbering).</summary>
     public long MissedOutputs => Interlocked.Read(ref _missedOutputs);
@@ -130,7 +123,7 @@ public sealed partial class ForecastClusterClient<TKey> : IForecastEngine<TKey>,
         for (int i = 0; i < span.Length; i++)
         {
             Observation<TKey> o = span[i];
-            if (ObservationRules.Problem(o, latest) is { } problem)
+            if (ObservationRules.FindProblem(o, latest) is { } problem)
             {
                 throw new ArgumentOutOfRangeException(nameof(batch), $"Observation {i} of the batch is invalid ({problem}); nothing was posted.");
             }
@@ -280,10 +273,7 @@ public sealed partial class ForecastClusterClient<TKey> : IForecastEngine<TKey>,
         }
 
         SkipStaleGaps(all: true);
-        _forecasts.Complete();
-        _alerts.Complete();
-        _faults.Complete();
-        await Task.WhenAll(_forecasts.Completion, _alerts.Completion, _faults.Completion).ConfigureAwait(false);
+        await _outputs.CompleteAsync().ConfigureAwait(false);
         _stopping.Dispose();
     }
 
@@ -374,7 +364,7 @@ public sealed partial class ForecastClusterClient<TKey> : IForecastEngine<TKey>,
             }
             catch (Exception ex) when (ex is not (OperationCanceledException or OutOfMemoryException))
             {
-                _faults.TryPublish(new SeriesFault<TKey>(default!, 0, SeriesFaultKind.SubscriberFailed, "Renewing the cluster subscription failed; output may be missed until the next renewal: " + ex.Message));
+                _outputs.Fault(new SeriesFault<TKey>(default!, 0, SeriesFaultKind.SubscriberFailed, "Renewing the cluster subscription failed; output may be missed until the next renewal: " + ex.Message));
             }
         }
     }

@@ -1,15 +1,15 @@
-using System.Text;
 using Microsoft.Extensions.Logging;
 using StreamForecast.Streaming;
 
 namespace StreamForecast.Orleans;
 
 /// <summary>
-/// The grain behind <see cref="ISeriesBucketGrain{TKey}"/>: a <see cref="SeriesTable{TKey}"/> (the same routing, period,
+/// The grain behind <see cref="ISeriesBucketGrain{TKey}"/>: a <see cref="SeriesSet{TKey}"/> (the same routing, period,
 /// lateness, restatement, de-duplication, forecasting and drift code as an engine partition) run one call at a time,
 /// stored through the grain storage named <see cref="ForecastClusterOptions.StorageName"/> before each acknowledgement.
+/// It uses only the core library's public surface.
 /// </summary>
-internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrain<TKey>, ISeriesHost<TKey>
+internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrain<TKey>, ISeriesSink<TKey>
     where TKey : notnull
 {
 
@@ -23,8 +23,7 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
     private readonly List<DriftAlert<TKey>> _alerts = [];
     private readonly List<SeriesFault<TKey>> _faults = [];
     private readonly Dictionary<Guid, long> _applied = [];
-    private SeriesTable<TKey> _table = null!;
-    private long _rejected;
+    private SeriesSet<TKey> _table = null!;
     private int _bucket;
     private bool _broken;
 
@@ -43,12 +42,6 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
         _logger = logger;
     }
 
-    public SeriesCounters Counters { get; } = new();
-
-    int? ISeriesHost<TKey>.EvictAfterQuietPeriods => _options.EvictAfterQuietPeriods;
-
-    TimeProvider ISeriesHost<TKey>.TimeProvider => _options.TimeProvider;
-
     public override Task OnActivateAsync(CancellationToken cancellationToken)
     {
         long bucket = this.GetPrimaryKeyLong();
@@ -58,14 +51,11 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
         }
 
         _bucket = (int)bucket;
-        _table = new SeriesTable<TKey>(_options.KeyComparer, this);
+        _table = new SeriesSet<TKey>(_options);
         BucketState<TKey> stored = _state.State;
         if (stored.Series is { } bytes)
         {
-            foreach (SeriesState<TKey> series in ReadSeries(bytes))
-            {
-                _table.Adopt(series);
-            }
+            ReadSeries(bytes);
         }
 
         foreach (AppliedCall call in stored.Applied)
@@ -73,10 +63,7 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
             _applied[call.Id] = call.Sequence;
         }
 
-        if (stored.Counters.Length == SeriesCounters.Count + 1)
-        {
-            SetCounters(stored.Counters);
-        }
+        _table.RestoreCounters(stored.Counters);
 
         if (_options.IdleCheckInterval > TimeSpan.Zero && _options.IdleCheckInterval != Timeout.InfiniteTimeSpan)
         {
@@ -99,21 +86,14 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
             Validate(batch);
         }
 
-        return ApplyAsync(callId, batch, static (grain, b) =>
-        {
-            long arrival = grain._options.TimeProvider.GetTimestamp();
-            foreach (Observation<TKey> o in b)
-            {
-                grain._table.Observe(o, arrival);
-            }
-        });
+        return ApplyAsync(callId, batch, static (grain, b) => grain._table.Post(b, grain));
     }
 
     public Task<CallReceipt> AdvanceAsync(Guid callId, DateTimeOffset watermark) =>
-        ApplyAsync(callId, watermark.UtcTicks, static (grain, ticks) => grain._table.Advance(ticks));
+        ApplyAsync(callId, watermark, static (grain, w) => grain._table.Advance(w, grain));
 
     public Task<CallReceipt> FlushAsync(Guid callId) =>
-        ApplyAsync(callId, 0, static (grain, _) => grain._table.Flush());
+        ApplyAsync(callId, 0, static (grain, _) => grain._table.Flush(grain));
 
     public Task<CallReceipt> AcknowledgeAsync(Guid callId, TKey key)
     {
@@ -123,7 +103,7 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
             throw new ArgumentException($"The key belongs to bucket {_map.BucketOf(key)}, not {_bucket}: every client and silo must use the same ForecastClusterOptions.BucketCount and key codec.", nameof(key));
         }
 
-        return ApplyAsync(callId, key, static (grain, k) => grain._table.Acknowledge(k));
+        return ApplyAsync(callId, key, static (grain, k) => grain._table.Acknowledge(k, grain));
     }
 
     public async Task<long> SubscribeAsync(ISeriesBucketObserver<TKey> observer, TimeSpan lease)
@@ -155,28 +135,10 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
     public Task<BucketStatus> GetStatusAsync()
     {
         ThrowIfBroken();
-        EngineCounters counters = Counters.ToEngineCounters() with { Rejected = _rejected, ActiveSeries = _table.Count };
+        EngineCounters counters = _table.GetCounters();
         DateTimeOffset now = _options.TimeProvider.GetUtcNow();
         int live = _state.State.Subscribers.Count(s => s.LeaseEnds > now);
         return Task.FromResult(new BucketStatus(_bucket, RuntimeIdentity, _table.Count, _state.State.Sequence, _state.State.Repeats, counters, live));
-    }
-
-    SeriesOptions ISeriesHost<TKey>.Resolve(TKey key) => _options.Resolve(key);
-
-    bool ISeriesHost<TKey>.TryReserveSeries() => _table.Count < _options.MaxSeries;
-
-    void ISeriesHost<TKey>.ReleaseSeries()
-    {
-        // The table's own count is the limit here: nothing to give back.
-    }
-
-    void ISeriesHost<TKey>.Rejected(TKey key, string? reason)
-    {
-        _rejected++;
-        if (reason is not null)
-        {
-            _faults.Add(new SeriesFault<TKey>(key, 0, SeriesFaultKind.ObservationRejected, reason));
-        }
     }
 
     void ISeriesSink<TKey>.Forecast(in ForecastUpdate<TKey> update) => _forecasts.Add(update);
@@ -195,7 +157,7 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
             return new CallReceipt(_bucket, appliedAs, true, 0);
         }
 
-        long observationsBefore = Counters.Observations;
+        long observationsBefore = _table.GetCounters().Observations;
         try
         {
             apply(this, argument);
@@ -224,7 +186,7 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
 
         await CommitAsync(sequence).ConfigureAwait(true);
 
-        return new CallReceipt(_bucket, sequence, false, Counters.Observations - observationsBefore);
+        return new CallReceipt(_bucket, sequence, false, _table.GetCounters().Observations - observationsBefore);
     }
 
     private async Task StoreAsync()
@@ -295,10 +257,10 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
             return;
         }
 
-        long closed = Counters.PeriodsClosed, evicted = Counters.Evictions;
+        EngineCounters before = _table.GetCounters();
         try
         {
-            _table.IdleCheck(_options.TimeProvider.GetTimestamp());
+            _table.CheckIdle(this);
         }
         catch (Exception ex) when (ex is not OutOfMemoryException)
         {
@@ -306,7 +268,8 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
             return;
         }
 
-        if (Counters.PeriodsClosed != closed || Counters.Evictions != evicted)
+        EngineCounters after = _table.GetCounters();
+        if (after.PeriodsClosed != before.PeriodsClosed || after.Evictions != before.Evictions)
         {
             try
             {
@@ -325,7 +288,7 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
         BucketState<TKey> state = _state.State;
         state.Sequence = sequence;
         state.Series = WriteSeries();
-        state.Counters = GetCounters();
+        state.Counters = _table.GetCounters();
         bool hasOutput = TakeOutput(sequence);
         await StoreAsync().ConfigureAwait(true);
         if (hasOutput)
@@ -339,7 +302,7 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
         DateTimeOffset? latest = ObservationRules.LatestEventTime(_options.MaxEventTimeAhead, _options.TimeProvider);
         for (int i = 0; i < batch.Length; i++)
         {
-            if (ObservationRules.Problem(batch[i], latest) is { } problem)
+            if (ObservationRules.FindProblem(batch[i], latest) is { } problem)
             {
                 throw new ArgumentOutOfRangeException(nameof(batch), $"Observation {i} of the batch is invalid ({problem}); nothing was applied.");
             }

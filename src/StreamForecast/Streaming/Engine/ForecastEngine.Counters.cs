@@ -15,14 +15,14 @@ public sealed partial class ForecastEngine<TKey>
         long depth = 0;
         foreach (Partition<TKey> p in _partitions)
         {
-            total += p.Counters.ToEngineCounters();
+            total += p.GetCounters();
             depth += p.QueueDepth;
         }
 
         return total with
         {
             Dropped = Interlocked.Read(ref _dropped),
-            Rejected = Interlocked.Read(ref _rejected),
+            Rejected = total.Rejected + Interlocked.Read(ref _rejected),
             ActiveSeries = SeriesCount,
             QueueDepth = depth,
             SubscriberDrops = Interlocked.Read(ref _subscriberDrops),

@@ -296,7 +296,7 @@ public sealed partial class ForecastEngine<TKey> : IForecastEngine<TKey>
 
     private void Validate(in Observation<TKey> observation)
     {
-        if (ObservationRules.Problem(observation, ObservationRules.LatestEventTime(Options.MaxEventTimeAhead, Options.TimeProvider)) is { } problem)
+        if (ObservationRules.FindProblem(observation, ObservationRules.LatestEventTime(Options.MaxEventTimeAhead, Options.TimeProvider)) is { } problem)
         {
             object? value = double.IsFinite(observation.Quantity) ? observation.Timestamp : observation.Quantity;
             ThrowHelper.ThrowOutOfRange(nameof(observation), value, problem + "; the observation was not posted");

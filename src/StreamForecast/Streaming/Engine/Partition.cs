@@ -6,12 +6,12 @@ namespace StreamForecast.Streaming;
 /// One owner loop: it alone reads its queue and touches its series, so per-series state needs no locks. Everything it
 /// produces is handed to the engine's publishers from this loop.
 /// </summary>
-internal sealed class Partition<TKey> : ISeriesHost<TKey>
+internal sealed class Partition<TKey> : ISeriesSink<TKey>, ISeriesBudget
     where TKey : notnull
 {
     private readonly ForecastEngine<TKey> _engine;
     private readonly Channel<Message> _queue;
-    private readonly SeriesTable<TKey> _table;
+    private readonly SeriesSet<TKey> _table;
     private readonly Queue<ForecastUpdate<TKey>> _pendingForecasts = new();
     private readonly Queue<DriftAlert<TKey>> _pendingAlerts = new();
 
@@ -25,22 +25,19 @@ internal sealed class Partition<TKey> : ISeriesHost<TKey>
             SingleWriter = false,
             FullMode = BoundedChannelFullMode.Wait,
         });
-        _table = new SeriesTable<TKey>(engine.Options.KeyComparer, this);
+        _table = new SeriesSet<TKey>(engine.Options, this);
     }
 
     public int Index { get; }
 
-    public SeriesCounters Counters { get; } = new();
+    /// <summary>This partition's counters (relaxed reads; rejections made inside the partition included).</summary>
+    public EngineCounters GetCounters() => _table.GetCounters();
 
     public Task Loop { get; private set; } = Task.CompletedTask;
 
     public int QueueDepth => _queue.Reader.Count;
 
     public int SeriesCount => _table.Count;
-
-    int? ISeriesHost<TKey>.EvictAfterQuietPeriods => _engine.Options.EvictAfterQuietPeriods;
-
-    TimeProvider ISeriesHost<TKey>.TimeProvider => _engine.Options.TimeProvider;
 
     public void Start() => Loop = Task.Run(RunAsync);
 
@@ -52,20 +49,9 @@ internal sealed class Partition<TKey> : ISeriesHost<TKey>
 
     public void CompleteQueue() => _queue.Writer.TryComplete();
 
-    SeriesOptions ISeriesHost<TKey>.Resolve(TKey key) => _engine.Options.Resolve(key);
+    bool ISeriesBudget.TryReserveSeries() => _engine.TryReserveSeries();
 
-    bool ISeriesHost<TKey>.TryReserveSeries() => _engine.TryReserveSeries();
-
-    void ISeriesHost<TKey>.ReleaseSeries() => _engine.ReleaseSeries();
-
-    void ISeriesHost<TKey>.Rejected(TKey key, string? reason)
-    {
-        _engine.CountRejected();
-        if (reason is not null)
-        {
-            _engine.PublishFault(new SeriesFault<TKey>(key, 0, SeriesFaultKind.ObservationRejected, reason));
-        }
-    }
+    void ISeriesBudget.ReleaseSeries() => _engine.ReleaseSeries();
 
     void ISeriesSink<TKey>.Forecast(in ForecastUpdate<TKey> update)
     {
@@ -122,19 +108,19 @@ internal sealed class Partition<TKey> : ISeriesHost<TKey>
             switch (message.Kind)
             {
                 case MessageKind.Observation:
-                    _table.Observe(message.Observation, message.Arrival);
+                    _table.Observe(message.Observation, message.Arrival, this);
                     break;
                 case MessageKind.Advance:
-                    _table.Advance(message.Time.UtcTicks);
+                    _table.Advance(message.Time, this);
                     break;
                 case MessageKind.Flush:
-                    _table.Flush();
+                    _table.Flush(this);
                     break;
                 case MessageKind.IdleCheck:
-                    _table.IdleCheck(message.Arrival);
+                    _table.CheckIdle(message.Arrival, this);
                     break;
                 case MessageKind.Acknowledge:
-                    _table.Acknowledge(message.Observation.Key);
+                    _table.Acknowledge(message.Observation.Key, this);
                     break;
                 case MessageKind.Visit:
                     message.Visitor!.Visit(_table.Series);

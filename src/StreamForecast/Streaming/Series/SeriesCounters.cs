@@ -73,6 +73,30 @@ internal sealed class SeriesCounters
         }
     }
 
+    /// <summary>Sets the counters from the series-level fields of the public record; <see langword="false"/> (nothing changed) when one is negative.</summary>
+    public bool TryLoad(in EngineCounters c)
+    {
+        ReadOnlySpan<long> values =
+        [
+            c.Observations, c.Late, c.Restated, c.Duplicates, c.PeriodsClosed, c.GapPeriods, c.RejectedActuals,
+            c.SkippedPeriods, c.AlertsRaised, c.AlertsEscalated, c.AlertsCleared, c.Evictions,
+        ];
+        foreach (long v in values)
+        {
+            if (v < 0)
+            {
+                return false;
+            }
+        }
+
+        for (int i = 0; i < Count; i++)
+        {
+            Volatile.Write(ref Slot(i), values[i]);
+        }
+
+        return true;
+    }
+
     /// <summary>These counters as the public record; the engine-level fields (dropped, rejected, series, queues, subscribers) are 0.</summary>
     public EngineCounters ToEngineCounters() => new(
         Volatile.Read(ref Observations), Volatile.Read(ref Late), Volatile.Read(ref Restated), Volatile.Read(ref Duplicates), 0, 0,

@@ -1,0 +1,252 @@
+using System.Collections.Immutable;
+using Microsoft.Extensions.Time.Testing;
+using StreamForecast.Alerts;
+using StreamForecast.Forecasting;
+using StreamForecast.Periods;
+using StreamForecast.Streaming;
+
+namespace StreamForecast.Tests.Streaming;
+
+/// <summary>
+/// <see cref="SeriesSet{TKey}"/> hosted outside the engine must produce what the engine publishes and snapshot the same
+/// bytes. Invented data: a fleet of cold-room sensors reporting once a minute, one of them drifting upward.
+/// </summary>
+public sealed class SeriesSetTests
+{
+    private static readonly DateTimeOffset Start = new(2027, 3, 1, 0, 0, 0, TimeSpan.Zero);
+
+    [Fact]
+    public async Task Post_SameInputAsAOnePartitionEngine_SameOutputsCountersAndSnapshotBytes()
+    {
+        ForecastEngineOptions<string> options = Options(new FakeTimeProvider(Start.AddDays(1)));
+        List<Observation<string>> input = Readings(seed: 11);
+
+        var engine = new ForecastEngine<string>(options);
+        var recorder = EngineRecorder<string>.Attach(engine);
+        foreach (Observation<string> o in input)
+        {
+            await engine.PostAsync(o);
+        }
+
+        await engine.AdvanceAsync(Start.AddMinutes(45));
+        await engine.AcknowledgeAsync("room-3");
+        await engine.FlushAsync();
+        using var engineBytes = new MemoryStream();
+        await engine.SnapshotAsync(engineBytes, SnapshotKeyCodecs.Utf8String, 77);
+        EngineCounters engineCounters = engine.GetCounters();
+        await engine.DisposeAsync();
+
+        var set = new SeriesSet<string>(options);
+        var sink = new ListSink();
+        set.Post(input.ToArray(), sink);
+        set.Advance(Start.AddMinutes(45), sink);
+        set.Acknowledge("room-3", sink);
+        set.Flush(sink);
+        using var setBytes = new MemoryStream();
+        set.Snapshot(setBytes, SnapshotKeyCodecs.Utf8String, 77);
+
+        Assert.NotEmpty(recorder.Alerts); // the drifting room raises at least one episode, so alerts are compared too
+        Assert.Equal(recorder.Forecasts, sink.Forecasts);
+        Assert.Equal(recorder.Alerts, sink.Alerts);
+        Assert.Equal(recorder.Faults, sink.Faults);
+        Assert.Equal(engineBytes.ToArray(), setBytes.ToArray());
+        Assert.Equal(engineCounters with { QueueDepth = 0 }, set.GetCounters());
+    }
+
+    [Fact]
+    public void Restore_SnapshotThenContinue_EqualsAnUninterruptedRun()
+    {
+        ForecastEngineOptions<string> options = Options(new FakeTimeProvider(Start.AddDays(1)));
+        List<Observation<string>> input = Readings(seed: 12);
+        int half = input.Count / 2;
+
+        var whole = new SeriesSet<string>(options);
+        var wholeSink = new ListSink();
+        whole.Post(input.ToArray(), wholeSink);
+        whole.Flush(wholeSink);
+
+        var first = new SeriesSet<string>(options);
+        var firstSink = new ListSink();
+        first.Post(input.Take(half).ToArray(), firstSink);
+        using var bytes = new MemoryStream();
+        first.Snapshot(bytes, SnapshotKeyCodecs.Utf8String, half);
+        bytes.Position = 0;
+        var second = new SeriesSet<string>(options);
+        Assert.Equal(half, second.Restore(bytes, SnapshotKeyCodecs.Utf8String));
+        second.RestoreCounters(first.GetCounters());
+        var secondSink = new ListSink();
+        second.Post(input.Skip(half).ToArray(), secondSink);
+        second.Flush(secondSink);
+
+        Assert.Equal(wholeSink.Forecasts, [.. firstSink.Forecasts, .. secondSink.Forecasts]);
+        Assert.Equal(wholeSink.Alerts, [.. firstSink.Alerts, .. secondSink.Alerts]);
+        Assert.Equal(whole.GetCounters(), second.GetCounters());
+    }
+
+    [Fact]
+    public void Post_BatchWithOneNonFiniteQuantity_ThrowsAndAppliesNothing()
+    {
+        var set = new SeriesSet<string>(Options(new FakeTimeProvider(Start.AddDays(1))));
+        var sink = new ListSink();
+        Observation<string>[] batch = [new("room-1", Start, 4.0), new("room-2", Start, double.NaN)];
+
+        var ex = Assert.Throws<ArgumentOutOfRangeException>(() => set.Post(batch, sink));
+
+        Assert.Contains("Observation 1 of the batch", ex.Message, StringComparison.Ordinal);
+        Assert.Equal(0, set.Count);
+        Assert.Equal(default(EngineCounters), set.GetCounters());
+    }
+
+    [Fact]
+    public void Post_EventTimeTooFarAhead_ThrowsAndAppliesNothing()
+    {
+        var set = new SeriesSet<string>(Options(new FakeTimeProvider(Start)));
+        var sink = new ListSink();
+
+        Assert.Throws<ArgumentOutOfRangeException>(() => set.Post(new Observation<string>("room-1", Start.AddDays(30), 4.0), sink));
+
+        Assert.Equal(0, set.Count);
+    }
+
+    [Fact]
+    public void Post_SeriesLimitReached_CountsTheRejectionWithoutAFault()
+    {
+        var series = new SeriesOptions(new NaiveOptions(), PeriodCalendar.FixedInterval(TimeSpan.FromMinutes(1)));
+        var set = new SeriesSet<string>(new ForecastEngineOptions<string>(series, timeProvider: new FakeTimeProvider(Start.AddDays(1)), maxSeries: 1));
+        var sink = new ListSink();
+
+        set.Post(new Observation<string>("room-1", Start, 4.0), sink);
+        set.Post(new Observation<string>("room-2", Start, 5.0), sink);
+
+        Assert.Equal(1, set.Count);
+        EngineCounters counters = set.GetCounters();
+        Assert.Equal(1, counters.Rejected);
+        Assert.Equal(1, counters.Observations);
+        Assert.Empty(sink.Faults);
+    }
+
+    [Fact]
+    public void Restore_SetAlreadyHoldsSeries_Throws()
+    {
+        ForecastEngineOptions<string> options = Options(new FakeTimeProvider(Start.AddDays(1)));
+        var set = new SeriesSet<string>(options);
+        set.Post(new Observation<string>("room-1", Start, 4.0), new ListSink());
+        using var bytes = new MemoryStream();
+        set.Snapshot(bytes, SnapshotKeyCodecs.Utf8String, 1);
+        bytes.Position = 0;
+
+        Assert.Throws<InvalidOperationException>(() => set.Restore(bytes, SnapshotKeyCodecs.Utf8String));
+    }
+
+    [Fact]
+    public void Restore_DamagedSnapshot_ThrowsAndStaysEmpty()
+    {
+        ForecastEngineOptions<string> options = Options(new FakeTimeProvider(Start.AddDays(1)));
+        var set = new SeriesSet<string>(options);
+        set.Post(Readings(seed: 3).ToArray(), new ListSink());
+        using var bytes = new MemoryStream();
+        set.Snapshot(bytes, SnapshotKeyCodecs.Utf8String, 1);
+        byte[] damaged = bytes.ToArray();
+        damaged[damaged.Length / 2] ^= 0x40;
+
+        var target = new SeriesSet<string>(options);
+        Assert.Throws<InvalidDataException>(() => target.Restore(new MemoryStream(damaged), SnapshotKeyCodecs.Utf8String));
+        Assert.Equal(0, target.Count);
+    }
+
+    [Fact]
+    public void RestoreCounters_NegativeCounter_ThrowsAndChangesNothing()
+    {
+        var set = new SeriesSet<string>(Options(new FakeTimeProvider(Start.AddDays(1))));
+        set.Post(new Observation<string>("room-1", Start, 4.0), new ListSink());
+        EngineCounters before = set.GetCounters();
+
+        Assert.Throws<ArgumentOutOfRangeException>(() => set.RestoreCounters(before with { Late = -1 }));
+        Assert.Throws<ArgumentOutOfRangeException>(() => set.RestoreCounters(before with { Rejected = -1 }));
+
+        Assert.Equal(before, set.GetCounters());
+    }
+
+    [Fact]
+    public async Task SeriesPublisher_SinkOfASet_DeliversToSubscribersAndReportsAThrowingOne()
+    {
+        var publisher = new SeriesPublisher<string>();
+        var recorder = new EngineRecorder<string>();
+        publisher.Forecasts.Subscribe(recorder);
+        publisher.Alerts.Subscribe(recorder);
+        publisher.Faults.Subscribe(recorder);
+        publisher.Forecasts.Subscribe(new ThrowingObserver());
+        var set = new SeriesSet<string>(Options(new FakeTimeProvider(Start.AddDays(1))));
+        var direct = new ListSink();
+        Observation<string>[] input = [.. Readings(seed: 4)];
+
+        set.Post(input, publisher);
+        set.Flush(publisher);
+        var directSet = new SeriesSet<string>(Options(new FakeTimeProvider(Start.AddDays(1))));
+        directSet.Post(input, direct);
+        directSet.Flush(direct);
+        await publisher.CompleteAsync();
+
+        Assert.NotEmpty(direct.Forecasts);
+        Assert.Equal(direct.Forecasts, recorder.Forecasts);
+        Assert.Equal(direct.Alerts, recorder.Alerts);
+        Assert.Equal(3, recorder.Completed);
+        Assert.Contains(recorder.Faults, f => f.Kind == SeriesFaultKind.SubscriberFailed);
+    }
+
+    private static ForecastEngineOptions<string> Options(TimeProvider time)
+    {
+        ImmutableArray<DriftRuleOptions> rules = [new TrackingSignalRuleOptions(warmUpPeriods: 3)];
+        var series = new SeriesOptions(new MovingAverageOptions(4), PeriodCalendar.FixedInterval(TimeSpan.FromMinutes(1)), rules: rules);
+        return new ForecastEngineOptions<string>(series, partitions: 1, timeProvider: time, maxEventTimeAhead: TimeSpan.FromDays(2));
+    }
+
+    /// <summary>Four rooms, one reading a minute for an hour, room-3 drifting upward from minute 20; a few readings twice.</summary>
+    private static List<Observation<string>> Readings(int seed)
+    {
+        var rng = new Random(seed);
+        var list = new List<Observation<string>>();
+        for (int m = 0; m < 60; m++)
+        {
+            for (int room = 0; room < 4; room++)
+            {
+                double drift = room == 3 && m >= 20 ? (m - 20) * 0.8 : 0;
+                list.Add(new Observation<string>($"room-{room}", Start.AddMinutes(m).AddSeconds(rng.Next(50)), 4 + rng.NextDouble() + drift));
+                if (rng.Next(15) == 0)
+                {
+                    list.Add(new Observation<string>($"room-{room}", Start.AddMinutes(m).AddSeconds(55), 0.5));
+                }
+            }
+        }
+
+        return list;
+    }
+
+    private sealed class ListSink : ISeriesSink<string>
+    {
+        public List<ForecastUpdate<string>> Forecasts { get; } = [];
+
+        public List<DriftAlert<string>> Alerts { get; } = [];
+
+        public List<SeriesFault<string>> Faults { get; } = [];
+
+        public void Forecast(in ForecastUpdate<string> update) => Forecasts.Add(update);
+
+        public void Alert(in DriftAlert<string> alert) => Alerts.Add(alert);
+
+        public void Fault(in SeriesFault<string> fault) => Faults.Add(fault);
+    }
+
+    private sealed class ThrowingObserver : IObserver<ForecastUpdate<string>>
+    {
+        public void OnCompleted()
+        {
+        }
+
+        public void OnError(Exception error)
+        {
+        }
+
+        public void OnNext(ForecastUpdate<string> value) => throw new InvalidOperationException("a subscriber that fails on purpose");
+    }
+}
