@@ -9,7 +9,7 @@ using StreamForecast.Streaming;
 namespace StreamForecast.Hosting;
 
 /// <content>Truncating the input log behind the checkpoints.</content>
-public sealed partial class ForecastEngineService<TKey>
+internal sealed partial class ForecastEngineService<TKey>
 {
     private async Task TruncateInputLogAsync(long position, CancellationToken cancellationToken)
     {

@@ -9,7 +9,7 @@ using StreamForecast.Streaming;
 namespace StreamForecast.Hosting;
 
 /// <content>Log messages and the observers that log alert transitions and faults.</content>
-public sealed partial class ForecastEngineService<TKey>
+internal sealed partial class ForecastEngineService<TKey>
 {
     private string KeyText(TKey key) => _options.LogSeriesKeys ? key.ToString() ?? string.Empty : "(hidden)";
 

@@ -31,7 +31,7 @@ namespace StreamForecast.Hosting;
 /// told, within the host's shutdown timeout.</para>
 /// <para>Registered by <see cref="StreamForecastServiceCollectionExtensions.AddStreamForecast{TKey}"/>. Thread-safe.</para>
 /// </remarks>
-public sealed partial class ForecastEngineService<TKey> : BackgroundService
+internal sealed partial class ForecastEngineService<TKey> : BackgroundService
     where TKey : notnull
 {
     private readonly StreamForecastOptions<TKey> _options;

@@ -10,7 +10,7 @@ namespace StreamForecast.Hosting;
 /// <typeparam name="TKey">The series key type.</typeparam>
 /// <remarks>
 /// <para>A mutable settings object for the options pattern: configuration is bound first, then the code callback runs,
-/// then <see cref="StreamForecastOptionsValidator{TKey}"/> checks everything when the host starts, so invalid settings
+/// then the options validator that <see cref="StreamForecastServiceCollectionExtensions.AddStreamForecast{TKey}"/> registers checks everything when the host starts, so invalid settings
 /// stop the start with a message naming the setting. The engine itself receives an immutable
 /// <see cref="ForecastEngineOptions{TKey}"/> built from these.</para>
 /// <para>Defaults are those of <see cref="ForecastEngineOptions{TKey}"/> unless stated. Not thread-safe; it is read once at start.</para>

@@ -10,7 +10,7 @@ namespace StreamForecast.Hosting;
 /// </summary>
 /// <typeparam name="TKey">The series key type.</typeparam>
 /// <remarks>Stateless and thread-safe. Registered by <see cref="StreamForecastServiceCollectionExtensions.AddStreamForecast{TKey}"/>.</remarks>
-public sealed class StreamForecastOptionsValidator<TKey> : IValidateOptions<StreamForecastOptions<TKey>>
+internal sealed class StreamForecastOptionsValidator<TKey> : IValidateOptions<StreamForecastOptions<TKey>>
     where TKey : notnull
 {
     /// <summary>Validates the settings.</summary>
