@@ -87,6 +87,8 @@ public sealed class CommandLineToolTests : IDisposable
     [InlineData("ses:0.3", "SES(0.3)")]
     [InlineData("croston:0.1", "Croston(0.1)")]
     [InlineData("tsb:0.1,0.2", "TSB(0.1, 0.2)")]
+    [InlineData("hw2:2,7,add,0.3,none,0.1,0.1", "TwoSeasonHoltWinters(additive, m 2 and 7, 0.3, no trend, 0.1, 0.1)")]
+    [InlineData("hw2:2,7,mul,0.3,0.05,0.1,0.1,0.5", "TwoSeasonHoltWinters(multiplicative, m 2 and 7, 0.3, 0.05, 0.1, 0.1, error adjustment 0.5)")]
     public void Replay_MethodText_RunsThatMethod(string method, string label)
     {
         _tool.Write("sales.csv", ToolRunner.SalesCsv(days: 21));
