@@ -152,6 +152,35 @@ public sealed class CommandLineToolTests : IDisposable
     }
 
     [Fact]
+    public void Tune_HourlyPeriods_ConsidersTwoCyclesAndReplaysTheWrittenMethod()
+    {
+        // Invented sensor counts, 35 days of hours: a daily shape, quieter weekends (a weekly cycle), mild noise.
+        var random = new Random(5);
+        var csv = new System.Text.StringBuilder("device,time,count\n");
+        var start = new DateTime(2025, 6, 2, 0, 0, 0, DateTimeKind.Utc);
+        for (int t = 0; t < 35 * 24; t++)
+        {
+            int hour = t % 24, day = t / 24 % 7;
+            double mean = (day >= 5 ? 30 : 60) * (1 + (0.8 * Math.Sin(Math.PI * hour / 24))) + (day < 5 && hour == 9 ? 40 : 0);
+            csv.Append(CultureInfo.InvariantCulture, $"g1,{start.AddHours(t):yyyy-MM-ddTHH:mm:ss}Z,{Math.Round(mean + ((random.NextDouble() - 0.5) * 10))}\n");
+        }
+
+        _tool.Write("hours.csv", csv.ToString());
+
+        ToolResult tune = _tool.Run("tune", "hours.csv", "--key", "device", "--quantity", "count", "--period", "1h", "--season", "24", "--top", "100", "--out", "methods.json");
+
+        Assert.True(tune.ExitCode == 0, tune.ToString());
+        Assert.Contains("TwoSeasonHoltWinters(", tune.Output, StringComparison.Ordinal);
+        using JsonDocument config = JsonDocument.Parse(File.ReadAllText(_tool.PathOf("methods.json")));
+        string method = config.RootElement.GetProperty("series")[0].GetProperty("method").GetString()!;
+        string label = config.RootElement.GetProperty("series")[0].GetProperty("label").GetString()!;
+        ToolResult replay = _tool.Run("replay", "hours.csv", "--key", "device", "--quantity", "count", "--period", "1h", "--config", "methods.json");
+        Assert.True(replay.ExitCode == 0, replay.ToString());
+        Assert.Contains(File.ReadLines(_tool.PathOf("forecasts.csv")).Skip(1), line => line.Contains(label, StringComparison.Ordinal));
+        Assert.StartsWith("hw2:24,168,", method, StringComparison.Ordinal); // the two-cycle method wins on this data
+    }
+
+    [Fact]
     public void Replay_SemicolonDelimiterGiven_ReadsFile()
     {
         _tool.Write("sales.csv", ToolRunner.SalesCsv(days: 10, delimiter: ';'));
