@@ -14,6 +14,9 @@ namespace StreamForecast.Cli;
 /// <item><description><c>ses:alpha[,start]</c> with start <c>first</c> (default), <c>mean=k</c> or <c>level=x</c></description></item>
 /// <item><description><c>holt:level,trend[,damping][,start]</c> with start <c>first2</c> (default), <c>diffs=d</c>, <c>trend=t</c> or <c>given=l;t</c></description></item>
 /// <item><description><c>hw:m,add|mul,level,trend,seasonal[,damping[,startSeasons]]</c> (Holt-Winters)</description></item>
+/// <item><description><c>hw2:m1,m2,add|mul,level,trend|none,cycle1,cycle2[,adjust]</c> (Holt-Winters with two seasonal cycles
+/// m1 &lt; m2, such as 24 and 168 for hourly data; <c>none</c> for no trend; <c>adjust</c> the first-order error adjustment,
+/// default 0)</description></item>
 /// <item><description><c>croston:size[,interval]</c>, <c>sba:size[,interval]</c>, <c>tsb:probability,size</c></description></item>
 /// <item><description><c>best:m1|m2|…[;weight=w,margin=x,switch=p,min=k]</c>: online selection among the candidate methods
 /// (each in one of the forms above), publishing the one with the lowest recent error (<see cref="MethodSelectorOptions"/>)</description></item>
@@ -22,7 +25,7 @@ namespace StreamForecast.Cli;
 /// </remarks>
 internal static class MethodSpec
 {
-    public const string Forms = "naive | seasonal-naive:m | ma:n | wma:w1,w2,... | ses:alpha | holt:level,trend[,damping] | hw:m,add|mul,level,trend,seasonal[,damping] | croston:size | sba:size | tsb:probability,size | best:m1|m2|...[;weight=w,margin=x,switch=p,min=k]";
+    public const string Forms = "naive | seasonal-naive:m | ma:n | wma:w1,w2,... | ses:alpha | holt:level,trend[,damping] | hw:m,add|mul,level,trend,seasonal[,damping] | hw2:m1,m2,add|mul,level,trend|none,cycle1,cycle2[,adjust] | croston:size | sba:size | tsb:probability,size | best:m1|m2|...[;weight=w,margin=x,switch=p,min=k]";
 
     public static ForecasterOptions Parse(string text)
     {
@@ -49,6 +52,9 @@ internal static class MethodSpec
                 "hw" when args.Length is >= 5 and <= 7 => new HoltWintersOptions(
                     Int(args[0]), SeasonalityOf(args[1]), Num(args[2]), Num(args[3]), Num(args[4]),
                     args.Length >= 6 ? Num(args[5]) : 1.0, args.Length == 7 ? Int(args[6]) : 2),
+                "hw2" when args.Length is 7 or 8 => new TwoSeasonHoltWintersOptions(
+                    Int(args[0]), Int(args[1]), SeasonalityOf(args[2]), Num(args[3]), args[4] == "none" ? null : Num(args[4]),
+                    Num(args[5]), Num(args[6]), args.Length == 8 ? Num(args[7]) : 0),
                 "croston" when args.Length is 1 or 2 => new CrostonOptions(Num(args[0]), args.Length == 2 ? Num(args[1]) : null),
                 "sba" when args.Length is 1 or 2 => new CrostonOptions(Num(args[0]), args.Length == 2 ? Num(args[1]) : null, CrostonVariant.SyntetosBoylan),
                 "tsb" when args.Length == 2 => new TsbOptions(Num(args[0]), Num(args[1])),
@@ -70,6 +76,8 @@ internal static class MethodSpec
         ExponentialSmoothingOptions s => $"ses:{D(s.Alpha)}" + LevelStartText(s.Start),
         HoltOptions h => $"holt:{D(h.LevelWeight)},{D(h.TrendWeight)},{D(h.Damping)}" + HoltStartText(h.Start),
         HoltWintersOptions hw => $"hw:{I(hw.SeasonLength)},{(hw.Seasonality == Seasonality.Additive ? "add" : "mul")},{D(hw.LevelWeight)},{D(hw.TrendWeight)},{D(hw.SeasonalWeight)},{D(hw.Damping)},{I(hw.StartSeasons)}",
+        TwoSeasonHoltWintersOptions h2 => $"hw2:{I(h2.ShortCycle)},{I(h2.LongCycle)},{(h2.Seasonality == Seasonality.Additive ? "add" : "mul")},{D(h2.LevelWeight)},"
+            + $"{(h2.TrendWeight is double beta ? D(beta) : "none")},{D(h2.ShortCycleWeight)},{D(h2.LongCycleWeight)},{D(h2.ErrorAdjustment)}",
         CrostonOptions c => $"{(c.Variant == CrostonVariant.SyntetosBoylan ? "sba" : "croston")}:{D(c.SizeWeight)},{D(c.IntervalWeight)}",
         TsbOptions t => $"tsb:{D(t.ProbabilityWeight)},{D(t.SizeWeight)}",
         MethodSelectorOptions b => "best:" + string.Join("|", b.Candidates.Select(Format))

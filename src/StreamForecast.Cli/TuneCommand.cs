@@ -30,7 +30,11 @@ internal static class TuneCommand
             TuningOptions options;
             try
             {
-                options = new TuningOptions(defaultMethod, common.HorizonOf(parse), season, parse.GetValue(fraction), metric: parse.GetValue(metric));
+                options = new TuningOptions(defaultMethod, common.HorizonOf(parse), season, parse.GetValue(fraction), metric: parse.GetValue(metric))
+                {
+                    // Fixed-length periods shorter than a day make the day and the week cycles known: two-cycle candidates.
+                    PeriodLength = calendar.Kind == PeriodKind.FixedInterval ? calendar.NominalLength : null,
+                };
             }
             catch (ArgumentException e)
             {

@@ -32,6 +32,9 @@ public static class MethodFitter
     /// <summary>The largest damping φ a damped-trend fit returns (common practice: φ between 0.8 and 0.98).</summary>
     public const double MaxDamping = 0.98;
 
+    /// <summary>The largest first-order error adjustment λ <see cref="FitTwoSeasonHoltWinters"/> returns.</summary>
+    public const double MaxErrorAdjustment = 0.95;
+
     /// <summary>The longest weighted moving average <see cref="FitWeightedMovingAverage"/> fits.</summary>
     public const int MaxWeightedLength = 200;
 
@@ -237,6 +240,49 @@ public static class MethodFitter
                 foreach (double gamma in (double[])[0.05, 0.2, 0.5])
                 {
                     grid.Add([alpha, beta, gamma]);
+                }
+            }
+        }
+
+        return search.Fit(grid);
+    }
+
+    /// <summary>
+    /// Fits Holt-Winters with two seasonal cycles (<see cref="TwoSeasonHoltWintersOptions"/>) without a trend component: the
+    /// level weight α in [<see cref="MinLevelWeight"/>, 1], the two cycle weights in [0, 1] and the first-order error
+    /// adjustment λ in [0, <see cref="MaxErrorAdjustment"/>].
+    /// </summary>
+    /// <param name="series">The history, oldest first; every value finite (and, for multiplicative seasonality, zero or more); more than two long cycles plus six periods.</param>
+    /// <param name="shortCycle">The short cycle m₁ (the day, in periods), 2 or more.</param>
+    /// <param name="longCycle">The long cycle m₂ (the week, in periods), above m₁ and at most <see cref="HoltWintersOptions.MaxSeasonLength"/>.</param>
+    /// <param name="seasonality">Additive (the default) or multiplicative.</param>
+    /// <returns>The fitted options and their SSE.</returns>
+    /// <exception cref="ArgumentOutOfRangeException">A cycle length is out of range, or a value is not finite.</exception>
+    /// <exception cref="ArgumentException">The history is too short, or the method rejects it for every parameter tried.</exception>
+    /// <remarks>
+    /// No trend: over the few weeks an intraday history covers, the level follows slow changes, and leaving the trend out
+    /// keeps the fit to four parameters. The error adjustment's lower bound of 0 keeps the usual positive error correlation of
+    /// intraday series (common practice); a caller wanting a trend or a negative λ scores its own options with <see cref="Score"/>.
+    /// </remarks>
+    public static FittedMethod FitTwoSeasonHoltWinters(ReadOnlySpan<double> series, int shortCycle, int longCycle, Seasonality seasonality = Seasonality.Additive)
+    {
+        if (shortCycle < 2 || longCycle <= shortCycle || longCycle > HoltWintersOptions.MaxSeasonLength)
+        {
+            SelectionThrowHelper.ThrowOutOfRange(nameof(longCycle), longCycle, "the cycles must satisfy 2 ≤ short cycle < long cycle ≤ 100,000 periods");
+        }
+
+        SelectionThrowHelper.CheckFinite(series, nameof(series));
+        CheckErrors(series.Length, 2 * longCycle, 4);
+        var search = new ParameterSearch(series.ToArray(), [MinLevelWeight, 0, 0, 0], [1, 1, 1, MaxErrorAdjustment],
+            p => new TwoSeasonHoltWintersOptions(shortCycle, longCycle, seasonality, p[0], null, p[1], p[2], p[3]));
+        var grid = new List<double[]>();
+        foreach (double alpha in (double[])[0.05, 0.2, 0.5])
+        {
+            foreach (double cycle in (double[])[0.05, 0.2])
+            {
+                foreach (double adjust in (double[])[0, 0.5])
+                {
+                    grid.Add([alpha, cycle, cycle, adjust]);
                 }
             }
         }

@@ -23,6 +23,8 @@ namespace StreamForecast.Selection;
 /// fitted undamped and damped.</description></item>
 /// <item><description>With m ≥ 2, Holt-Winters fitted additive, and multiplicative when every actual of the fitting window is
 /// above zero.</description></item>
+/// <item><description>When <see cref="TuningOptions.PeriodLength"/> divides a day into m₁ ≥ 2 periods, Holt-Winters with two
+/// seasonal cycles (the day m₁ and the week 7·m₁), fitted additive, and multiplicative under the same condition.</description></item>
 /// <item><description>When the fitting window is non-negative and its demand class (<see cref="DemandClassifier"/>) is
 /// intermittent or lumpy: Croston, SBA and TSB with each weight of <see cref="TuningOptions.IntermittentWeights"/> (every
 /// pair for TSB). For the other classes, the intermittent-demand methods that
@@ -131,6 +133,15 @@ public static class SeriesTuner
             if (nonNegative && AllAtLeast(window, 0, inclusive: false))
             {
                 TryAdd(Add, () => MethodFitter.FitHoltWinters(training, m, Seasonality.Multiplicative));
+            }
+        }
+
+        if (options.TryDayAndWeek(out int day, out int week))
+        {
+            TryAdd(Add, () => MethodFitter.FitTwoSeasonHoltWinters(training, day, week, Seasonality.Additive));
+            if (nonNegative && AllAtLeast(window, 0, inclusive: false))
+            {
+                TryAdd(Add, () => MethodFitter.FitTwoSeasonHoltWinters(training, day, week, Seasonality.Multiplicative));
             }
         }
 

@@ -17,6 +17,7 @@ public sealed record TuningOptions
     public const double DefaultMethodAlpha = 0.2;
 
     private readonly ImmutableArray<double> _intermittentWeights;
+    private readonly TimeSpan? _periodLength;
 
     /// <summary>Creates tuning options.</summary>
     /// <param name="defaultMethod">
@@ -182,6 +183,51 @@ public sealed record TuningOptions
     /// <summary>The most series tuned at once; null for one per core.</summary>
     public int? MaxDegreeOfParallelism { get; }
 
+    /// <summary>
+    /// The length of one period when every period has the same length (a fixed-interval calendar's
+    /// <see cref="Periods.PeriodCalendar.NominalLength"/>); null (the default) when unknown or not fixed. When it is shorter than a
+    /// day and divides the day into 2 or more whole periods, the tuner adds Holt-Winters with two seasonal cycles, the day
+    /// (m₁ periods) and the week (7·m₁, at most 100,000), as candidates (<see cref="MethodFitter.FitTwoSeasonHoltWinters"/>).
+    /// Daily and weekly periods never get them.
+    /// </summary>
+    /// <exception cref="ArgumentOutOfRangeException">The value is zero or negative.</exception>
+    public TimeSpan? PeriodLength
+    {
+        get => _periodLength;
+        init
+        {
+            if (value is TimeSpan length && length <= TimeSpan.Zero)
+            {
+                SelectionThrowHelper.ThrowOutOfRange(nameof(PeriodLength), length, "the period length must be positive, or null when unknown");
+            }
+
+            _periodLength = value;
+        }
+    }
+
+    /// <summary>
+    /// The day and week in periods from <see cref="PeriodLength"/>: true when a period is shorter than a day, a day holds a
+    /// whole number m₁ ≥ 2 of periods, and a week (7·m₁) is at most <see cref="HoltWintersOptions.MaxSeasonLength"/>.
+    /// </summary>
+    internal bool TryDayAndWeek(out int day, out int week)
+    {
+        day = week = 0;
+        if (_periodLength is not TimeSpan length || length >= TimeSpan.FromDays(1) || TimeSpan.TicksPerDay % length.Ticks != 0)
+        {
+            return false;
+        }
+
+        long perDay = TimeSpan.TicksPerDay / length.Ticks;
+        if (perDay < 2 || 7 * perDay > HoltWintersOptions.MaxSeasonLength)
+        {
+            return false;
+        }
+
+        day = (int)perDay;
+        week = 7 * day;
+        return true;
+    }
+
     /// <summary>The first backtest origin (and size of the fitting window) for a history of <paramref name="length"/> actuals.</summary>
     /// <param name="length">The number of actuals.</param>
     /// <returns><see cref="FirstOrigin"/> if given, else ⌊<see cref="TrainingFraction"/>·length⌋, at least 1.</returns>
@@ -205,7 +251,8 @@ public sealed record TuningOptions
         && Metric == other.Metric
         && Tracking.Equals(other.Tracking)
         && Classifier.Equals(other.Classifier)
-        && MaxDegreeOfParallelism == other.MaxDegreeOfParallelism;
+        && MaxDegreeOfParallelism == other.MaxDegreeOfParallelism
+        && _periodLength == other._periodLength;
 
     /// <inheritdoc/>
     public override int GetHashCode() => HashCode.Combine(DefaultMethod, Horizon, SeasonLength, TrainingFraction, FirstOrigin, MaxMovingAverageLength, WeightedLength, Metric);

@@ -87,6 +87,8 @@ public sealed class CommandLineToolTests : IDisposable
     [InlineData("ses:0.3", "SES(0.3)")]
     [InlineData("croston:0.1", "Croston(0.1)")]
     [InlineData("tsb:0.1,0.2", "TSB(0.1, 0.2)")]
+    [InlineData("hw2:2,7,add,0.3,none,0.1,0.1", "TwoSeasonHoltWinters(additive, m 2 and 7, 0.3, no trend, 0.1, 0.1)")]
+    [InlineData("hw2:2,7,mul,0.3,0.05,0.1,0.1,0.5", "TwoSeasonHoltWinters(multiplicative, m 2 and 7, 0.3, 0.05, 0.1, 0.1, error adjustment 0.5)")]
     public void Replay_MethodText_RunsThatMethod(string method, string label)
     {
         _tool.Write("sales.csv", ToolRunner.SalesCsv(days: 21));
@@ -147,6 +149,35 @@ public sealed class CommandLineToolTests : IDisposable
         Assert.Equal(2, rows.Length);
         Assert.StartsWith($"m1,2025-06-01T00:00:00.0000000+00:00,{firstHour},", rows[0], StringComparison.Ordinal);
         Assert.StartsWith($"m1,2025-06-01T01:00:00.0000000+00:00,4,0,{firstHour},", rows[1], StringComparison.Ordinal); // naive: the previous hour
+    }
+
+    [Fact]
+    public void Tune_HourlyPeriods_ConsidersTwoCyclesAndReplaysTheWrittenMethod()
+    {
+        // Invented sensor counts, 35 days of hours: a daily shape, quieter weekends (a weekly cycle), mild noise.
+        var random = new Random(5);
+        var csv = new System.Text.StringBuilder("device,time,count\n");
+        var start = new DateTime(2025, 6, 2, 0, 0, 0, DateTimeKind.Utc);
+        for (int t = 0; t < 35 * 24; t++)
+        {
+            int hour = t % 24, day = t / 24 % 7;
+            double mean = (day >= 5 ? 30 : 60) * (1 + (0.8 * Math.Sin(Math.PI * hour / 24))) + (day < 5 && hour == 9 ? 40 : 0);
+            csv.Append(CultureInfo.InvariantCulture, $"g1,{start.AddHours(t):yyyy-MM-ddTHH:mm:ss}Z,{Math.Round(mean + ((random.NextDouble() - 0.5) * 10))}\n");
+        }
+
+        _tool.Write("hours.csv", csv.ToString());
+
+        ToolResult tune = _tool.Run("tune", "hours.csv", "--key", "device", "--quantity", "count", "--period", "1h", "--season", "24", "--top", "100", "--out", "methods.json");
+
+        Assert.True(tune.ExitCode == 0, tune.ToString());
+        Assert.Contains("TwoSeasonHoltWinters(", tune.Output, StringComparison.Ordinal);
+        using JsonDocument config = JsonDocument.Parse(File.ReadAllText(_tool.PathOf("methods.json")));
+        string method = config.RootElement.GetProperty("series")[0].GetProperty("method").GetString()!;
+        string label = config.RootElement.GetProperty("series")[0].GetProperty("label").GetString()!;
+        ToolResult replay = _tool.Run("replay", "hours.csv", "--key", "device", "--quantity", "count", "--period", "1h", "--config", "methods.json");
+        Assert.True(replay.ExitCode == 0, replay.ToString());
+        Assert.Contains(File.ReadLines(_tool.PathOf("forecasts.csv")).Skip(1), line => line.Contains(label, StringComparison.Ordinal));
+        Assert.StartsWith("hw2:24,168,", method, StringComparison.Ordinal); // the two-cycle method wins on this data
     }
 
     [Fact]
