@@ -20,9 +20,10 @@ namespace StreamForecast.Forecasting;
 /// s·α when α = 2/(n + 1) (common practice: α = 2/(n + 1) gives a moving average and single smoothing the same average
 /// age); at most <see cref="MovingAverageOptions.MaxLength"/>;
 /// </description></item>
-/// <item><description>the (non-seasonal) naive forecast, a moving average of 1: the same rule with n = 1.</description></item>
+/// <item><description>the (non-seasonal) naive forecast, a moving average of 1: the same rule with n = 1;</description></item>
+/// <item><description>Croston and its variants: size and interval weights × s, same variant; TSB: probability and size weights × s.</description></item>
 /// </list>
-/// <para>Other methods (weighted moving averages, seasonal naive, the intermittent methods, a method selector) have no
+/// <para>Other methods (weighted moving averages, seasonal naive, a method selector) have no
 /// single obvious slower copy: give the reference method explicitly (a long moving average suits most series).</para>
 /// <para><b>Thread safety.</b> Static and stateless; safe from any thread.</para>
 /// </remarks>
@@ -58,6 +59,10 @@ public static class ReferenceMethods
                     hw.SeasonalWeight * weightScale, hw.Damping, hw.StartSeasons);
             case MovingAverageOptions ma:
                 return new MovingAverageOptions(LongerWindow(ma.Length, weightScale));
+            case CrostonOptions croston:
+                return new CrostonOptions(croston.SizeWeight * weightScale, croston.IntervalWeight * weightScale, croston.Variant);
+            case TsbOptions tsb:
+                return new TsbOptions(tsb.ProbabilityWeight * weightScale, tsb.SizeWeight * weightScale);
             case NaiveOptions { SeasonLength: 1 }:
                 return new MovingAverageOptions(LongerWindow(1, weightScale));
             default:
