@@ -92,8 +92,8 @@ internal sealed partial class SeriesState<TKey>
     /// <summary>
     /// Reads the reference model of <paramref name="step"/> when the options set one (null otherwise) and checks it against
     /// the step's model, which must already be read: both take every actual in the same step, all or nothing
-    /// (SeriesStep.Apply), so they have taken the same number of actuals and, while the reference tracker holds actuals,
-    /// its newest is the last actual.
+    /// (SeriesStep.Apply), so they have taken the same number of actuals. (The caller checks the reference tracker's
+    /// newest actual against the last actual once that is read.)
     /// </summary>
     private double[]? ReadReference(SnapshotPayloadReader reader, SeriesStep<TKey> step, string what)
     {
@@ -114,7 +114,6 @@ internal sealed partial class SeriesState<TKey>
             throw Invalid(Invariant($"{what} has taken {model.Count} actuals but the model beside it {step.Model.Count}; both take every actual"));
         }
 
-        CheckLastActual(model, step.LastActual, "the last actual", what);
         return state;
     }
 

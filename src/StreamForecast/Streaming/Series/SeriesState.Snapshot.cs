@@ -171,6 +171,10 @@ internal sealed partial class SeriesState<TKey>
 
         CheckLastActual(_step.Model, _step.LastActual, "the last actual", "its model");
         double[]? reference = ReadReference(reader, _step, "its reference model");
+        if (_step.Reference is { } referenceModel)
+        {
+            CheckLastActual(referenceModel, _step.LastActual, "the last actual", "its reference model");
+        }
 
         int rules = reader.ReadInt32();
         if (rules != RuleCount)
@@ -307,6 +311,10 @@ internal sealed partial class SeriesState<TKey>
         }
 
         CheckLastActual(r.Lag.Model, r.Lag.LastActual, "the lagged model's last actual", "its lagged model");
+        if (r.Lag.Reference is { } lagReferenceModel)
+        {
+            CheckLastActual(lagReferenceModel, r.Lag.LastActual, "the lagged model's last actual", "its lagged reference model");
+        }
 
         // The model is the lagged model stepped through the retained periods: closing a period steps the live model and,
         // when the oldest retained period leaves the window, the lagged model through it; a restatement rolls the model
