@@ -295,6 +295,33 @@ public sealed class ReferenceModelTests
         return writer.WrittenMemory.ToArray();
     }
 
+    [Fact]
+    public void Docs_ReferenceModelSnippet_IsThisCompiledCodeAndBuildsTheSlowerCopy()
+    {
+        // <reference-model>
+        ForecasterOptions method = new ExponentialSmoothingOptions(0.6);
+        var cusum = new CusumRuleOptions(decisionInterval: 5, referenceValue: 1);
+        var series = new SeriesOptions(
+            method,
+            PeriodCalendar.Daily(TimeZoneInfo.Utc),
+            rules: [cusum, cusum with { Watches = WatchedModel.Reference }],
+            referenceMethod: ReferenceMethods.Slower(method)); // SES(0.15)
+        // </reference-model>
+        Assert.Equal("SES(0.15)", series.ReferenceMethod!.MethodName);
+
+        string root = AppContext.BaseDirectory;
+        while (!File.Exists(Path.Combine(root, "StreamForecast.sln")))
+        {
+            root = Path.GetDirectoryName(root) ?? throw new InvalidOperationException("repository root not found");
+        }
+
+        static string Trimmed(string text) => string.Join("\n", text.ReplaceLineEndings("\n").Split('\n').Select(l => l.Trim()).Where(l => l.Length > 0));
+        string source = File.ReadAllText(Path.Combine(root, "tests", "StreamForecast.Tests", "Streaming", "ReferenceModelTests.cs"));
+        string block = source.Split("// <reference-model>")[1].Split("// </reference-model>")[0];
+        string docs = File.ReadAllText(Path.Combine(root, "docs", "reference-model.md"));
+        Assert.Contains(Trimmed(block), Trimmed(docs), StringComparison.Ordinal);
+    }
+
     private static bool Close(double actual, double expected, double scale) =>
         Math.Abs(actual - expected) <= 1e-9 * Math.Max(1, Math.Abs(scale));
 }
