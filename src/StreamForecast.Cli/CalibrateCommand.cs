@@ -12,7 +12,7 @@ internal static class CalibrateCommand
     public static Command Create(CommonOptions common)
     {
         var series = new Option<string>("--series") { Description = "The series to calibrate on (its key; parts of a composite key joined with '/').", Required = true };
-        var rule = new Option<string>("--calibrate-rule") { Description = "The rule whose limit is set: cusum:h, trigg:limit or signal:limit (the number is the starting template).", DefaultValueFactory = _ => "signal:4" };
+        var rule = new Option<string>("--calibrate-rule") { Description = "The rule whose limit is set: cusum:h, trigg:limit or signal:limit (the number is the starting template). To calibrate a rule that will watch a reference model, give that reference method as --method.", DefaultValueFactory = _ => "signal:4" };
         var target = new Option<double>("--target") { Description = "The target mean number of periods between false alarms.", DefaultValueFactory = _ => CalibrationOptions.DefaultTargetRunLength };
         var simulations = new Option<int>("--simulations") { Description = "Simulated streams per evaluation.", DefaultValueFactory = _ => CalibrationOptions.DefaultSimulations };
         var seed = new Option<int>("--seed") { Description = "The random seed (results are reproducible).", DefaultValueFactory = _ => 1 };

@@ -78,9 +78,18 @@ internal sealed class CommonOptions
 
     public Option<string[]> Rules { get; } = new("--rule")
     {
-        Description = "Drift rule(s): cusum:h, trigg:limit, signal:limit (tracking signal).",
+        Description = "Drift rule(s): cusum:h, trigg:limit, signal:limit (tracking signal). Append @reference to watch the reference " +
+            "model's errors instead of the published model's (needs --reference-method), e.g. cusum:5@reference.",
         DefaultValueFactory = _ => ["cusum:5"],
         AllowMultipleArgumentsPerToken = true,
+    };
+
+    public Option<string?> ReferenceMethod { get; } = new("--reference-method")
+    {
+        Description = "A slower model run beside each series' method, never published; rules marked @reference watch its errors, " +
+            "so a lasting shift the method quickly follows is still reported (once). A method (" + MethodSpec.Forms + "), or " +
+            "slower[:scale] for a copy of each series' own method with its smoothing weights times scale (default 0.25; a moving " +
+            "average's window lengthened to match). Default none.",
     };
 
     public Option<int> Season { get; } = new("--season") { Description = "The season length in periods (e.g. 7 for days in a week); 1 = none.", DefaultValueFactory = _ => 1 };
@@ -161,6 +170,53 @@ internal sealed class CommonOptions
 
     public DriftRuleOptions[] RulesOf(ParseResult parse) => [.. parse.GetValue(Rules)!.Select(RuleOf)];
 
+    /// <summary>
+    /// The reference method of a series from its own method under --reference-method: none, one fixed method, or a slower
+    /// copy of the series' method. Refuses rules that watch a reference when there is none.
+    /// </summary>
+    public Func<ForecasterOptions, ForecasterOptions?> ReferenceOf(ParseResult parse, IReadOnlyList<DriftRuleOptions> rules)
+    {
+        string? text = parse.GetValue(ReferenceMethod);
+        if (text is null)
+        {
+            foreach (DriftRuleOptions rule in rules)
+            {
+                if (rule.Watches == WatchedModel.Reference)
+                {
+                    throw new UsageException($"--rule {rule.RuleName}@reference watches the reference model, but no --reference-method is given.");
+                }
+            }
+
+            return static _ => null;
+        }
+
+        string trimmed = text.Trim();
+        string[] parts = trimmed.Split(':', 2, StringSplitOptions.TrimEntries);
+        if (parts[0].Equals("slower", StringComparison.OrdinalIgnoreCase))
+        {
+            double scale = ReferenceMethods.DefaultWeightScale;
+            if (parts.Length == 2 && !(double.TryParse(parts[1], NumberStyles.Float, CultureInfo.InvariantCulture, out scale) && scale > 0 && scale <= 1))
+            {
+                throw new UsageException($"--reference-method {text}: the scale after 'slower:' must be a number above 0 and at most 1 (e.g. slower:0.25).");
+            }
+
+            return method =>
+            {
+                try
+                {
+                    return Forecasting.ReferenceMethods.Slower(method, scale);
+                }
+                catch (ArgumentException e)
+                {
+                    throw new UsageException($"--reference-method {text}: {Short(e.Message)}");
+                }
+            };
+        }
+
+        ForecasterOptions fixedMethod = MethodSpec.Parse(trimmed);
+        return _ => fixedMethod;
+    }
+
     public int SeasonOf(ParseResult parse)
     {
         int season = parse.GetValue(Season);
@@ -175,21 +231,36 @@ internal sealed class CommonOptions
 
     public static DriftRuleOptions RuleOf(string text)
     {
-        string[] parts = text.Split(':', 2, StringSplitOptions.TrimEntries);
+        string ruleText = text;
+        WatchedModel watches = WatchedModel.Published;
+        int at = text.IndexOf('@', StringComparison.Ordinal);
+        if (at >= 0)
+        {
+            ruleText = text[..at];
+            watches = text[(at + 1)..].Trim().ToLowerInvariant() switch
+            {
+                "reference" => WatchedModel.Reference,
+                "published" => WatchedModel.Published,
+                _ => throw new UsageException($"--rule {text}: after '@' give reference or published (whose errors the rule watches)."),
+            };
+        }
+
+        string[] parts = ruleText.Split(':', 2, StringSplitOptions.TrimEntries);
         if (parts.Length != 2 || !double.TryParse(parts[1], NumberStyles.Float, CultureInfo.InvariantCulture, out double level))
         {
-            throw new UsageException($"--rule {text}: use cusum:h, trigg:limit or signal:limit.");
+            throw new UsageException($"--rule {text}: use cusum:h, trigg:limit or signal:limit, optionally followed by @reference.");
         }
 
         try
         {
-            return parts[0].ToLowerInvariant() switch
+            DriftRuleOptions rule = parts[0].ToLowerInvariant() switch
             {
                 "cusum" => new CusumRuleOptions(decisionInterval: level),
                 "trigg" => new TriggSignalRuleOptions(limit: level),
                 "signal" => new TrackingSignalRuleOptions(limit: level),
                 _ => throw new UsageException($"--rule {text}: '{parts[0]}' is not a rule; use cusum, trigg or signal."),
             };
+            return watches == WatchedModel.Published ? rule : rule with { Watches = watches };
         }
         catch (ArgumentException e)
         {

@@ -16,7 +16,7 @@ internal static class ReplayCommand
         var alertsOut = new Option<string>("--alerts-out") { Description = "Where to write the alert transitions CSV.", DefaultValueFactory = _ => "alerts.csv" };
         var command = new Command("replay", "Replay observations through the streaming engine; write forecasts and alert transitions to CSV and print a summary per series.");
         common.AddInputOptions(command);
-        foreach (Option option in new Option[] { common.Lateness, common.Method, common.Config, common.Rules, common.Season, common.Horizon, forecastsOut, alertsOut })
+        foreach (Option option in new Option[] { common.Lateness, common.Method, common.Config, common.Rules, common.ReferenceMethod, common.Season, common.Horizon, forecastsOut, alertsOut })
         {
             command.Options.Add(option);
         }
@@ -57,8 +57,10 @@ internal static class ReplayCommand
         IReadOnlyDictionary<string, ForecasterOptions> tuned = config is null
             ? new Dictionary<string, ForecasterOptions>(StringComparer.Ordinal)
             : MethodConfigFile.Load(config);
+        DriftRuleOptions[] rules = common.RulesOf(parse);
         return new ReplaySettings(
-            common.Calendar(parse), common.LatenessOf(parse), common.MethodOf(parse), tuned, common.RulesOf(parse), common.SeasonOf(parse), common.HorizonOf(parse));
+            common.Calendar(parse), common.LatenessOf(parse), common.MethodOf(parse), tuned, rules, common.SeasonOf(parse), common.HorizonOf(parse),
+            common.ReferenceOf(parse, rules));
     }
 
     private static void WriteForecasts(string path, List<ForecastUpdate<string>> forecasts)
@@ -75,12 +77,13 @@ internal static class ReplayCommand
 
     private static void WriteAlerts(string path, List<DriftAlert<string>> alerts)
     {
-        string[] header = ["key", "period_start", "rule", "transition", "episode", "direction", "severity", "signal", "level", "reason"];
+        string[] header = ["key", "period_start", "rule", "transition", "episode", "direction", "severity", "signal", "level", "reason", "watched"];
         Output.WriteCsv(path, header, alerts.OrderBy(a => a.Key, StringComparer.Ordinal).ThenBy(a => a.Period), a =>
         [
             a.Key, a.PeriodStart.ToString("O", CultureInfo.InvariantCulture), a.RuleName, a.Transition.Kind.ToString(),
             a.Transition.EpisodeId.ToString(CultureInfo.InvariantCulture), a.Transition.Direction.ToString(), a.Transition.Severity.ToString(),
             Output.R(a.Transition.Signal), Output.R(a.Transition.Level), a.Transition.Reason.ToString(),
+            a.Watched == WatchedModel.Reference ? "reference" : "published",
         ]);
     }
 

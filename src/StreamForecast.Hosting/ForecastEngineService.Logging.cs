@@ -40,14 +40,14 @@ internal sealed partial class ForecastEngineService<TKey>
     [LoggerMessage(EventId = 9, Level = LogLevel.Warning, Message = "The host's shutdown timeout passed before the forecast engine drained ({QueueDepth} items still queued); they are lost unless replayed from the last checkpoint's position.")]
     private static partial void LogDrainTimedOut(ILogger logger, long queueDepth);
 
-    [LoggerMessage(EventId = 10, Level = LogLevel.Warning, Message = "Drift alert raised on {SeriesKey}: {RuleName} episode {EpisodeId}, {Direction}, signal {Signal:0.###} reached {Level:0.###} (period starting {PeriodStart:o}).")]
-    private static partial void LogAlertRaised(ILogger logger, string seriesKey, string ruleName, long episodeId, DriftDirection direction, double signal, double level, DateTimeOffset periodStart);
+    [LoggerMessage(EventId = 10, Level = LogLevel.Warning, Message = "Drift alert raised on {SeriesKey}: {RuleName} on the {WatchedModel} model's errors, episode {EpisodeId}, {Direction}, signal {Signal:0.###} reached {Level:0.###} (period starting {PeriodStart:o}).")]
+    private static partial void LogAlertRaised(ILogger logger, string seriesKey, string ruleName, WatchedModel watchedModel, long episodeId, DriftDirection direction, double signal, double level, DateTimeOffset periodStart);
 
-    [LoggerMessage(EventId = 11, Level = LogLevel.Error, Message = "Drift alert escalated to critical on {SeriesKey}: {RuleName} episode {EpisodeId}, {Direction}, signal {Signal:0.###} reached {Level:0.###} (period starting {PeriodStart:o}).")]
-    private static partial void LogAlertEscalated(ILogger logger, string seriesKey, string ruleName, long episodeId, DriftDirection direction, double signal, double level, DateTimeOffset periodStart);
+    [LoggerMessage(EventId = 11, Level = LogLevel.Error, Message = "Drift alert escalated to critical on {SeriesKey}: {RuleName} on the {WatchedModel} model's errors, episode {EpisodeId}, {Direction}, signal {Signal:0.###} reached {Level:0.###} (period starting {PeriodStart:o}).")]
+    private static partial void LogAlertEscalated(ILogger logger, string seriesKey, string ruleName, WatchedModel watchedModel, long episodeId, DriftDirection direction, double signal, double level, DateTimeOffset periodStart);
 
-    [LoggerMessage(EventId = 12, Level = LogLevel.Information, Message = "Drift alert cleared on {SeriesKey}: {RuleName} episode {EpisodeId} ({Reason}, period starting {PeriodStart:o}).")]
-    private static partial void LogAlertCleared(ILogger logger, string seriesKey, string ruleName, long episodeId, DriftCloseReason reason, DateTimeOffset periodStart);
+    [LoggerMessage(EventId = 12, Level = LogLevel.Information, Message = "Drift alert cleared on {SeriesKey}: {RuleName} on the {WatchedModel} model's errors, episode {EpisodeId} ({Reason}, period starting {PeriodStart:o}).")]
+    private static partial void LogAlertCleared(ILogger logger, string seriesKey, string ruleName, WatchedModel watchedModel, long episodeId, DriftCloseReason reason, DateTimeOffset periodStart);
 
     [LoggerMessage(EventId = 13, Level = LogLevel.Warning, Message = "Series fault ({Kind}) on {SeriesKey}, period {Period}: {FaultMessage}")]
     private static partial void LogFault(ILogger logger, SeriesFaultKind kind, string seriesKey, long period, string faultMessage);
@@ -102,13 +102,13 @@ internal sealed partial class ForecastEngineService<TKey>
             switch (t.Kind)
             {
                 case DriftTransitionKind.Raised:
-                    LogAlertRaised(log, key, value.RuleName, t.EpisodeId, t.Direction, t.Signal, t.Level, value.PeriodStart);
+                    LogAlertRaised(log, key, value.RuleName, t.Watched, t.EpisodeId, t.Direction, t.Signal, t.Level, value.PeriodStart);
                     break;
                 case DriftTransitionKind.Escalated:
-                    LogAlertEscalated(log, key, value.RuleName, t.EpisodeId, t.Direction, t.Signal, t.Level, value.PeriodStart);
+                    LogAlertEscalated(log, key, value.RuleName, t.Watched, t.EpisodeId, t.Direction, t.Signal, t.Level, value.PeriodStart);
                     break;
                 case DriftTransitionKind.Cleared:
-                    LogAlertCleared(log, key, value.RuleName, t.EpisodeId, t.Reason, value.PeriodStart);
+                    LogAlertCleared(log, key, value.RuleName, t.Watched, t.EpisodeId, t.Reason, value.PeriodStart);
                     break;
                 default:
                     break;

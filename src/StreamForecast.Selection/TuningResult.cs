@@ -58,7 +58,7 @@ public sealed class TuningResult
         return new SeriesOptions(Method, calendar, tracking: Options.Tracking, horizon: Options.Horizon);
     }
 
-    /// <summary>A copy of <paramref name="template"/> with the chosen method in place of its own; every other setting is kept.</summary>
+    /// <summary>A copy of <paramref name="template"/> with the chosen method in place of its own; every other setting (the reference method included) is kept.</summary>
     /// <param name="template">The series options to start from.</param>
     /// <returns>The series options.</returns>
     /// <exception cref="ArgumentNullException"><paramref name="template"/> is null.</exception>
@@ -76,6 +76,7 @@ public sealed class TuningResult
             template.IntervalMultiplier,
             template.IdleTimeout,
             template.DuplicateWindow,
-            template.MaxCatchUpPeriods);
+            template.MaxCatchUpPeriods,
+            template.ReferenceMethod);
     }
 }

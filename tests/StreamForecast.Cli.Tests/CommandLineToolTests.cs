@@ -67,6 +67,34 @@ public sealed class CommandLineToolTests : IDisposable
     }
 
     [Fact]
+    public void Replay_RuleOnReferenceModel_AlertsNameTheWatchedModel()
+    {
+        _tool.Write("sales.csv", ToolRunner.SalesCsv());
+
+        ToolResult result = _tool.Run(Args("replay", "sales.csv", "--method", "ses:0.8", "--reference-method", "slower", "--rule", "cusum:5@reference", "cusum:5", "--zone", "Europe/Dublin"));
+
+        Assert.True(result.ExitCode == 0, result.ToString());
+        string[] lines = [.. File.ReadLines(_tool.PathOf("alerts.csv"))];
+        Assert.EndsWith(",reason,watched", lines[0], StringComparison.Ordinal);
+        Assert.Contains(lines, a => a.StartsWith("east/bun,", StringComparison.Ordinal) && a.Contains(",Raised,", StringComparison.Ordinal) && a.EndsWith(",reference", StringComparison.Ordinal));
+        Assert.All(lines.Skip(1), a => Assert.True(a.EndsWith(",reference", StringComparison.Ordinal) || a.EndsWith(",published", StringComparison.Ordinal), a));
+    }
+
+    [Fact]
+    public void Replay_RuleOnReferenceWithoutReferenceMethod_IsAUsageError()
+    {
+        _tool.Write("sales.csv", ToolRunner.SalesCsv(days: 20));
+
+        ToolResult result = _tool.Run(Args("replay", "sales.csv", "--rule", "cusum:5@reference"));
+
+        Assert.True(result.ExitCode == 1, result.ToString());
+        Assert.Contains("--reference-method", result.Error, StringComparison.Ordinal);
+        ToolRunner.AssertNoStackTrace(result);
+        Assert.Equal(1, _tool.Run(Args("replay", "sales.csv", "--rule", "cusum:5@nobody")).ExitCode);
+        Assert.Equal(1, _tool.Run(Args("replay", "sales.csv", "--reference-method", "slower:2")).ExitCode);
+    }
+
+    [Fact]
     public void Replay_DemandShift_RaisesAlertForShiftedSeriesOnly()
     {
         _tool.Write("sales.csv", ToolRunner.SalesCsv());

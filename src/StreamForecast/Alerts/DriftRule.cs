@@ -349,7 +349,7 @@ public abstract partial class DriftRule : IExportableState
     private double OwnEvidence() => _direction > 0 ? _lastUnder : _lastOver;
 
     private DriftTransition Make(DriftTransitionKind kind, double signal, double level, DriftCloseReason reason) =>
-        new(kind, _settings.Kind, _episodeSequence, ToDirection(_direction), _severity, signal, level, _periods, reason);
+        new(kind, _settings.Kind, _episodeSequence, ToDirection(_direction), _severity, signal, level, _periods, reason) { Watched = _settings.Watches };
 
     private void CloseEpisode()
     {

@@ -112,6 +112,30 @@ public abstract record DriftRuleOptions
     /// </summary>
     public double RaiseLevel { get; }
 
+    /// <summary>
+    /// Whose errors the rule reads in a series (<see cref="WatchedModel.Published"/> by default: the published model's,
+    /// as before reference models existed). <see cref="WatchedModel.Reference"/> needs a series with a
+    /// <see cref="Streaming.SeriesOptions.ReferenceMethod"/>; <see cref="Streaming.SeriesOptions"/> refuses it otherwise.
+    /// Set it with a <c>with</c> expression: <c>new TrackingSignalRuleOptions(4) with { Watches = WatchedModel.Reference }</c>.
+    /// A standalone <see cref="DriftRule"/> reads whatever input it is given and only stamps this value on its transitions.
+    /// </summary>
+    /// <exception cref="ArgumentOutOfRangeException">The value is not a defined <see cref="WatchedModel"/>.</exception>
+    public WatchedModel Watches
+    {
+        get => _watches;
+        init
+        {
+            if (value is not (WatchedModel.Published or WatchedModel.Reference))
+            {
+                ThrowHelper.ThrowOutOfRange(nameof(Watches), value, "the watched model must be Published or Reference");
+            }
+
+            _watches = value;
+        }
+    }
+
+    private readonly WatchedModel _watches;
+
     /// <summary>The level at or below which an open episode's evidence counts towards clearing; 0 ≤ clear &lt; raise.</summary>
     public double ClearLevel { get; }
 
@@ -157,7 +181,7 @@ public abstract record DriftRuleOptions
     /// <summary>
     /// The same rule with a new raise level, the clear and escalation levels scaled with it (escalation kept at or above
     /// the new raise level and within <see cref="MaxRaiseLevel"/>); every other setting unchanged. Used to calibrate a
-    /// rule's limit without knowing its kind.
+    /// rule's limit without knowing its kind. <see cref="Watches"/> is kept.
     /// </summary>
     /// <param name="raiseLevel">The new raise level, above 0 and at most <see cref="MaxRaiseLevel"/>.</param>
     /// <returns>The rebuilt options.</returns>
@@ -174,7 +198,7 @@ public abstract record DriftRuleOptions
         double escalation = double.IsPositiveInfinity(escalationRatio)
             ? double.PositiveInfinity
             : Math.Min(Math.Max(raiseLevel, escalationRatio * raiseLevel), Math.Max(raiseLevel, EscalationCeiling));
-        return WithLevels(raiseLevel, clear, escalation);
+        return WithLevels(raiseLevel, clear, escalation) with { Watches = Watches };
     }
 
     /// <summary>The largest finite escalation level this kind of rule takes (+∞ when unbounded).</summary>

@@ -43,6 +43,12 @@ public readonly record struct DriftTransition(
     long PeriodsObserved,
     DriftCloseReason Reason)
 {
+    /// <summary>
+    /// Whose errors the rule watched (its <see cref="DriftRuleOptions.Watches"/>): the published model's, or the series'
+    /// reference model's. <see cref="WatchedModel.Published"/> for the default value.
+    /// </summary>
+    public WatchedModel Watched { get; init; }
+
     /// <summary>Whether nothing happened (<see cref="Kind"/> is <see cref="DriftTransitionKind.None"/>), so there is nothing to publish.</summary>
     public bool IsNone => Kind == DriftTransitionKind.None;
 }

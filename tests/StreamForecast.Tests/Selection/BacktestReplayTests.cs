@@ -23,6 +23,16 @@ public sealed class BacktestReplayTests
         new(new HoltOptions(0.4, 0.2), s_days, gaps: GapPolicy.CarryForward, rules: [new TrackingSignalRuleOptions(limit: 2.5)], horizon: 7),
         new(new CrostonOptions(), s_days, gaps: GapPolicy.Zero, rules: [new CusumRuleOptions(decisionInterval: 2.5)]),
         new(new HoltWintersOptions(7, Seasonality.Multiplicative, 0.3, 0.05, 0.2), s_days, gaps: GapPolicy.Missing, horizon: 2),
+
+        // With a reference model: rules on either model's errors, a reference that refuses what the method takes, gap policies.
+        new(new ExponentialSmoothingOptions(0.8), s_days, gaps: GapPolicy.CarryForward,
+            rules: [new CusumRuleOptions(decisionInterval: 3) with { Watches = WatchedModel.Reference }, new TrackingSignalRuleOptions(limit: 3, warmUpPeriods: 2)],
+            referenceMethod: new MovingAverageOptions(10)),
+        new(new HoltOptions(0.7, 0.2), s_days, gaps: GapPolicy.Zero,
+            rules: [new TriggSignalRuleOptions(limit: 0.4, warmUpPeriods: 2) with { Watches = WatchedModel.Reference }], referenceMethod: new CrostonOptions(0.05)),
+        new(new NaiveOptions(), s_days, gaps: GapPolicy.Missing,
+            rules: [new TrackingSignalRuleOptions(limit: 2.5) with { Watches = WatchedModel.Reference }, new CusumRuleOptions(decisionInterval: 2.5)],
+            referenceMethod: ReferenceMethods.Slower(new HoltOptions(0.9, 0.3)), horizon: 3),
     ];
 
     private sealed class ListSink : ISeriesSink<string>
@@ -59,7 +69,16 @@ public sealed class BacktestReplayTests
     [Fact]
     public void Replay_RandomHistoriesWithGaps_PublishesExactlyWhatTheEngineDoes() =>
         PropertyCases.Check(
-            Prop.ForAll(Gen.Choose(0, s_options.Length - 1).ToArbitrary(), History.ToArbitrary(), (which, history) => Same(s_options[which], history)),
+            Prop.ForAll(Gen.Choose(0, FirstWithReference - 1).ToArbitrary(), History.ToArbitrary(), (which, history) => Same(s_options[which], history)),
+            Math.Max(200, PropertyCases.PerFamily / 20));
+
+    /// <summary>Series options from this index on run a reference model.</summary>
+    private const int FirstWithReference = 5;
+
+    [Fact]
+    public void Replay_WithReferenceModel_PublishesExactlyWhatTheEngineDoes() =>
+        PropertyCases.Check(
+            Prop.ForAll(Gen.Choose(FirstWithReference, s_options.Length - 1).ToArbitrary(), History.ToArbitrary(), (which, history) => Same(s_options[which], history)),
             Math.Max(200, PropertyCases.PerFamily / 20));
 
     private static bool Same(SeriesOptions series, double[] history)

@@ -27,6 +27,16 @@ public sealed class SeriesStateRoundTripTests
         Series(new ExponentialSmoothingOptions(0.2), new LatenessPolicy(TimeSpan.FromMinutes(3), restatementPeriods: 3), GapPolicy.CarryForward),
     ];
 
+    // The same hostile streams with a reference model beside the method (restatement on and off, a reference that refuses
+    // what the method takes, rules on either model's errors).
+    private static readonly SeriesOptions[] s_withReference =
+    [
+        WithReference(new ExponentialSmoothingOptions(0.7), new MovingAverageOptions(6), new LatenessPolicy(TimeSpan.FromMinutes(2), restatementPeriods: 2)),
+        WithReference(new NaiveOptions(), new HoltWintersOptions(4, Seasonality.Multiplicative, 0.1, 0.02, 0.05), gaps: GapPolicy.Zero),
+        WithReference(new HoltOptions(0.8, 0.2), ReferenceMethods.Slower(new HoltOptions(0.8, 0.2)), new LatenessPolicy(TimeSpan.FromMinutes(1), restatementPeriods: 3), GapPolicy.CarryForward),
+        WithReference(new MovingAverageOptions(2), new CrostonOptions(0.05)),
+    ];
+
     private sealed class Output : ISeriesOutput<string>
     {
         public SeriesCounters Counters { get; } = new();
@@ -44,6 +54,11 @@ public sealed class SeriesStateRoundTripTests
 
     private static SeriesOptions Series(ForecasterOptions method, LatenessPolicy lateness = default, GapPolicy gaps = GapPolicy.Missing) =>
         new(method, s_minutes, lateness, gaps, rules: [new TrackingSignalRuleOptions(warmUpPeriods: 2), new CusumRuleOptions()], maxCatchUpPeriods: 50);
+
+    private static SeriesOptions WithReference(ForecasterOptions method, ForecasterOptions reference, LatenessPolicy lateness = default, GapPolicy gaps = GapPolicy.Missing) =>
+        new(method, s_minutes, lateness, gaps,
+            rules: [new TrackingSignalRuleOptions(warmUpPeriods: 2) with { Watches = WatchedModel.Reference }, new CusumRuleOptions(), new CusumRuleOptions() with { Watches = WatchedModel.Reference }],
+            maxCatchUpPeriods: 50, referenceMethod: reference);
 
     private static Gen<Event> EventGen { get; } =
         from step in Gen.Frequency((8, Gen.Choose(0, 2)), (1, Gen.Choose(-20, 0)), (1, Gen.Elements(-100_000, 400, 5_000, 2_000_000)))
@@ -77,6 +92,14 @@ public sealed class SeriesStateRoundTripTests
             EventGen.ArrayOf().ToArbitrary(),
             Gen.Choose(0, 1000).ToArbitrary(),
             (which, events, cut) => Run(s_options[which], events, cut)));
+
+    [Fact]
+    public void Write_HostileEventStreamsWithReferenceModel_ReadsBackIdenticallyAndContinuesIdentically() =>
+        PropertyCases.Check(Prop.ForAll(
+            Gen.Choose(0, s_withReference.Length - 1).ToArbitrary(),
+            EventGen.ArrayOf().ToArbitrary(),
+            Gen.Choose(0, 1000).ToArbitrary(),
+            (which, events, cut) => Run(s_withReference[which], events, cut)));
 
     private static Property Run(SeriesOptions options, Event[] events, int cut)
     {

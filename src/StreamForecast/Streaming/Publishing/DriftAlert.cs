@@ -13,7 +13,10 @@ namespace StreamForecast.Streaming;
 /// <param name="RuleIndex">The rule's position in <see cref="SeriesOptions.Rules"/>.</param>
 /// <param name="RuleName">The rule's short label.</param>
 /// <param name="Transition">What changed, the episode id, direction, severity and the values that explain it.</param>
-/// <param name="Errors">The series' error statistics at that moment (MAD, tracking signal, periods observed...).</param>
+/// <param name="Errors">
+/// The error statistics the rule watched at that moment (MAD, tracking signal, periods observed...): the published
+/// model's, or the reference model's when <see cref="Watched"/> is <see cref="WatchedModel.Reference"/>.
+/// </param>
 /// <remarks>An immutable value. Alerts are advisory: they need a person's judgement before anything is changed.</remarks>
 public readonly record struct DriftAlert<TKey>(
     TKey Key,
@@ -22,4 +25,8 @@ public readonly record struct DriftAlert<TKey>(
     int RuleIndex,
     string RuleName,
     DriftTransition Transition,
-    ErrorSummary Errors);
+    ErrorSummary Errors)
+{
+    /// <summary>Whose errors the rule watched: the published model's or the series' reference model's (from <see cref="Transition"/>).</summary>
+    public WatchedModel Watched => Transition.Watched;
+}

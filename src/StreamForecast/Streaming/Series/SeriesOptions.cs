@@ -49,8 +49,19 @@ public sealed record SeriesOptions
     /// and reported as a <see cref="SeriesFaultKind.PeriodsSkipped"/> fault, and periods before them can no longer be
     /// restated. This bounds the work of one event (a stray time stamp years ahead cannot close millions of periods).
     /// </param>
+    /// <param name="referenceMethod">
+    /// A second, slower method run beside <paramref name="method"/> on the same actuals, whose forecasts are never
+    /// published: its one-step errors feed the drift rules that watch it (<see cref="DriftRuleOptions.Watches"/> =
+    /// <see cref="WatchedModel.Reference"/>), so a lasting shift that a fast-adapting method follows is still reported.
+    /// Default: none (nothing changes, outputs and snapshots are as without it).
+    /// <see cref="Forecasting.ReferenceMethods.Slower"/> derives one from common methods. Costs one more forecaster and
+    /// error tracker per series, in memory and per period.
+    /// </param>
     /// <exception cref="ArgumentNullException"><paramref name="method"/> or <paramref name="calendar"/> is null.</exception>
     /// <exception cref="ArgumentOutOfRangeException">A number is out of its stated range.</exception>
+    /// <exception cref="ArgumentException">
+    /// A rule is null, or a rule watches the reference model while <paramref name="referenceMethod"/> is null.
+    /// </exception>
     public SeriesOptions(
         ForecasterOptions method,
         PeriodCalendar calendar,
@@ -62,7 +73,8 @@ public sealed record SeriesOptions
         double intervalMultiplier = NormalMultiplier.Coverage80,
         TimeSpan? idleTimeout = null,
         int duplicateWindow = DefaultDuplicateWindow,
-        int maxCatchUpPeriods = DefaultMaxCatchUpPeriods)
+        int maxCatchUpPeriods = DefaultMaxCatchUpPeriods,
+        ForecasterOptions? referenceMethod = null)
     {
         ArgumentNullException.ThrowIfNull(method);
         ArgumentNullException.ThrowIfNull(calendar);
@@ -103,6 +115,11 @@ public sealed record SeriesOptions
             {
                 ThrowHelper.ThrowArgument(nameof(rules), "The drift rules must not contain null.");
             }
+
+            if (rule.Watches == WatchedModel.Reference && referenceMethod is null)
+            {
+                ThrowHelper.ThrowArgument(nameof(rules), $"The drift rule {rule.RuleName} watches the reference model, but no reference method is set; give one (referenceMethod) or let the rule watch the published model.");
+            }
         }
 
         Method = method;
@@ -118,6 +135,16 @@ public sealed record SeriesOptions
         IdleTimeout = idleTimeout;
         DuplicateWindow = duplicateWindow;
         MaxCatchUpPeriods = maxCatchUpPeriods;
+        ReferenceMethod = referenceMethod;
+        if (referenceMethod is not null)
+        {
+            ReferenceLabel = referenceMethod.MethodName;
+            StateLabel = MethodLabel + " with reference " + ReferenceLabel;
+        }
+        else
+        {
+            StateLabel = MethodLabel;
+        }
     }
 
     /// <summary>The forecasting method.</summary>
@@ -125,6 +152,18 @@ public sealed record SeriesOptions
 
     /// <summary>The method's label, formatted once (it goes into every forecast update).</summary>
     internal string MethodLabel { get; }
+
+    /// <summary>
+    /// The slower method run beside <see cref="Method"/> whose errors feed the rules that watch it; null (the default)
+    /// for none. Its forecasts are never published.
+    /// </summary>
+    public ForecasterOptions? ReferenceMethod { get; }
+
+    /// <summary>The reference method's label, formatted once; null without one.</summary>
+    internal string? ReferenceLabel { get; }
+
+    /// <summary>The label a snapshot carries for the series' models: the method's, plus the reference method's when set.</summary>
+    internal string StateLabel { get; }
 
     /// <summary>The rules' labels, formatted once.</summary>
     internal ImmutableArray<string> RuleLabels { get; }
@@ -174,7 +213,8 @@ public sealed record SeriesOptions
         && IntervalMultiplier.Equals(other.IntervalMultiplier)
         && IdleTimeout == other.IdleTimeout
         && DuplicateWindow == other.DuplicateWindow
-        && MaxCatchUpPeriods == other.MaxCatchUpPeriods;
+        && MaxCatchUpPeriods == other.MaxCatchUpPeriods
+        && Equals(ReferenceMethod, other.ReferenceMethod);
 
     /// <inheritdoc/>
     public override int GetHashCode() => HashCode.Combine(Method, Calendar, Lateness, Gaps, Tracking, Rules.Length, Horizon, IdleTimeout);

@@ -6,7 +6,7 @@ using StreamForecast.Tracking;
 namespace StreamForecast.Streaming;
 
 // The restore checks of a series that tie several fields together (positions and the latest event, the last actual and
-// the models, the rules and the tracker, the gap policy and the quiet count). Each holds for every state the period rules
+// the models, the reference model and the model beside it, the rules and the tracker, the gap policy and the quiet count). Each holds for every state the period rules
 // reach, and says why. Called while reading a series (SeriesState.Snapshot.cs).
 internal sealed partial class SeriesState<TKey>
 {
@@ -59,9 +59,9 @@ internal sealed partial class SeriesState<TKey>
     /// </summary>
     private void CheckRulesAgainstTracker()
     {
-        ErrorTracker tracker = _step.Model.Tracker;
         for (int i = 0; i < RuleCount; i++)
         {
+            ErrorTracker tracker = _step.WatchedTracker(i); // the published model's, or the reference model's
             DriftRule rule = _step.RuleAt(i);
             long periods = rule.PeriodsObserved;
             if (periods > tracker.Count)
@@ -87,6 +87,34 @@ internal sealed partial class SeriesState<TKey>
                 throw Invalid(Invariant($"its drift rule {i + 1} ({_options.RuleLabels[i]}) last saw a signal of {rule.LastUnderEvidence:R}, but the error tracker's signal after that period is {signal:R}"));
             }
         }
+    }
+
+    /// <summary>
+    /// Reads the reference model of <paramref name="step"/> when the options set one (null otherwise) and checks it against
+    /// the step's model, which must already be read: both take every actual in the same step, all or nothing
+    /// (SeriesStep.Apply), so they have taken the same number of actuals. (The caller checks the reference tracker's
+    /// newest actual against the last actual once that is read.)
+    /// </summary>
+    private double[]? ReadReference(SnapshotPayloadReader reader, SeriesStep<TKey> step, string what)
+    {
+        if (step.Reference is not { } model)
+        {
+            return null;
+        }
+
+        double[] fresh = model.ExportState();
+        double[] state = ImportInto(reader, model.ImportState, what);
+        if (!_started && !Bits.Same(state, fresh))
+        {
+            throw Invalid($"it has seen no event, yet {what} is not that of a new series");
+        }
+
+        if (model.Count != step.Model.Count)
+        {
+            throw Invalid(Invariant($"{what} has taken {model.Count} actuals but the model beside it {step.Model.Count}; both take every actual"));
+        }
+
+        return state;
     }
 
     /// <summary>
@@ -118,6 +146,13 @@ internal sealed partial class SeriesState<TKey>
         try
         {
             trial.Update(0);
+            if (_step.Reference is { } reference)
+            {
+                // Both models take an actual or neither does: a refusal by the reference also leaves the last actual as it is.
+                var referenceTrial = new TrackedForecaster(reference.Forecaster.Options, _options.Tracking);
+                referenceTrial.ImportState(reference.ExportState());
+                referenceTrial.Update(0);
+            }
         }
         catch (ArgumentOutOfRangeException)
         {

@@ -7,18 +7,19 @@ namespace StreamForecast.Streaming;
 
 // The state codec of a series: what a snapshot holds, and the check that a restored series is one the period rules can
 // reach. The layout (all through SnapshotPayloadWriter):
-//   method label; started; first open period; latest event time (UTC ticks); last actual; last actual flag; quiet periods;
+//   method label (with " with reference <label>" appended when the options set a reference method); started; first open period; latest event time (UTC ticks); last actual; last actual flag; quiet periods;
 //   open period count, then (period, sum) for each open period with data, in increasing period order;
-//   model state (forecaster then error tracker); rule count, then each rule's state;
+//   model state (forecaster then error tracker); with a reference method, the reference model's state (the same shape);
+//   rule count, then each rule's state;
 //   retained closed period count, then (sum, data flag 0/1) for each, oldest first; when restatement is on, the lagged
-//   model state, its last actual and last actual flag;
+//   model state, with a reference method the lagged reference model's state, then its last actual and last actual flag;
 //   event id count, then (id, period) for each, oldest arrival first.
 internal sealed partial class SeriesState<TKey>
 {
     /// <summary>Writes the complete state (everything but the key and options, which the caller writes or re-resolves).</summary>
     public void Write(SnapshotPayloadWriter writer)
     {
-        writer.WriteString(_options.MethodLabel);
+        writer.WriteString(_options.StateLabel);
         writer.WriteBoolean(_started);
         writer.WriteInt64(_nextToClose);
         writer.WriteInt64(_maxEventTicks);
@@ -45,6 +46,11 @@ internal sealed partial class SeriesState<TKey>
         }
 
         writer.WriteDoubles(_step.Model.ExportState());
+        if (_step.Reference is { } reference)
+        {
+            writer.WriteDoubles(reference.ExportState());
+        }
+
         writer.WriteInt32(RuleCount);
         for (int i = 0; i < RuleCount; i++)
         {
@@ -61,6 +67,11 @@ internal sealed partial class SeriesState<TKey>
             }
 
             writer.WriteDoubles(r.Lag.Model.ExportState());
+            if (r.Lag.Reference is { } lagReference)
+            {
+                writer.WriteDoubles(lagReference.ExportState());
+            }
+
             writer.WriteDouble(r.Lag.LastActual);
             writer.WriteBoolean(r.Lag.HasLastActual);
         }
@@ -108,9 +119,9 @@ internal sealed partial class SeriesState<TKey>
     private void ReadChecked(SnapshotPayloadReader reader)
     {
         string method = reader.ReadString();
-        if (method != _options.MethodLabel)
+        if (method != _options.StateLabel)
         {
-            throw Invalid($"it holds a {method} series but the options for this key say {_options.MethodLabel}");
+            throw Invalid($"it holds a {method} series but the options for this key say {_options.StateLabel}");
         }
 
         PeriodCalendar calendar = _options.Calendar;
@@ -159,6 +170,11 @@ internal sealed partial class SeriesState<TKey>
         }
 
         CheckLastActual(_step.Model, _step.LastActual, "the last actual", "its model");
+        double[]? reference = ReadReference(reader, _step, "its reference model");
+        if (_step.Reference is { } referenceModel)
+        {
+            CheckLastActual(referenceModel, _step.LastActual, "the last actual", "its reference model");
+        }
 
         int rules = reader.ReadInt32();
         if (rules != RuleCount)
@@ -176,7 +192,7 @@ internal sealed partial class SeriesState<TKey>
             }
         }
 
-        ReadRestatement(reader, latest, model);
+        ReadRestatement(reader, latest, model, reference);
         ReadEventIds(reader, latest);
         if (_restatement is null)
         {
@@ -228,7 +244,7 @@ internal sealed partial class SeriesState<TKey>
         }
     }
 
-    private void ReadRestatement(SnapshotPayloadReader reader, long latest, double[] model)
+    private void ReadRestatement(SnapshotPayloadReader reader, long latest, double[] model, double[]? reference)
     {
         int capacity = _restatement?.ClosedSums.Length ?? 0;
         int closed = reader.ReadInt32();
@@ -281,6 +297,7 @@ internal sealed partial class SeriesState<TKey>
 
         double[] freshLag = r.Lag.Model.ExportState();
         double[] lag = ImportInto(reader, r.Lag.Model.ImportState, "its lagged model (the model before the restatement window)");
+        double[]? lagReference = ReadReference(reader, r.Lag, "its lagged reference model");
         r.Lag.LastActual = ReadInDomain(reader, "the lagged model's last actual");
         r.Lag.HasLastActual = reader.ReadBoolean();
         if (!_started && !Bits.Same(lag, freshLag))
@@ -294,6 +311,10 @@ internal sealed partial class SeriesState<TKey>
         }
 
         CheckLastActual(r.Lag.Model, r.Lag.LastActual, "the lagged model's last actual", "its lagged model");
+        if (r.Lag.Reference is { } lagReferenceModel)
+        {
+            CheckLastActual(lagReferenceModel, r.Lag.LastActual, "the lagged model's last actual", "its lagged reference model");
+        }
 
         // The model is the lagged model stepped through the retained periods: closing a period steps the live model and,
         // when the oldest retained period leaves the window, the lagged model through it; a restatement rolls the model
@@ -301,6 +322,10 @@ internal sealed partial class SeriesState<TKey>
         // model and its last actual bit for bit.
         var replay = new SeriesStep<TKey>(Key, _options, withRules: false);
         replay.Model.ImportState(lag);
+        if (lagReference is not null)
+        {
+            replay.Reference!.ImportState(lagReference);
+        }
         replay.LastActual = r.Lag.LastActual;
         replay.HasLastActual = r.Lag.HasLastActual;
         for (int i = 0; i < closed; i++)
@@ -309,6 +334,7 @@ internal sealed partial class SeriesState<TKey>
         }
 
         if (!Bits.Same(replay.Model.ExportState(), model)
+            || (reference is not null && !Bits.Same(replay.Reference!.ExportState(), reference))
             || BitConverter.DoubleToInt64Bits(replay.LastActual) != BitConverter.DoubleToInt64Bits(_step.LastActual)
             || replay.HasLastActual != _step.HasLastActual)
         {

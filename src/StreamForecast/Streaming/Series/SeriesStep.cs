@@ -31,8 +31,13 @@ internal enum StepMode
 /// allocation after creation when the sink allocates nothing.</para>
 /// <para><b>Warm-up.</b> Until the method is warm, periods are taken unscored and updates carry NaN forecasts; drift rules
 /// see only scored periods.</para>
+/// <para><b>Reference model.</b> With <see cref="SeriesOptions.ReferenceMethod"/> set, a second tracked forecaster takes
+/// the same actuals in the same step (scored when it is warm, unscored when the gap policy filled the actual in); its
+/// forecasts are never published, and its errors feed only the rules that watch it (<see cref="DriftRuleOptions.Watches"/>).
+/// It costs one more method update and an export of its state (a backup for the all-or-nothing rule below) per period.</para>
 /// <para><b>Bad input.</b> An actual the method refuses (outside its domain) is reported to the sink as a
-/// <see cref="SeriesFaultKind.ActualRejected"/> fault and the step is left exactly as it was.</para>
+/// <see cref="SeriesFaultKind.ActualRejected"/> fault and the step is left exactly as it was; with a reference model, an
+/// actual either model refuses is refused for both.</para>
 /// <para><b>Thread safety.</b> Not thread-safe: one owner closes the periods of a series, in order.</para>
 /// </remarks>
 public sealed class SeriesStep<TKey>
@@ -40,6 +45,10 @@ public sealed class SeriesStep<TKey>
     private readonly TKey _key;
     private readonly SeriesOptions _options;
     private readonly TrackedForecaster _model;
+
+    // The reference model (null without one) and the buffer its state is backed up to before each period.
+    private readonly TrackedForecaster? _reference;
+    private readonly double[]? _referenceBackup;
 
     // Drift rules: none (both null), one (held directly), or several (the array, in the options' order).
     private readonly DriftRule? _singleRule;
@@ -61,6 +70,11 @@ public sealed class SeriesStep<TKey>
         _key = key;
         _options = options;
         _model = new TrackedForecaster(options.Method, options.Tracking);
+        if (options.ReferenceMethod is { } referenceMethod)
+        {
+            _reference = new TrackedForecaster(referenceMethod, options.Tracking);
+            _referenceBackup = new double[_reference.StateLength];
+        }
         _ruleCount = withRules ? options.Rules.Length : 0;
         if (_ruleCount == 1)
         {
@@ -84,6 +98,12 @@ public sealed class SeriesStep<TKey>
 
     /// <summary>The method and its error statistics (read them freely; change them only through this step).</summary>
     public TrackedForecaster Model => _model;
+
+    /// <summary>
+    /// The reference model and its error statistics, or null without <see cref="SeriesOptions.ReferenceMethod"/> (read
+    /// them freely; change them only through this step). Its forecasts are never published.
+    /// </summary>
+    public TrackedForecaster? Reference => _reference;
 
     /// <summary>The number of drift rules (the options' rules, in order).</summary>
     public int RuleCount => _ruleCount;
@@ -139,17 +159,24 @@ public sealed class SeriesStep<TKey>
     internal void Acknowledge(long lastClosedPeriod, bool started, ISeriesSink<TKey> sink, SeriesCounters? counters)
     {
         _model.ResetErrors();
+        _reference?.ResetErrors();
         for (int i = 0; i < _ruleCount; i++)
         {
             Publish(i, RuleAt(i).Rebaseline(), lastClosedPeriod, sink, counters, null, started ? null : default(DateTimeOffset));
         }
     }
 
-    /// <summary>Makes this step's model and gap memory a copy of <paramref name="source"/>'s (rules untouched).</summary>
+    /// <summary>Makes this step's models and gap memory a copy of <paramref name="source"/>'s (rules untouched).</summary>
     internal void CopyModelFrom(SeriesStep<TKey> source, double[] scratch)
     {
         source._model.ExportState(scratch);
         _model.ImportState(scratch);
+        if (_reference is not null)
+        {
+            source._reference!.ExportState(_referenceBackup);
+            _reference.ImportState(_referenceBackup);
+        }
+
         LastActual = source.LastActual;
         HasLastActual = source.HasLastActual;
     }
@@ -176,9 +203,29 @@ public sealed class SeriesStep<TKey>
         }
 
         PeriodScore score;
+        var referenceScore = new PeriodScore(double.NaN, double.NaN, double.NaN);
         try
         {
-            score = scored ? _model.Update(actual) : _model.UpdateUnscored(actual);
+            if (_reference is not null)
+            {
+                // Both models take the actual or neither does: back the reference up, step it, and put it back if the
+                // published model then refuses the actual.
+                _reference.ExportState(_referenceBackup);
+                referenceScore = scored ? _reference.Update(actual) : _reference.UpdateUnscored(actual);
+                try
+                {
+                    score = scored ? _model.Update(actual) : _model.UpdateUnscored(actual);
+                }
+                catch (ArgumentOutOfRangeException)
+                {
+                    _reference.ImportState(_referenceBackup);
+                    throw;
+                }
+            }
+            else
+            {
+                score = scored ? _model.Update(actual) : _model.UpdateUnscored(actual);
+            }
         }
         catch (ArgumentOutOfRangeException ex)
         {
@@ -211,17 +258,38 @@ public sealed class SeriesStep<TKey>
             _key, period, start, actual, !has, score.Forecast, score.Error,
             next, atHorizon, errors, _model.Forecaster.ActiveMethodName ?? _options.MethodLabel, restated));
 
-        if (!restated && score.IsScored)
+        if (restated)
+        {
+            return;
+        }
+
+        if (score.IsScored)
         {
             // The summary already holds σ and both signals of the tracker's current state: the rules read those.
-            DriftInput input = errors.ToDriftInput(score.Error);
-            for (int i = 0; i < _ruleCount; i++)
+            EvaluateRules(WatchedModel.Published, errors, score.Error, period, sink, counters, start);
+        }
+
+        if (_reference is not null && referenceScore.IsScored)
+        {
+            EvaluateRules(WatchedModel.Reference, ErrorSummary.Of(_reference.Tracker), referenceScore.Error, period, sink, counters, start);
+        }
+    }
+
+    /// <summary>Shows one model's scored period to every rule that watches that model and can read the input.</summary>
+    private void EvaluateRules(WatchedModel watched, ErrorSummary errors, double error, long period, ISeriesSink<TKey> sink, SeriesCounters? counters, DateTimeOffset start)
+    {
+        DriftInput input = errors.ToDriftInput(error);
+        for (int i = 0; i < _ruleCount; i++)
+        {
+            if (_options.Rules[i].Watches != watched)
             {
-                DriftRule rule = RuleAt(i);
-                if (rule.CanRead(input))
-                {
-                    Publish(i, rule.Evaluate(input), period, sink, counters, errors, start);
-                }
+                continue;
+            }
+
+            DriftRule rule = RuleAt(i);
+            if (rule.CanRead(input))
+            {
+                Publish(i, rule.Evaluate(input), period, sink, counters, errors, start);
             }
         }
     }
@@ -276,8 +344,12 @@ public sealed class SeriesStep<TKey>
 
         sink.Alert(new DriftAlert<TKey>(
             _key, period, start ?? _options.Calendar.StartOf(period), ruleIndex, _options.RuleLabels[ruleIndex],
-            transition, errors ?? ErrorSummary.Of(_model.Tracker)));
+            transition, errors ?? ErrorSummary.Of(WatchedTracker(ruleIndex))));
     }
+
+    /// <summary>The error tracker the rule at <paramref name="ruleIndex"/> watches.</summary>
+    internal ErrorTracker WatchedTracker(int ruleIndex) =>
+        _options.Rules[ruleIndex].Watches == WatchedModel.Reference ? _reference!.Tracker : _model.Tracker;
 
     /// <summary>The forecast <paramref name="horizon"/> periods ahead with its interval; NaN fields while the method is cold.</summary>
     internal ForecastPoint Point(int horizon)
