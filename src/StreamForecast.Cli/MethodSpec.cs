@@ -13,7 +13,9 @@ namespace StreamForecast.Cli;
 /// <item><description><c>ma:n</c> (moving average of n periods); <c>wma:w1,w2,…</c> (weights, most recent period first)</description></item>
 /// <item><description><c>ses:alpha[,start]</c> with start <c>first</c> (default), <c>mean=k</c> or <c>level=x</c></description></item>
 /// <item><description><c>holt:level,trend[,damping][,start]</c> with start <c>first2</c> (default), <c>diffs=d</c>, <c>trend=t</c> or <c>given=l;t</c></description></item>
-/// <item><description><c>hw:m,add|mul,level,trend,seasonal[,damping[,startSeasons]]</c> (Holt-Winters)</description></item>
+/// <item><description><c>hw:m,add|mul,level,trend,seasonal[,damping[,startSeasons]][,start]</c> (Holt-Winters) with start
+/// <c>means</c> (default: season means of the first seasons), <c>decomposition</c> (classical decomposition of the first
+/// seasons) or <c>given=l;t;s1;…;sm</c> (level, trend and the m seasonal indices before the first actual)</description></item>
 /// <item><description><c>croston:size[,interval]</c>, <c>sba:size[,interval]</c>, <c>tsb:probability,size</c></description></item>
 /// <item><description><c>best:m1|m2|…[;weight=w,margin=x,switch=p,min=k]</c>: online selection among the candidate methods
 /// (each in one of the forms above), publishing the one with the lowest recent error (<see cref="MethodSelectorOptions"/>)</description></item>
@@ -22,7 +24,7 @@ namespace StreamForecast.Cli;
 /// </remarks>
 internal static class MethodSpec
 {
-    public const string Forms = "naive | seasonal-naive:m | ma:n | wma:w1,w2,... | ses:alpha | holt:level,trend[,damping] | hw:m,add|mul,level,trend,seasonal[,damping] | croston:size | sba:size | tsb:probability,size | best:m1|m2|...[;weight=w,margin=x,switch=p,min=k]";
+    public const string Forms = "naive | seasonal-naive:m | ma:n | wma:w1,w2,... | ses:alpha | holt:level,trend[,damping] | hw:m,add|mul,level,trend,seasonal[,damping[,startSeasons]][,means|decomposition|given=l;t;s1;...;sm] | croston:size | sba:size | tsb:probability,size | best:m1|m2|...[;weight=w,margin=x,switch=p,min=k]";
 
     public static ForecasterOptions Parse(string text)
     {
@@ -46,9 +48,7 @@ internal static class MethodSpec
                 "wma" when args.Length >= 1 => new WeightedMovingAverageOptions(args.Select(Num).ToArray()),
                 "ses" when args.Length is 1 or 2 => new ExponentialSmoothingOptions(Num(args[0]), args.Length == 2 ? LevelStartOf(args[1]) : default),
                 "holt" when args.Length is >= 2 and <= 4 => Holt(args),
-                "hw" when args.Length is >= 5 and <= 7 => new HoltWintersOptions(
-                    Int(args[0]), SeasonalityOf(args[1]), Num(args[2]), Num(args[3]), Num(args[4]),
-                    args.Length >= 6 ? Num(args[5]) : 1.0, args.Length == 7 ? Int(args[6]) : 2),
+                "hw" when args.Length is >= 5 and <= 8 => HoltWinters(text, args),
                 "croston" when args.Length is 1 or 2 => new CrostonOptions(Num(args[0]), args.Length == 2 ? Num(args[1]) : null),
                 "sba" when args.Length is 1 or 2 => new CrostonOptions(Num(args[0]), args.Length == 2 ? Num(args[1]) : null, CrostonVariant.SyntetosBoylan),
                 "tsb" when args.Length == 2 => new TsbOptions(Num(args[0]), Num(args[1])),
@@ -69,7 +69,8 @@ internal static class MethodSpec
         WeightedMovingAverageOptions w => "wma:" + string.Join(",", w.Weights.Select(D)),
         ExponentialSmoothingOptions s => $"ses:{D(s.Alpha)}" + LevelStartText(s.Start),
         HoltOptions h => $"holt:{D(h.LevelWeight)},{D(h.TrendWeight)},{D(h.Damping)}" + HoltStartText(h.Start),
-        HoltWintersOptions hw => $"hw:{I(hw.SeasonLength)},{(hw.Seasonality == Seasonality.Additive ? "add" : "mul")},{D(hw.LevelWeight)},{D(hw.TrendWeight)},{D(hw.SeasonalWeight)},{D(hw.Damping)},{I(hw.StartSeasons)}",
+        HoltWintersOptions hw => $"hw:{I(hw.SeasonLength)},{(hw.Seasonality == Seasonality.Additive ? "add" : "mul")},{D(hw.LevelWeight)},{D(hw.TrendWeight)},{D(hw.SeasonalWeight)},{D(hw.Damping)},{I(hw.StartSeasons)}"
+            + HoltWintersStartText(hw.Start),
         CrostonOptions c => $"{(c.Variant == CrostonVariant.SyntetosBoylan ? "sba" : "croston")}:{D(c.SizeWeight)},{D(c.IntervalWeight)}",
         TsbOptions t => $"tsb:{D(t.ProbabilityWeight)},{D(t.SizeWeight)}",
         MethodSelectorOptions b => "best:" + string.Join("|", b.Candidates.Select(Format))
@@ -140,6 +141,59 @@ internal static class MethodSpec
 
         return new HoltOptions(Num(args[0]), Num(args[1]), damping, start);
     }
+
+    private static HoltWintersOptions HoltWinters(string text, string[] args)
+    {
+        int count = args.Length;
+        HoltWintersStart start = default;
+        if (args[^1].Length > 0 && char.IsLetter(args[^1][0]))
+        {
+            try
+            {
+                start = HoltWintersStartOf(args[^1]);
+            }
+            catch (UsageException e)
+            {
+                throw new UsageException($"'{text}': {e.Message}");
+            }
+
+            count--;
+        }
+
+        if (count is < 5 or > 7)
+        {
+            throw new UsageException($"'{text}' has {count} numbers before the start; use hw:m,add|mul,level,trend,seasonal[,damping[,startSeasons]][,start].");
+        }
+
+        return new HoltWintersOptions(
+            Int(args[0]), SeasonalityOf(args[1]), Num(args[2]), Num(args[3]), Num(args[4]),
+            count >= 6 ? Num(args[5]) : 1.0, count == 7 ? Int(args[6]) : 2, start);
+    }
+
+    private static HoltWintersStart HoltWintersStartOf(string text)
+    {
+        if (text == "means")
+        {
+            return HoltWintersStart.SeasonMeans;
+        }
+
+        if (text == "decomposition")
+        {
+            return HoltWintersStart.ClassicalDecomposition;
+        }
+
+        string[] given = text.StartsWith("given=", StringComparison.Ordinal) ? text[6..].Split(';') : [];
+        return given.Length >= 4
+            ? HoltWintersStart.Given(Num(given[0]), Num(given[1]), given[2..].Select(Num).ToArray())
+            : throw new UsageException($"'{text}' is not a Holt-Winters start; use means, decomposition or given=l;t;s1;...;sm.");
+    }
+
+    private static string HoltWintersStartText(HoltWintersStart start) => start.Kind switch
+    {
+        HoltWintersStartKind.ClassicalDecomposition => ",decomposition",
+        HoltWintersStartKind.Given => $",given={D(start.Level!.Value)};{D(start.Trend!.Value)};" + string.Join(";", start.SeasonalIndices.Select(D)),
+        _ => string.Empty,
+    };
 
     private static LevelStart LevelStartOf(string text) => text switch
     {
