@@ -13,7 +13,9 @@ namespace StreamForecast.Cli;
 /// <item><description><c>ma:n</c> (moving average of n periods); <c>wma:w1,w2,…</c> (weights, most recent period first)</description></item>
 /// <item><description><c>ses:alpha[,start]</c> with start <c>first</c> (default), <c>mean=k</c> or <c>level=x</c></description></item>
 /// <item><description><c>holt:level,trend[,damping][,start]</c> with start <c>first2</c> (default), <c>diffs=d</c>, <c>trend=t</c> or <c>given=l;t</c></description></item>
-/// <item><description><c>hw:m,add|mul,level,trend,seasonal[,damping[,startSeasons]]</c> (Holt-Winters)</description></item>
+/// <item><description><c>hw:m,add|mul,level,trend,seasonal[,damping[,startSeasons]][,start]</c> (Holt-Winters) with start
+/// <c>means</c> (default: season means of the first seasons), <c>decomposition</c> (classical decomposition of the first
+/// seasons) or <c>given=l;t;s1;…;sm</c> (level, trend and the m seasonal indices before the first actual)</description></item>
 /// <item><description><c>hw2:m1,m2,add|mul,level,trend|none,cycle1,cycle2[,adjust]</c> (Holt-Winters with two seasonal cycles
 /// m1 &lt; m2, such as 24 and 168 for hourly data; <c>none</c> for no trend; <c>adjust</c> the first-order error adjustment,
 /// default 0)</description></item>
@@ -25,7 +27,7 @@ namespace StreamForecast.Cli;
 /// </remarks>
 internal static class MethodSpec
 {
-    public const string Forms = "naive | seasonal-naive:m | ma:n | wma:w1,w2,... | ses:alpha | holt:level,trend[,damping] | hw:m,add|mul,level,trend,seasonal[,damping] | hw2:m1,m2,add|mul,level,trend|none,cycle1,cycle2[,adjust] | croston:size | sba:size | tsb:probability,size | best:m1|m2|...[;weight=w,margin=x,switch=p,min=k]";
+    public const string Forms = "naive | seasonal-naive:m | ma:n | wma:w1,w2,... | ses:alpha | holt:level,trend[,damping] | hw:m,add|mul,level,trend,seasonal[,damping[,startSeasons]][,means|decomposition|given=l;t;s1;...;sm] | hw2:m1,m2,add|mul,level,trend|none,cycle1,cycle2[,adjust] | croston:size | sba:size | tsb:probability,size | best:m1|m2|...[;weight=w,margin=x,switch=p,min=k]";
 
     public static ForecasterOptions Parse(string text)
     {
@@ -49,9 +51,7 @@ internal static class MethodSpec
                 "wma" when args.Length >= 1 => new WeightedMovingAverageOptions(args.Select(Num).ToArray()),
                 "ses" when args.Length is 1 or 2 => new ExponentialSmoothingOptions(Num(args[0]), args.Length == 2 ? LevelStartOf(args[1]) : default),
                 "holt" when args.Length is >= 2 and <= 4 => Holt(args),
-                "hw" when args.Length is >= 5 and <= 7 => new HoltWintersOptions(
-                    Int(args[0]), SeasonalityOf(args[1]), Num(args[2]), Num(args[3]), Num(args[4]),
-                    args.Length >= 6 ? Num(args[5]) : 1.0, args.Length == 7 ? Int(args[6]) : 2),
+                "hw" when args.Length is >= 5 and <= 8 => HoltWinters(text, args),
                 "hw2" when args.Length is 7 or 8 => new TwoSeasonHoltWintersOptions(
                     Int(args[0]), Int(args[1]), SeasonalityOf(args[2]), Num(args[3]), args[4] == "none" ? null : Num(args[4]),
                     Num(args[5]), Num(args[6]), args.Length == 8 ? Num(args[7]) : 0),
@@ -75,7 +75,8 @@ internal static class MethodSpec
         WeightedMovingAverageOptions w => "wma:" + string.Join(",", w.Weights.Select(D)),
         ExponentialSmoothingOptions s => $"ses:{D(s.Alpha)}" + LevelStartText(s.Start),
         HoltOptions h => $"holt:{D(h.LevelWeight)},{D(h.TrendWeight)},{D(h.Damping)}" + HoltStartText(h.Start),
-        HoltWintersOptions hw => $"hw:{I(hw.SeasonLength)},{(hw.Seasonality == Seasonality.Additive ? "add" : "mul")},{D(hw.LevelWeight)},{D(hw.TrendWeight)},{D(hw.SeasonalWeight)},{D(hw.Damping)},{I(hw.StartSeasons)}",
+        HoltWintersOptions hw => $"hw:{I(hw.SeasonLength)},{(hw.Seasonality == Seasonality.Additive ? "add" : "mul")},{D(hw.LevelWeight)},{D(hw.TrendWeight)},{D(hw.SeasonalWeight)},{D(hw.Damping)},{I(hw.StartSeasons)}"
+            + HoltWintersStartText(hw.Start),
         TwoSeasonHoltWintersOptions h2 => $"hw2:{I(h2.ShortCycle)},{I(h2.LongCycle)},{(h2.Seasonality == Seasonality.Additive ? "add" : "mul")},{D(h2.LevelWeight)},"
             + $"{(h2.TrendWeight is double beta ? D(beta) : "none")},{D(h2.ShortCycleWeight)},{D(h2.LongCycleWeight)},{D(h2.ErrorAdjustment)}",
         CrostonOptions c => $"{(c.Variant == CrostonVariant.SyntetosBoylan ? "sba" : "croston")}:{D(c.SizeWeight)},{D(c.IntervalWeight)}",
@@ -148,6 +149,59 @@ internal static class MethodSpec
 
         return new HoltOptions(Num(args[0]), Num(args[1]), damping, start);
     }
+
+    private static HoltWintersOptions HoltWinters(string text, string[] args)
+    {
+        int count = args.Length;
+        HoltWintersStart start = default;
+        if (args[^1].Length > 0 && char.IsLetter(args[^1][0]))
+        {
+            try
+            {
+                start = HoltWintersStartOf(args[^1]);
+            }
+            catch (UsageException e)
+            {
+                throw new UsageException($"'{text}': {e.Message}");
+            }
+
+            count--;
+        }
+
+        if (count is < 5 or > 7)
+        {
+            throw new UsageException($"'{text}' has {count} numbers before the start; use hw:m,add|mul,level,trend,seasonal[,damping[,startSeasons]][,start].");
+        }
+
+        return new HoltWintersOptions(
+            Int(args[0]), SeasonalityOf(args[1]), Num(args[2]), Num(args[3]), Num(args[4]),
+            count >= 6 ? Num(args[5]) : 1.0, count == 7 ? Int(args[6]) : 2, start);
+    }
+
+    private static HoltWintersStart HoltWintersStartOf(string text)
+    {
+        if (text == "means")
+        {
+            return HoltWintersStart.SeasonMeans;
+        }
+
+        if (text == "decomposition")
+        {
+            return HoltWintersStart.ClassicalDecomposition;
+        }
+
+        string[] given = text.StartsWith("given=", StringComparison.Ordinal) ? text[6..].Split(';') : [];
+        return given.Length >= 4
+            ? HoltWintersStart.Given(Num(given[0]), Num(given[1]), given[2..].Select(Num).ToArray())
+            : throw new UsageException($"'{text}' is not a Holt-Winters start; use means, decomposition or given=l;t;s1;...;sm.");
+    }
+
+    private static string HoltWintersStartText(HoltWintersStart start) => start.Kind switch
+    {
+        HoltWintersStartKind.ClassicalDecomposition => ",decomposition",
+        HoltWintersStartKind.Given => $",given={D(start.Level!.Value)};{D(start.Trend!.Value)};" + string.Join(";", start.SeasonalIndices.Select(D)),
+        _ => string.Empty,
+    };
 
     private static LevelStart LevelStartOf(string text) => text switch
     {

@@ -14,10 +14,11 @@ internal static class TuneCommand
         var output = new Option<string>("--out") { Description = "Where to write the method configuration (JSON).", DefaultValueFactory = _ => "methods.json" };
         var top = new Option<int>("--top") { Description = "How many candidates of each ranking to print.", DefaultValueFactory = _ => 5 };
         var fraction = new Option<double>("--training-fraction") { Description = "The share of each history used to fit parameters; the rest is backtested.", DefaultValueFactory = _ => 0.5 };
+        var fitStarts = new Option<bool>("--fit-starts") { Description = "Also fit Holt-Winters start values (level, trend, seasonal indices) with the weights; slower, and the backtest keeps whichever forecasts better." };
         var metric = new Option<RankingMetric>("--metric") { Description = "The ranking statistic: Rmse (default) or Mad.", DefaultValueFactory = _ => RankingMetric.Rmse };
         var command = new Command("tune", "Fit and backtest candidate methods per series (rolling origin, out of sample); print each ranking and write the chosen methods to a configuration file that replay --config loads.");
         common.AddInputOptions(command);
-        foreach (Option option in new Option[] { common.Method, common.Season, common.Horizon, fraction, metric, top, output })
+        foreach (Option option in new Option[] { common.Method, common.Season, common.Horizon, fraction, metric, fitStarts, top, output })
         {
             command.Options.Add(option);
         }
@@ -30,7 +31,7 @@ internal static class TuneCommand
             TuningOptions options;
             try
             {
-                options = new TuningOptions(defaultMethod, common.HorizonOf(parse), season, parse.GetValue(fraction), metric: parse.GetValue(metric))
+                options = new TuningOptions(defaultMethod, common.HorizonOf(parse), season, parse.GetValue(fraction), metric: parse.GetValue(metric), fitStartValues: parse.GetValue(fitStarts))
                 {
                     // Fixed-length periods shorter than a day make the day and the week cycles known: two-cycle candidates.
                     PeriodLength = calendar.Kind == PeriodKind.FixedInterval ? calendar.NominalLength : null,

@@ -26,10 +26,15 @@ public static class MethodFitter
     /// <summary>The smallest level weight α a fit returns (smaller values barely move the level).</summary>
     public const double MinLevelWeight = 0.0001;
 
-    /// <summary>The smallest damping φ a damped-trend fit returns (common practice: φ between 0.8 and 0.98).</summary>
+    /// <summary>
+    /// The smallest damping φ a damped-trend fit returns (Holt and Holt-Winters): 0.8. Hyndman &amp; Athanasopoulos,
+    /// <i>Forecasting: Principles and Practice</i> (2nd ed., §7.4, from memory): "in practice, φ is rarely less than 0.8 as the
+    /// damping has a very strong effect for smaller values", and values near 1 cannot be told from an undamped trend, so
+    /// φ is restricted to 0.8–0.98.
+    /// </summary>
     public const double MinDamping = 0.8;
 
-    /// <summary>The largest damping φ a damped-trend fit returns (common practice: φ between 0.8 and 0.98).</summary>
+    /// <summary>The largest damping φ a damped-trend fit returns (Holt and Holt-Winters): 0.98 (same source as <see cref="MinDamping"/>).</summary>
     public const double MaxDamping = 0.98;
 
     /// <summary>The largest first-order error adjustment λ <see cref="FitTwoSeasonHoltWinters"/> returns.</summary>
@@ -212,16 +217,36 @@ public static class MethodFitter
     }
 
     /// <summary>
-    /// Fits the Holt-Winters method (undamped, two start seasons): the level weight α in [<see cref="MinLevelWeight"/>, 1], the
-    /// trend weight and the seasonal weight in [0, 1].
+    /// Fits the Holt-Winters method: the level weight α in [<see cref="MinLevelWeight"/>, 1], the trend weight and the seasonal
+    /// weight in [0, 1], with <paramref name="damped"/> the damping φ in [<see cref="MinDamping"/>, <see cref="MaxDamping"/>], and
+    /// with <paramref name="fitStartValues"/> the start level, trend and seasonal indices as well.
     /// </summary>
     /// <param name="series">The history, oldest first; every value finite (and, for multiplicative seasonality, zero or more); more than two seasons plus five periods.</param>
     /// <param name="seasonLength">The season length m, 2 or more.</param>
     /// <param name="seasonality">Additive (the default) or multiplicative.</param>
-    /// <returns>The fitted options and their SSE.</returns>
+    /// <param name="damped">Whether to fit a damped trend; false (the default) keeps φ = 1.</param>
+    /// <param name="fitStartValues">
+    /// False (the default): the start comes from the first two seasons (<see cref="HoltWintersStart.SeasonMeans"/>) and the
+    /// errors are scored from period 2m + 1 on. True: the start state is estimated with the weights (the usual state-space
+    /// practice of treating the initial states as parameters), by least squares over every one-step error from period 1 on,
+    /// seeded from the classical decomposition of the first two seasons; the result is a <see cref="HoltWintersStart.Given"/>
+    /// start with indices normalised to sum to 0 or average 1. It is returned only when it is at least as good as the
+    /// fixed-start fit over the periods that fit scores (from 2m + 1 on); otherwise the fixed-start fit is returned, so
+    /// fitting the start is never worse on the fitting window. Costs about m + 2 runs over the history per trial of weights
+    /// (several times more for multiplicative seasonality), instead of one.
+    /// </param>
+    /// <returns>
+    /// The fitted options and their SSE (over periods 2m + 1 … n for a computed start, 1 … n for a fitted one; see
+    /// <see cref="FittedMethod.ErrorCount"/>).
+    /// </returns>
     /// <exception cref="ArgumentOutOfRangeException"><paramref name="seasonLength"/> is out of range, or a value is not finite.</exception>
     /// <exception cref="ArgumentException">The history is too short, or the method rejects it for every parameter tried.</exception>
-    public static FittedMethod FitHoltWinters(ReadOnlySpan<double> series, int seasonLength, Seasonality seasonality = Seasonality.Additive)
+    public static FittedMethod FitHoltWinters(
+        ReadOnlySpan<double> series,
+        int seasonLength,
+        Seasonality seasonality = Seasonality.Additive,
+        bool damped = false,
+        bool fitStartValues = false)
     {
         if (seasonLength is < 2 or > HoltWintersOptions.MaxSeasonLength)
         {
@@ -229,9 +254,12 @@ public static class MethodFitter
         }
 
         SelectionThrowHelper.CheckFinite(series, nameof(series));
-        CheckErrors(series.Length, 2 * seasonLength, 3);
-        var search = new ParameterSearch(series.ToArray(), [MinLevelWeight, 0, 0], [1, 1, 1],
-            p => new HoltWintersOptions(seasonLength, seasonality, p[0], p[1], p[2]));
+        CheckErrors(series.Length, 2 * seasonLength, damped ? 4 : 3);
+        double[] history = series.ToArray();
+        double[] lower = damped ? [MinLevelWeight, 0, 0, MinDamping] : [MinLevelWeight, 0, 0];
+        double[] upper = damped ? [1, 1, 1, MaxDamping] : [1, 1, 1];
+        var search = new ParameterSearch(history, lower, upper,
+            p => new HoltWintersOptions(seasonLength, seasonality, p[0], p[1], p[2], damped ? p[3] : 1.0));
         var grid = new List<double[]>();
         foreach (double alpha in (double[])[0.1, 0.3, 0.6])
         {
@@ -239,12 +267,15 @@ public static class MethodFitter
             {
                 foreach (double gamma in (double[])[0.05, 0.2, 0.5])
                 {
-                    grid.Add([alpha, beta, gamma]);
+                    grid.Add(damped ? [alpha, beta, gamma, 0.9] : [alpha, beta, gamma]);
                 }
             }
         }
 
-        return search.Fit(grid);
+        FittedMethod fixedStart = search.Fit(grid);
+        return fitStartValues
+            ? HoltWintersStartFit.Fit(history, seasonLength, seasonality, damped, lower, upper, fixedStart)
+            : fixedStart;
     }
 
     /// <summary>

@@ -22,7 +22,10 @@ namespace StreamForecast.Selection;
 /// <item><description>Single exponential smoothing with fitted α; with <see cref="TuningOptions.IncludeTrend"/>, Holt's method
 /// fitted undamped and damped.</description></item>
 /// <item><description>With m ≥ 2, Holt-Winters fitted additive, and multiplicative when every actual of the fitting window is
-/// above zero.</description></item>
+/// above zero; with <see cref="TuningOptions.IncludeTrend"/> each also with a damped trend. With
+/// <see cref="TuningOptions.FitStartValues"/>, each of these is also fitted with its start level, trend and indices estimated
+/// (<see cref="MethodFitter.FitHoltWinters"/>), beside the fixed-start fit: a fitted start always lowers the in-sample error but
+/// can forecast worse out of sample (it lets the seasonal weight fall towards 0), so the backtest decides.</description></item>
 /// <item><description>When <see cref="TuningOptions.PeriodLength"/> divides a day into m₁ ≥ 2 periods, Holt-Winters with two
 /// seasonal cycles (the day m₁ and the week 7·m₁), fitted additive, and multiplicative under the same condition.</description></item>
 /// <item><description>When the fitting window is non-negative and its demand class (<see cref="DemandClassifier"/>) is
@@ -129,10 +132,14 @@ public static class SeriesTuner
         bool nonNegative = AllAtLeast(series, 0, inclusive: true);
         if (m >= 2)
         {
-            TryAdd(Add, () => MethodFitter.FitHoltWinters(training, m, Seasonality.Additive));
-            if (nonNegative && AllAtLeast(window, 0, inclusive: false))
+            bool positive = nonNegative && AllAtLeast(window, 0, inclusive: false);
+            foreach (bool damped in options.IncludeTrend ? (bool[])[false, true] : [false])
             {
-                TryAdd(Add, () => MethodFitter.FitHoltWinters(training, m, Seasonality.Multiplicative));
+                AddHoltWinters(Add, training, m, Seasonality.Additive, damped, options.FitStartValues);
+                if (positive)
+                {
+                    AddHoltWinters(Add, training, m, Seasonality.Multiplicative, damped, options.FitStartValues);
+                }
             }
         }
 
@@ -186,6 +193,16 @@ public static class SeriesTuner
         var backtest = new BacktestOptions(firstOrigin, options.Horizon, options.SeasonLength, options.Metric, options.Tracking);
         BacktestReport report = Backtester.RunChecked(series, candidates, backtest);
         return new TuningResult(options, firstOrigin, demand, report);
+    }
+
+    /// <summary>The fixed-start Holt-Winters fit, and with fitted start values that fit too (the backtest then chooses).</summary>
+    private static void AddHoltWinters(Action<ForecasterOptions> add, double[] training, int m, Seasonality seasonality, bool damped, bool fitStartValues)
+    {
+        TryAdd(add, () => MethodFitter.FitHoltWinters(training, m, seasonality, damped));
+        if (fitStartValues)
+        {
+            TryAdd(add, () => MethodFitter.FitHoltWinters(training, m, seasonality, damped, fitStartValues: true));
+        }
     }
 
     private static void TryAdd(Action<ForecasterOptions> add, Func<FittedMethod> fit)

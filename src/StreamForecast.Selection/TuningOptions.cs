@@ -43,7 +43,7 @@ public sealed record TuningOptions
     /// backtest candidate; lengths longer than the fitting window are skipped.
     /// </param>
     /// <param name="weightedLength">The window of the fitted weighted moving average, 0 (none) to 200; default 3.</param>
-    /// <param name="includeTrend">Whether Holt's method, undamped and damped, is fitted; default true.</param>
+    /// <param name="includeTrend">Whether Holt's method, undamped and damped, is fitted, and Holt-Winters also damped; default true.</param>
     /// <param name="intermittentWeights">
     /// The smoothing weights tried for Croston, SBA and TSB (every pair for TSB), each in (0, 1]; default 0.05, 0.1, 0.2
     /// (common practice: Croston-family weights of 0.05–0.2).
@@ -55,6 +55,12 @@ public sealed record TuningOptions
     /// </param>
     /// <param name="classifier">The demand-class cut-offs; default <see cref="DemandClassifierOptions.Default"/>.</param>
     /// <param name="maxDegreeOfParallelism">The most series tuned at once by <see cref="SeriesTuner.TuneMany{TKey}"/>, 1 to 4,096; null (the default) means one per core.</param>
+    /// <param name="fitStartValues">
+    /// Whether Holt-Winters candidates are also fitted with their start level, trend and seasonal indices estimated with the
+    /// weights (<see cref="MethodFitter.FitHoltWinters"/>); default false. It lowers the in-sample error (about a fifth on a
+    /// monthly CO2 record) but costs about m + 3 times the fitting time of a fixed start per Holt-Winters candidate, and the
+    /// backtest keeps the fixed-start fit where that forecasts better out of sample.
+    /// </param>
     /// <exception cref="ArgumentOutOfRangeException">A number is outside its stated range.</exception>
     public TuningOptions(
         ForecasterOptions? defaultMethod = null,
@@ -70,7 +76,8 @@ public sealed record TuningOptions
         RankingMetric metric = RankingMetric.Rmse,
         ErrorTrackerOptions? tracking = null,
         DemandClassifierOptions? classifier = null,
-        int? maxDegreeOfParallelism = null)
+        int? maxDegreeOfParallelism = null,
+        bool fitStartValues = false)
     {
         if (horizon is < 1 or > BacktestOptions.MaxHorizon)
         {
@@ -136,6 +143,7 @@ public sealed record TuningOptions
         Tracking = tracking ?? new ErrorTrackerOptions(seasonLength: seasonLength);
         Classifier = classifier ?? DemandClassifierOptions.Default;
         MaxDegreeOfParallelism = maxDegreeOfParallelism;
+        FitStartValues = fitStartValues;
     }
 
     /// <summary>The options with every default.</summary>
@@ -182,6 +190,9 @@ public sealed record TuningOptions
 
     /// <summary>The most series tuned at once; null for one per core.</summary>
     public int? MaxDegreeOfParallelism { get; }
+
+    /// <summary>Whether Holt-Winters candidates are also fitted with estimated start values.</summary>
+    public bool FitStartValues { get; }
 
     /// <summary>
     /// The length of one period when every period has the same length (a fixed-interval calendar's
@@ -252,7 +263,8 @@ public sealed record TuningOptions
         && Tracking.Equals(other.Tracking)
         && Classifier.Equals(other.Classifier)
         && MaxDegreeOfParallelism == other.MaxDegreeOfParallelism
-        && _periodLength == other._periodLength;
+        && _periodLength == other._periodLength
+        && FitStartValues == other.FitStartValues;
 
     /// <inheritdoc/>
     public override int GetHashCode() => HashCode.Combine(DefaultMethod, Horizon, SeasonLength, TrainingFraction, FirstOrigin, MaxMovingAverageLength, WeightedLength, Metric);

@@ -130,6 +130,38 @@ public sealed class CommandLineToolTests : IDisposable
         Assert.True(column >= 0);
     }
 
+    [Theory]
+    [InlineData("hw:7,add,0.3,0.1,0.2", "HoltWinters(additive, m 7, 0.3, 0.1, 0.2)")]
+    [InlineData("hw:7,add,0.3,0.1,0.2,1,2,means", "HoltWinters(additive, m 7, 0.3, 0.1, 0.2)")]
+    [InlineData("hw:7,add,0.3,0.1,0.2,0.9,3,decomposition", "HoltWinters(additive, m 7, 0.3, 0.1, 0.2, damping 0.9, start 3 seasons, classical decomposition)")]
+    [InlineData("hw:7,mul,0.3,0.1,0.2,given=10;0;1;1;1;1;1;1;1", "HoltWinters(multiplicative, m 7, 0.3, 0.1, 0.2, given level 10, trend 0, 7 indices)")]
+    public void Replay_HoltWintersStartText_RunsThatStart(string method, string label)
+    {
+        _tool.Write("sales.csv", ToolRunner.SalesCsv(days: 35));
+
+        ToolResult result = _tool.Run(Args("replay", "sales.csv", "--method", method));
+
+        Assert.True(result.ExitCode == 0, result.ToString());
+        Assert.All(File.ReadLines(_tool.PathOf("forecasts.csv")).Skip(1), line => Assert.Contains(label, line, StringComparison.Ordinal));
+    }
+
+    [Theory]
+    [InlineData("hw:7,add,0.3,0.1,0.2,given=10;0;1")]
+    [InlineData("hw:7,add,0.3,0.1,0.2,1,3,given=10;0;1;-1;0;0;0;0;0")]
+    [InlineData("hw:7,mul,0.3,0.1,0.2,given=10;0;1;1;1;1;1;1;0")]
+    [InlineData("hw:7,add,0.3,0.1,0.2,sideways")]
+    [InlineData("hw:7,add,0.3,0.1,0.2,1,2,3,decomposition")]
+    public void Replay_BadHoltWintersStartText_IsAUsageError(string method)
+    {
+        _tool.Write("sales.csv", ToolRunner.SalesCsv(days: 10));
+
+        ToolResult result = _tool.Run(Args("replay", "sales.csv", "--method", method));
+
+        Assert.Equal(1, result.ExitCode);
+        Assert.Contains(method, result.Error, StringComparison.Ordinal);
+        ToolRunner.AssertNoStackTrace(result);
+    }
+
     [Fact]
     public void Replay_BestOfTextForm_ReportsTheSelectedCandidateOnEveryForecast()
     {
@@ -296,6 +328,27 @@ public sealed class CommandLineToolTests : IDisposable
 
         Assert.True(result.ExitCode == 2, result.ToString());
         Assert.Contains("nowhere.csv: file not found", result.Error, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void Tune_FitStartsThenReplayWithConfig_ReadsBackEveryTunedMethod()
+    {
+        _tool.Write("sales.csv", ToolRunner.SalesCsv());
+
+        ToolResult tune = _tool.Run(Args("tune", "sales.csv", "--season", "7", "--fit-starts", "--out", "methods.json", "--top", "40"));
+
+        Assert.True(tune.ExitCode == 0, tune.ToString());
+        Assert.Contains("given level", tune.Output, StringComparison.Ordinal); // fitted-start candidates are ranked
+        using JsonDocument config = JsonDocument.Parse(File.ReadAllText(_tool.PathOf("methods.json")));
+        var labels = config.RootElement.GetProperty("series").EnumerateArray()
+            .ToDictionary(s => s.GetProperty("key").GetString()!, s => s.GetProperty("label").GetString()!);
+
+        ToolResult replay = _tool.Run(Args("replay", "sales.csv", "--season", "7", "--config", "methods.json"));
+
+        // Every tuned method, fitted starts included, is read back from its text form and runs under the same label.
+        Assert.True(replay.ExitCode == 0, replay.ToString());
+        string[] forecasts = [.. File.ReadLines(_tool.PathOf("forecasts.csv"))];
+        Assert.All(labels, pair => Assert.Contains(forecasts, line => line.StartsWith(pair.Key + ",", StringComparison.Ordinal) && line.Contains(pair.Value, StringComparison.Ordinal)));
     }
 
     [Fact]

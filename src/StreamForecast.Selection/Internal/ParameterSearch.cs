@@ -20,7 +20,8 @@ namespace StreamForecast.Selection.Internal;
 internal sealed class ParameterSearch
 {
     private const double Tolerance = 1e-10;
-    private const int MaxIterations = 1_000;
+    private readonly int _maxIterations;
+    private readonly int _passes;
 
     private readonly double[] _series;
     private readonly double[] _lower;
@@ -30,8 +31,10 @@ internal sealed class ParameterSearch
     private double _bestSse = double.PositiveInfinity;
     private long _bestCount;
 
-    public ParameterSearch(double[] series, double[] lower, double[] upper, Func<double[], ForecasterOptions> create)
+    public ParameterSearch(double[] series, double[] lower, double[] upper, Func<double[], ForecasterOptions> create, int maxIterations = 1_000, int passes = 2)
     {
+        _maxIterations = maxIterations;
+        _passes = passes;
         _series = series;
         _lower = lower;
         _upper = upper;
@@ -56,13 +59,13 @@ internal sealed class ParameterSearch
         }
 
         IObjectiveFunction objective = ObjectiveFunction.Value(x => Evaluate(ToBox(x)));
-        for (int pass = 0; pass < 2; pass++)
+        for (int pass = 0; pass < _passes; pass++)
         {
             Vector<double> start = FromBox(_best);
             Vector<double> perturbation = Vector<double>.Build.Dense(start.Count, pass == 0 ? 1.0 : 0.25);
             try
             {
-                new NelderMeadSimplex(Tolerance, MaxIterations).FindMinimum(objective, start, perturbation);
+                new NelderMeadSimplex(Tolerance, _maxIterations).FindMinimum(objective, start, perturbation);
             }
             catch (MaximumIterationsException)
             {

@@ -6,8 +6,9 @@ namespace StreamForecast.Forecasting;
 
 /// <summary>The Holt-Winters seasonal method for one series. Create it from <see cref="HoltWintersOptions"/>.</summary>
 /// <remarks>
-/// <para><b>Equations and start.</b> See <see cref="HoltWintersOptions"/>. Warm after c·m actuals (c =
-/// <see cref="HoltWintersOptions.StartSeasons"/>, 2 by default).</para>
+/// <para><b>Equations and start.</b> See <see cref="HoltWintersOptions"/> and <see cref="HoltWintersStart"/>. Warm after c·m
+/// actuals (c = <see cref="HoltWintersOptions.StartSeasons"/>, 2 by default) with a computed start, at once with a given
+/// one. <see cref="StartValues"/> tells which start values were used.</para>
 /// <para><b>Multiplicative domain.</b> Negative actuals are rejected. When the trend would carry the level to zero or
 /// below (a steep fall), the step is taken without the trend (ℓ = α·y/s + (1−α)·ℓ, and the trend restarts from that
 /// change), so the level stays positive and the series keeps taking actuals; published check values never reach this
@@ -28,10 +29,11 @@ namespace StreamForecast.Forecasting;
 /// on which seasons the horizon crosses).</para>
 /// <para><b>Cost.</b> O(1) and allocation-free per update and forecast, except the one update that completes the
 /// start window, which computes the start values and runs seasons 2 … c through the equations in O(c·m). Memory:
-/// m + c·m numbers per series, allocated at creation.</para>
+/// m + c·m numbers per series (2·m + 2·c·m + 2 with the classical-decomposition start, m + 2 more with a given one),
+/// allocated at creation.</para>
 /// <para><b>Thread safety.</b> Not thread-safe; one owner per series.</para>
 /// </remarks>
-public sealed class HoltWinters : Forecaster
+public sealed partial class HoltWinters : Forecaster
 {
     private readonly HoltWintersOptions _options;
     private readonly int _seasonLength;
@@ -44,13 +46,19 @@ public sealed class HoltWinters : Forecaster
     private readonly double _gamma;
     private readonly double _oneMinusGamma;
     private readonly double _phi;
+    private readonly HoltWintersStartKind _startKind;
     /// <summary>The smallest level and seasonal index multiplicative seasonality holds (see the remarks).</summary>
     internal const double MultiplicativeFloor = 1e-30;
 
     private readonly double[] _seasonal;    // slot t mod m holds the latest index of that season position
     private readonly double[] _startWindow; // the first c·m actuals while warming up; zero afterwards
+    private readonly double[] _startIndices; // the start indices this forecaster used (see StartValues)
+    private readonly double[] _centred;      // decomposition scratch (empty for the other starts)
     private double _level;
     private double _trend;
+    private double _startLevel;
+    private double _startTrend;
+    private bool _startKnown;
 
     /// <summary>Creates an empty forecaster.</summary>
     /// <param name="options">Validated options.</param>
@@ -69,8 +77,12 @@ public sealed class HoltWinters : Forecaster
         _gamma = options.SeasonalWeight;
         _oneMinusGamma = 1.0 - options.SeasonalWeight;
         _phi = options.Damping;
+        _startKind = options.Start.Kind;
         _seasonal = new double[_seasonLength];
-        _startWindow = new double[_seasonLength * _startSeasons];
+        _startWindow = new double[options.WarmUpLength];
+        _startIndices = new double[_seasonLength];
+        _centred = new double[_startKind == HoltWintersStartKind.ClassicalDecomposition ? _startWindow.Length : 0];
+        ResetCore();
     }
 
     /// <inheritdoc/>
@@ -100,6 +112,19 @@ public sealed class HoltWinters : Forecaster
             return _trend;
         }
     }
+
+    /// <summary>
+    /// The start values this forecaster used: for a computed start, the level, trend and indices the rule gave, as the state
+    /// at period m before the actuals m+1 … c·m ran through the equations; for a given start, the given values (period 0).
+    /// </summary>
+    /// <value>
+    /// <see langword="null"/> while a computed start still waits for its c·m actuals, and after <see cref="Forecaster.ImportState"/>
+    /// of a warm state with a computed start (the snapshot holds the current state, not the start it came from).
+    /// </value>
+    /// <remarks>Allocates the returned record (O(m)); not for the per-update path.</remarks>
+    public HoltWintersStartValues? StartValues => _startKnown
+        ? new HoltWintersStartValues(_options.Start.Kind, _startKind == HoltWintersStartKind.Given ? 0 : _seasonLength, _startLevel, _startTrend, [.. _startIndices])
+        : null;
 
     /// <summary>The seasonal index the forecast for <paramref name="horizon"/> periods ahead uses, s(t+h−m(k+1)).</summary>
     /// <param name="horizon">Periods ahead, 1 or more.</param>
@@ -136,7 +161,7 @@ public sealed class HoltWinters : Forecaster
         }
 
         int t = (int)seen;
-        if (_multiplicative && actual == 0)
+        if (_multiplicative && actual == 0 && _startKind == HoltWintersStartKind.SeasonMeans)
         {
             CheckStartZero(t);
         }
@@ -156,14 +181,24 @@ public sealed class HoltWinters : Forecaster
 
         _level = startLevel;
         _trend = startTrend;
+        _startKnown = true;
         Array.Clear(_startWindow);
     }
 
     /// <summary>Computes the start values into the seasonal slots and runs seasons 2 … c through the equations.</summary>
     private bool TryStart(out double level, out double trend)
     {
-        Span<double> seasonMeans = stackalloc double[_startSeasons];
-        SeasonalStartValues.Compute(_startWindow, _seasonLength, _multiplicative, seasonMeans, _seasonal, out level, out trend);
+        if (_startKind == HoltWintersStartKind.ClassicalDecomposition)
+        {
+            SeasonalStartValues.ComputeDecomposition(_startWindow, _seasonLength, _multiplicative, _centred, _seasonal, out level, out trend);
+            Array.Clear(_centred);
+        }
+        else
+        {
+            Span<double> seasonMeans = stackalloc double[_startSeasons];
+            SeasonalStartValues.Compute(_startWindow, _seasonLength, _multiplicative, seasonMeans, _seasonal, out level, out trend);
+        }
+
         if (_multiplicative)
         {
             // Tiny positive actuals can give a start index or level that underflows: hold them at the floor.
@@ -174,6 +209,9 @@ public sealed class HoltWinters : Forecaster
             }
         }
 
+        _startLevel = level;
+        _startTrend = trend;
+        _seasonal.CopyTo(_startIndices);
         for (int t = _seasonLength; t < _startWindow.Length; t++)
         {
             int slot = t % _seasonLength;
@@ -218,51 +256,6 @@ public sealed class HoltWinters : Forecaster
         return double.IsFinite(newLevel) && double.IsFinite(newTrend) && double.IsFinite(newSeasonal);
     }
 
-    /// <summary>Rejects a zero at window position <paramref name="t"/> that would give a zero season mean or a zero start index.</summary>
-    private void CheckStartZero(int t)
-    {
-        int m = _seasonLength;
-        int season = t / m;
-        int position = t % m;
-        if (position == m - 1 && IsZero(_startWindow.AsSpan(season * m, m - 1)))
-        {
-            ThrowHelper.ThrowOutOfRange("actual", 0.0, string.Create(CultureInfo.InvariantCulture,
-                $"with this zero every actual of start season {season + 1} would be zero, and multiplicative seasonality divides by the season mean; the state is unchanged"));
-        }
-
-        if (season == _startSeasons - 1 && IsZeroAtPosition(_startWindow, m, season, position))
-        {
-            ThrowHelper.ThrowOutOfRange("actual", 0.0, string.Create(CultureInfo.InvariantCulture,
-                $"season position {position + 1} is zero in every start season, so its multiplicative start index would be zero; the state is unchanged"));
-        }
-    }
-
-    private static bool IsZero(ReadOnlySpan<double> values)
-    {
-        foreach (double v in values)
-        {
-            if (v != 0)
-            {
-                return false;
-            }
-        }
-
-        return true;
-    }
-
-    private static bool IsZeroAtPosition(ReadOnlySpan<double> window, int m, int seasons, int position)
-    {
-        for (int p = 0; p < seasons; p++)
-        {
-            if (window[(p * m) + position] != 0)
-            {
-                return false;
-            }
-        }
-
-        return true;
-    }
-
     private int Slot(int horizon) => (int)((Count + horizon - 1) % _seasonLength);
 
     private protected override double ForecastCore(int horizon)
@@ -277,10 +270,32 @@ public sealed class HoltWinters : Forecaster
 
     private protected override void ResetCore()
     {
+        Array.Clear(_startWindow);
+        if (_startKind == HoltWintersStartKind.Given)
+        {
+            // Given values are the state before the first actual; multiplicative ones are held at the floor like any state.
+            HoltWintersStart start = _options.Start;
+            _level = _multiplicative ? Math.Max(start.Level!.Value, MultiplicativeFloor) : start.Level!.Value;
+            _trend = start.Trend!.Value;
+            for (int i = 0; i < _seasonal.Length; i++)
+            {
+                _seasonal[i] = _multiplicative ? Math.Max(start.SeasonalIndices[i], MultiplicativeFloor) : start.SeasonalIndices[i];
+            }
+
+            _startLevel = _level;
+            _startTrend = _trend;
+            _seasonal.CopyTo(_startIndices);
+            _startKnown = true;
+            return;
+        }
+
         _level = 0;
         _trend = 0;
         Array.Clear(_seasonal);
-        Array.Clear(_startWindow);
+        _startLevel = 0;
+        _startTrend = 0;
+        Array.Clear(_startIndices);
+        _startKnown = false;
     }
 
     // Layout: level, trend, m seasonal slots, c·m start-window slots.
@@ -294,83 +309,17 @@ public sealed class HoltWinters : Forecaster
         _startWindow.CopyTo(destination[(2 + _seasonal.Length)..]);
     }
 
-    private protected override string? ValidateCore(ReadOnlySpan<double> state, long count)
-    {
-        int m = _seasonLength;
-        ReadOnlySpan<double> seasonal = state.Slice(2, m);
-        ReadOnlySpan<double> window = state[(2 + m)..];
-        if (count >= window.Length)
-        {
-            if (!IsZero(window))
-            {
-                return "the start window must be zero once the forecaster is warm";
-            }
-
-            if (_multiplicative)
-            {
-                if (!(state[0] >= MultiplicativeFloor))
-                {
-                    return "multiplicative seasonality needs a positive level (at least 1e-30)";
-                }
-
-                foreach (double s in seasonal)
-                {
-                    if (!(s >= MultiplicativeFloor))
-                    {
-                        return "multiplicative seasonality needs positive seasonal indices";
-                    }
-                }
-            }
-
-            return null;
-        }
-
-        int filled = (int)count;
-        if (state[0] != 0 || state[1] != 0 || !IsZero(seasonal) || !IsZero(window[filled..]))
-        {
-            return "while warming up only the start-window slots already filled may be non-zero";
-        }
-
-        return _multiplicative ? MultiplicativeStartProblem(window, filled) : null;
-    }
-
-    private string? MultiplicativeStartProblem(ReadOnlySpan<double> window, int filled)
-    {
-        int m = _seasonLength;
-        for (int t = 0; t < filled; t++)
-        {
-            if (window[t] < 0)
-            {
-                return "multiplicative seasonality needs actuals of 0 or more";
-            }
-        }
-
-        for (int season = 0; (season + 1) * m <= filled; season++)
-        {
-            if (IsZero(window.Slice(season * m, m)))
-            {
-                return "a start season has only zero actuals";
-            }
-        }
-
-        int last = _startSeasons - 1;
-        for (int t = last * m; t < filled; t++)
-        {
-            if (window[t] == 0 && IsZeroAtPosition(window, m, last, t - (last * m)))
-            {
-                return "a season position is zero in every start season";
-            }
-        }
-
-        return null;
-    }
-
     private protected override void ImportCore(ReadOnlySpan<double> state, long count)
     {
         _level = state[0];
         _trend = state[1];
         state.Slice(2, _seasonal.Length).CopyTo(_seasonal);
         state[(2 + _seasonal.Length)..].CopyTo(_startWindow);
+        if (_startKind != HoltWintersStartKind.Given)
+        {
+            // The snapshot holds the current state only: the start a computed rule gave is no longer known.
+            _startKnown = false;
+        }
     }
 
     private void ThrowIfCold()

@@ -1,3 +1,4 @@
+using System.Collections.Immutable;
 using System.Diagnostics.CodeAnalysis;
 using System.Globalization;
 using StreamForecast.Internal;
@@ -23,7 +24,8 @@ namespace StreamForecast.Forecasting;
 /// call the trend weight β*; for additive seasonality that is the same method with FPP's γ = seasonal weight ×
 /// (1−α), for multiplicative seasonality the two forms differ slightly. The damped trend is Gardner &amp;
 /// McKenzie's (FPP 1st ed. §7.4, from memory).</para>
-/// <para><b>Start rule</b> (from the first c = <see cref="StartSeasons"/> whole seasons, NIST §6.4.3.5 formulas
+/// <para><b>Start rule</b> (the default, <see cref="HoltWintersStart.SeasonMeans"/>; <see cref="Start"/> can choose a classical
+/// decomposition of the first c seasons or given values instead, see <see cref="HoltWintersStart"/>; from the first c = <see cref="StartSeasons"/> whole seasons, NIST §6.4.3.5 formulas
 /// from memory): A_p is the mean of season p; the start level is A₁ and the start trend (A₂ − A₁)/m, which is
 /// NIST's (1/m)·Σᵢ (y(m+i) − y(i))/m and uses the first two seasons whatever c is; the start index of season
 /// position i is the mean over the c seasons of y/A_p (multiplicative, as NIST) or y − A_p (additive, the same
@@ -55,7 +57,13 @@ public sealed record HoltWintersOptions : ForecasterOptions
     /// The number of whole seasons c the start values come from, 2 (the default) to <see cref="MaxStartSeasons"/>,
     /// with c·m at most <see cref="MaxStartWindow"/>.
     /// </param>
+    /// <param name="start">
+    /// How the first level, trend and indices are set; the default is <see cref="HoltWintersStart.SeasonMeans"/> (the rule in
+    /// the remarks). A given start needs exactly m indices, and for multiplicative seasonality a level and indices above 0; it
+    /// takes no start seasons, so <paramref name="startSeasons"/> must stay 2.
+    /// </param>
     /// <exception cref="ArgumentOutOfRangeException">A parameter is out of range or NaN.</exception>
+    /// <exception cref="ArgumentException">A given start does not fit the season length, the seasonality or the start seasons.</exception>
     public HoltWintersOptions(
         int seasonLength,
         Seasonality seasonality,
@@ -63,7 +71,8 @@ public sealed record HoltWintersOptions : ForecasterOptions
         double trendWeight,
         double seasonalWeight,
         double damping = 1.0,
-        int startSeasons = 2)
+        int startSeasons = 2,
+        HoltWintersStart start = default)
     {
         if (seasonLength is < 2 or > MaxSeasonLength)
         {
@@ -106,6 +115,15 @@ public sealed record HoltWintersOptions : ForecasterOptions
                 string.Create(CultureInfo.InvariantCulture, $"start seasons × season length ({seasonLength}) must be at most 1,000,000 periods"));
         }
 
+        if (start.Kind == HoltWintersStartKind.Given)
+        {
+            CheckGivenStart(start, seasonLength, seasonality, startSeasons);
+        }
+        else if (start.Kind != HoltWintersStartKind.SeasonMeans && start.Kind != HoltWintersStartKind.ClassicalDecomposition)
+        {
+            ThrowHelper.ThrowOutOfRange(nameof(start), start.Kind, "the start must be SeasonMeans, ClassicalDecomposition or Given");
+        }
+
         SeasonLength = seasonLength;
         Seasonality = seasonality;
         LevelWeight = levelWeight;
@@ -113,6 +131,7 @@ public sealed record HoltWintersOptions : ForecasterOptions
         SeasonalWeight = seasonalWeight;
         Damping = damping;
         StartSeasons = startSeasons;
+        Start = start;
     }
 
     /// <summary>The season length m.</summary>
@@ -136,6 +155,12 @@ public sealed record HoltWintersOptions : ForecasterOptions
     /// <summary>The number of whole seasons c the start values come from; the forecaster is warm after c·m actuals.</summary>
     public int StartSeasons { get; }
 
+    /// <summary>How the first level, trend and seasonal indices are set.</summary>
+    public HoltWintersStart Start { get; }
+
+    /// <summary>How many actuals the forecaster takes before its first forecast: c·m for a computed start, 0 for a given one.</summary>
+    public int WarmUpLength => Start.Kind == HoltWintersStartKind.Given ? 0 : StartSeasons * SeasonLength;
+
     /// <inheritdoc/>
     public override string MethodName
     {
@@ -144,6 +169,11 @@ public sealed record HoltWintersOptions : ForecasterOptions
             string kind = Seasonality == Seasonality.Additive ? "additive" : "multiplicative";
             string damped = Damping == 1.0 ? string.Empty : string.Create(CultureInfo.InvariantCulture, $", damping {Damping}");
             string start = StartSeasons == 2 ? string.Empty : string.Create(CultureInfo.InvariantCulture, $", start {StartSeasons} seasons");
+            if (Start.Kind != HoltWintersStartKind.SeasonMeans)
+            {
+                start += ", " + Start.ToString();
+            }
+
             return string.Create(CultureInfo.InvariantCulture,
                 $"HoltWinters({kind}, m {SeasonLength}, {LevelWeight}, {TrendWeight}, {SeasonalWeight}{damped}{start})");
         }
@@ -151,4 +181,38 @@ public sealed record HoltWintersOptions : ForecasterOptions
 
     /// <inheritdoc/>
     public override Forecaster CreateForecaster() => new HoltWinters(this);
+
+    private static void CheckGivenStart(HoltWintersStart start, int seasonLength, Seasonality seasonality, int startSeasons)
+    {
+        if (start.SeasonalIndices.Length != seasonLength)
+        {
+            throw new ArgumentException(string.Create(CultureInfo.InvariantCulture,
+                $"The given start has {start.SeasonalIndices.Length} seasonal indices; the season length is {seasonLength}, so give exactly {seasonLength}."), nameof(start));
+        }
+
+        if (startSeasons != 2)
+        {
+            throw new ArgumentException("A given start takes no start seasons; leave startSeasons at 2 (its default) or use a computed start.", nameof(startSeasons));
+        }
+
+        if (seasonality != Seasonality.Multiplicative)
+        {
+            return;
+        }
+
+        if (!(start.Level > 0))
+        {
+            throw new ArgumentException("Multiplicative seasonality needs a given start level above 0.", nameof(start));
+        }
+
+        ImmutableArray<double> indices = start.SeasonalIndices;
+        for (int i = 0; i < indices.Length; i++)
+        {
+            if (!(indices[i] > 0))
+            {
+                throw new ArgumentException(string.Create(CultureInfo.InvariantCulture,
+                    $"Multiplicative seasonality needs given seasonal indices above 0; index {i + 1} is {indices[i]}."), nameof(start));
+            }
+        }
+    }
 }

@@ -20,6 +20,8 @@ public abstract class HoltWintersContractTests : ForecasterContractTests
 
     protected virtual int StartSeasons => 2;
 
+    protected virtual HoltWintersStart Start => default;
+
     protected override ForecasterOptions Options => new HoltWintersOptions(
         SeasonLength,
         Multiplicative ? Seasonality.Multiplicative : Seasonality.Additive,
@@ -27,54 +29,62 @@ public abstract class HoltWintersContractTests : ForecasterContractTests
         TrendWeight,
         SeasonalWeight,
         Damping,
-        StartSeasons);
+        StartSeasons,
+        Start);
 
-    protected override int WarmUpLength => StartSeasons * SeasonLength;
+    protected override int WarmUpLength => Start.Kind == HoltWintersStartKind.Given ? 0 : StartSeasons * SeasonLength;
 
-    // Batch reference, written out plainly for each prefix: season means A_p of the first c seasons; level A₁, trend
-    // (A₂ − A₁)/m and indices averaged over the c seasons (NIST §6.4.3.5, from memory) as the state at period m; then
+    /// <summary>The start state for a batch run: level, trend and indices at period <c>Period</c>.</summary>
+    protected virtual (int Period, double Level, double Trend, double[] Indices) BatchStart(double[] series)
+    {
+        int m = SeasonLength, c = StartSeasons;
+        var means = new double[c];
+        for (int p = 0; p < c; p++)
+        {
+            double sum = 0;
+            for (int i = 0; i < m; i++)
+            {
+                sum += series[(p * m) + i];
+            }
+
+            means[p] = sum / m;
+        }
+
+        var s = new double[m];
+        for (int i = 0; i < m; i++)
+        {
+            double sum = 0;
+            for (int p = 0; p < c; p++)
+            {
+                double y = series[(p * m) + i];
+                sum += Multiplicative ? y / means[p] : y - means[p];
+            }
+
+            s[i] = sum / c;
+        }
+
+        return (m, means[0], (means[1] - means[0]) / m, s);
+    }
+
+    // Batch reference, written out plainly for each prefix: the start state from BatchStart (by default season means A_p of
+    // the first c seasons; level A₁, trend (A₂ − A₁)/m and indices averaged over the c seasons (NIST §6.4.3.5, from
+    // memory) as the state at period m); then
     // Winters' equations (NIST §6.4.3.5) for every actual from period m+1 to the end of the prefix; forecast one ahead.
     protected override double[] BatchForecasts(double[] series)
     {
-        int m = SeasonLength, c = StartSeasons;
+        int m = SeasonLength;
         double a = LevelWeight, b = TrendWeight, g = SeasonalWeight, phi = Damping;
         var result = new double[series.Length + 1];
         for (int k = 0; k <= series.Length; k++)
         {
-            if (k < c * m)
+            if (k < WarmUpLength)
             {
                 result[k] = double.NaN;
                 continue;
             }
 
-            var means = new double[c];
-            for (int p = 0; p < c; p++)
-            {
-                double sum = 0;
-                for (int i = 0; i < m; i++)
-                {
-                    sum += series[(p * m) + i];
-                }
-
-                means[p] = sum / m;
-            }
-
-            var s = new double[m];
-            for (int i = 0; i < m; i++)
-            {
-                double sum = 0;
-                for (int p = 0; p < c; p++)
-                {
-                    double y = series[(p * m) + i];
-                    sum += Multiplicative ? y / means[p] : y - means[p];
-                }
-
-                s[i] = sum / c;
-            }
-
-            double level = means[0];
-            double trend = (means[1] - means[0]) / m;
-            for (int t = m; t < k; t++)
+            (int from, double level, double trend, double[] s) = BatchStart(series);
+            for (int t = from; t < k; t++)
             {
                 double y = series[t];
                 double previous = level;
