@@ -42,6 +42,11 @@ internal sealed class Partition<TKey> : ISeriesHost<TKey>
 
     TimeProvider ISeriesHost<TKey>.TimeProvider => _engine.Options.TimeProvider;
 
+    EventCalendar<TKey>? ISeriesHost<TKey>.Events => _engine.Options.Events;
+
+    /// <summary>Takes the declared events of a restored snapshot (before any series is adopted).</summary>
+    public void RestoreDeclared(IEnumerable<KnownEvent<TKey>> declared) => _table.RestoreDeclared(declared);
+
     public void Start() => Loop = Task.Run(RunAsync);
 
     public void Adopt(SeriesState<TKey> state) => _table.Adopt(state);
@@ -137,7 +142,7 @@ internal sealed class Partition<TKey> : ISeriesHost<TKey>
                     _table.Acknowledge(message.Observation.Key);
                     break;
                 case MessageKind.Visit:
-                    message.Visitor!.Visit(_table.Series);
+                    message.Visitor!.VisitTable(_table);
                     break;
                 case MessageKind.Barrier:
                     break;
@@ -187,4 +192,7 @@ internal interface ISeriesVisitor<TKey>
 {
     /// <summary>Called once, on the partition's loop, with every series it holds.</summary>
     void Visit(ICollection<SeriesState<TKey>> series);
+
+    /// <summary>Called once, on the partition's loop, with the partition's table (its series and declared events); by default visits the series.</summary>
+    void VisitTable(SeriesTable<TKey> table) => Visit(table.Series);
 }

@@ -26,6 +26,9 @@ internal interface ISeriesHost<TKey> : ISeriesOutput<TKey>
 
     /// <summary>The clock idle timeouts are measured on.</summary>
     TimeProvider TimeProvider { get; }
+
+    /// <summary>The known events given before the run (null: none).</summary>
+    EventCalendar<TKey>? Events => null;
 }
 
 /// <summary>
@@ -38,6 +41,7 @@ internal sealed class SeriesTable<TKey>
     private readonly Dictionary<TKey, SeriesState<TKey>> _series;
     private readonly ISeriesHost<TKey> _host;
     private readonly List<TKey> _evict = [];
+    private readonly List<KnownEvent<TKey>> _declared = [];
     private int _idleSeries;
     private int _count;
 
@@ -59,9 +63,13 @@ internal sealed class SeriesTable<TKey>
     /// <summary>Looks a series up.</summary>
     public bool TryGet(TKey key, [System.Diagnostics.CodeAnalysis.MaybeNullWhen(false)] out SeriesState<TKey> state) => _series.TryGetValue(key, out state);
 
+    /// <summary>The known events declared at run time and not withdrawn, in declaration order.</summary>
+    public IReadOnlyList<KnownEvent<TKey>> Declared => _declared;
+
     /// <summary>Takes over a series restored from a snapshot (its slot of the series limit is already counted by the caller).</summary>
     public void Adopt(SeriesState<TKey> state)
     {
+        state.SetMarks(MarksFor(state.Key, state.Options));
         _series.Add(state.Key, state);
         _count = _series.Count;
         if (state.Options.IdleTimeout is not null)
@@ -95,7 +103,21 @@ internal sealed class SeriesTable<TKey>
                 return;
             }
 
+            EventMarks? marks;
+            try
+            {
+                marks = MarksFor(observation.Key, options);
+            }
+            catch (Exception ex) when (ex is not OutOfMemoryException)
+            {
+                _series.Remove(observation.Key);
+                _host.ReleaseSeries();
+                _host.Rejected(observation.Key, "The series' known events could not be resolved (the group function threw): " + ex.Message);
+                return;
+            }
+
             slot = new SeriesState<TKey>(observation.Key, options, arrival);
+            slot.SetMarks(marks);
             _count = _series.Count;
             if (options.IdleTimeout is not null)
             {
@@ -160,6 +182,89 @@ internal sealed class SeriesTable<TKey>
             series.Acknowledge(_host);
         }
     }
+
+    /// <summary>Adds declared events restored from a snapshot, before any series is adopted.</summary>
+    public void RestoreDeclared(IEnumerable<KnownEvent<TKey>> declared) => _declared.AddRange(declared);
+
+    /// <summary>
+    /// Declares (or withdraws) a known event at run time: every series it applies to is re-marked, and retained closed
+    /// periods whose marking changed are restated. A withdrawal of an event not declared here changes nothing.
+    /// </summary>
+    public KnownEventReceipt Declare(KnownEvent<TKey> knownEvent, bool withdraw)
+    {
+        if (withdraw)
+        {
+            int at = _declared.FindIndex(e => e.SameAs(knownEvent, _series.Comparer));
+            if (at < 0)
+            {
+                return default;
+            }
+
+            _declared.RemoveAt(at);
+        }
+        else
+        {
+            _declared.Add(knownEvent);
+        }
+
+        // Resolve every affected series' new marks first: a throwing group function then changes nothing.
+        var changes = new List<(SeriesState<TKey> State, EventMarks? Marks, long First, long Last)>();
+        try
+        {
+            Func<TKey, string?>? groupOf = _host.Events?.GroupOf;
+            foreach (SeriesState<TKey> s in _series.Values)
+            {
+                string? group = knownEvent.Scope == EventScope.Group && groupOf is not null ? groupOf(s.Key) : null;
+                if (knownEvent.AppliesTo(s.Key, group, _series.Comparer)
+                    && EventCalendar<TKey>.TryPeriodsOf(knownEvent, s.Options.Calendar, out long first, out long last))
+                {
+                    changes.Add((s, MarksFor(s.Key, s.Options), first, last));
+                }
+            }
+        }
+        catch
+        {
+            if (withdraw)
+            {
+                _declared.Add(knownEvent);
+            }
+            else
+            {
+                _declared.RemoveAt(_declared.Count - 1);
+            }
+
+            throw;
+        }
+
+        long restated = 0, beyond = 0;
+        foreach (var (state, marks, first, last) in changes)
+        {
+            state.ChangeMarks(marks, first, last, _host, ref restated, ref beyond);
+        }
+
+        return new KnownEventReceipt(changes.Count, restated, beyond);
+    }
+
+    /// <summary>The lift sums of every series held, per kind.</summary>
+    public void AddLift(Dictionary<EventKind, EventLift> into)
+    {
+        foreach (SeriesState<TKey> s in _series.Values)
+        {
+            if (s.Step.Lift is { } lift)
+            {
+                for (int i = 0; i < lift.Count; i++)
+                {
+                    EventLift l = lift[i];
+                    into[l.Kind] = into.TryGetValue(l.Kind, out EventLift sum)
+                        ? sum with { Periods = sum.Periods + l.Periods, ActualTotal = sum.ActualTotal + l.ActualTotal, ForecastTotal = sum.ForecastTotal + l.ForecastTotal }
+                        : l;
+                }
+            }
+        }
+    }
+
+    private EventMarks? MarksFor(TKey key, SeriesOptions options) =>
+        EventCalendar<TKey>.MarksFor(key, options.Calendar, _host.Events, _declared, _series.Comparer);
 
     private void EvictQuiet()
     {

@@ -14,7 +14,20 @@ internal sealed class SnapshotSection<TKey> : ISeriesVisitor<TKey>
 
     public ReadOnlyMemory<byte> Bytes => _writer.WrittenMemory;
 
+    /// <summary>The partition's known-event state, captured with its series (null unless <see cref="VisitTable"/> ran).</summary>
+    public SnapshotEvents.Part<TKey>? Events { get; private set; }
+
+    /// <summary>Whether this is the first partition's section (which alone carries the group and all-series declarations).</summary>
+    public bool First { get; init; }
+
     public void Visit(ICollection<SeriesState<TKey>> series) => Write(series);
+
+    public void VisitTable(SeriesTable<TKey> table)
+    {
+        Write(table.Series);
+        Events = new SnapshotEvents.Part<TKey>();
+        Events.Capture(table, First);
+    }
 
     public void Write(ICollection<SeriesState<TKey>> series)
     {
