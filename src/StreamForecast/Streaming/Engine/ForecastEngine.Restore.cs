@@ -67,16 +67,17 @@ public static class ForecastEngine
                 throw new InvalidDataException("The version 3 snapshot lacks its known-event section.");
             }
 
+            SnapshotEvents.Content<TKey>? events = withEvents ? SnapshotEvents.Read(content.Sections[^1], keyCodec) : null;
+            declared = events?.Declared ?? [];
             int partitionSections = withEvents ? content.Sections.Count - 1 : content.Sections.Count;
             for (int i = 1; i < partitionSections; i++)
             {
-                SnapshotSection<TKey>.Read(content.Sections[i], keyCodec, options.Resolve, arrival, series);
+                // Each series is marked before its state is read, so the restore check replays its window as it ran.
+                SnapshotSection<TKey>.Read(content.Sections[i], keyCodec, options.Resolve, arrival, series,
+                    (key, o) => EventCalendar<TKey>.MarksFor(key, o.Calendar, options.Events, declared, options.KeyComparer));
             }
 
-            if (withEvents)
-            {
-                declared = SnapshotEvents.Read(content.Sections[^1], keyCodec, series, options.KeyComparer);
-            }
+            events?.ApplyLifts(series, options.KeyComparer);
         }
         catch (Exception ex) when (ex is EndOfStreamException or ArgumentException or FormatException or OverflowException)
         {

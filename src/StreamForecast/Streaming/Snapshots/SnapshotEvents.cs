@@ -100,11 +100,48 @@ internal static class SnapshotEvents
         return w.WrittenMemory.ToArray();
     }
 
-    /// <summary>Reads the section, checks it, and gives each restored series its lift sums.</summary>
-    /// <exception cref="InvalidDataException">The section is malformed or names a series the snapshot does not hold.</exception>
-    public static List<KnownEvent<TKey>> Read<TKey>(ReadOnlyMemory<byte> bytes, ISnapshotKeyCodec<TKey> codec, List<SeriesState<TKey>> series, IEqualityComparer<TKey> comparer)
+    /// <summary>What the section holds, read and checked before the series are (their marks depend on the declared events).</summary>
+    internal sealed class Content<TKey>
         where TKey : notnull
     {
+        public List<KnownEvent<TKey>> Declared { get; } = [];
+
+        public List<(TKey Key, EventLiftSums? Live, bool HasLag, EventLiftSums? Lag)> Lifts { get; } = [];
+
+        /// <summary>Gives each restored series its lift sums.</summary>
+        /// <exception cref="InvalidDataException">A lift names a series the snapshot does not hold, twice, or does not fit its restatement window.</exception>
+        public void ApplyLifts(List<SeriesState<TKey>> series, IEqualityComparer<TKey> comparer)
+        {
+            var byKey = new Dictionary<TKey, SeriesState<TKey>>(comparer);
+            foreach (SeriesState<TKey> s in series)
+            {
+                byKey.TryAdd(s.Key, s);
+            }
+
+            foreach ((TKey key, EventLiftSums? live, bool hasLag, EventLiftSums? lag) in Lifts)
+            {
+                if (!byKey.Remove(key, out SeriesState<TKey>? state))
+                {
+                    throw new InvalidDataException($"The snapshot's event lift names series {key}, which it does not hold (or names it twice).");
+                }
+
+                if (hasLag != (state.LagStep is not null))
+                {
+                    throw new InvalidDataException($"The snapshot's event lift of series {key} does not fit its restatement window.");
+                }
+
+                state.Step.SetLift(live);
+                state.LagStep?.SetLift(lag);
+            }
+        }
+    }
+
+    /// <summary>Reads and checks the section.</summary>
+    /// <exception cref="InvalidDataException">The section is malformed.</exception>
+    public static Content<TKey> Read<TKey>(ReadOnlyMemory<byte> bytes, ISnapshotKeyCodec<TKey> codec)
+        where TKey : notnull
+    {
+        var content = new Content<TKey>();
         var r = new SnapshotPayloadReader(bytes);
         int count = r.ReadInt32();
         if (count < 0 || count > r.Remaining)
@@ -112,7 +149,6 @@ internal static class SnapshotEvents
             throw new InvalidDataException("The snapshot holds an impossible number of declared events.");
         }
 
-        var declared = new List<KnownEvent<TKey>>(count);
         for (int i = 0; i < count; i++)
         {
             byte scope = r.ReadByte();
@@ -120,19 +156,13 @@ internal static class SnapshotEvents
             DateTimeOffset start = ReadTime(r);
             DateTimeOffset end = ReadTime(r);
             bool keepOut = r.ReadBoolean();
-            declared.Add(scope switch
+            content.Declared.Add(scope switch
             {
                 0 => KnownEvent.ForSeries(r.ReadKey(codec), kind, start, end, keepOut),
                 1 => KnownEvent.ForGroup<TKey>(r.ReadString(), kind, start, end, keepOut),
                 2 => KnownEvent.ForAllSeries<TKey>(kind, start, end, keepOut),
                 _ => throw new InvalidDataException($"The snapshot holds a declared event of unknown scope {scope}."),
             });
-        }
-
-        var byKey = new Dictionary<TKey, SeriesState<TKey>>(comparer);
-        foreach (SeriesState<TKey> s in series)
-        {
-            byKey.TryAdd(s.Key, s);
         }
 
         int lifts = r.ReadInt32();
@@ -144,26 +174,13 @@ internal static class SnapshotEvents
         for (int i = 0; i < lifts; i++)
         {
             TKey key = r.ReadKey(codec);
-            if (!byKey.Remove(key, out SeriesState<TKey>? state))
-            {
-                throw new InvalidDataException($"The snapshot's event lift names series {key}, which it does not hold (or names it twice).");
-            }
-
-            state.Step.SetLift(ReadLifts(r));
+            EventLiftSums? live = ReadLifts(r);
             bool hasLag = r.ReadBoolean();
-            if (hasLag != (state.LagStep is not null))
-            {
-                throw new InvalidDataException($"The snapshot's event lift of series {key} does not fit its restatement window.");
-            }
-
-            if (hasLag)
-            {
-                state.LagStep!.SetLift(ReadLifts(r));
-            }
+            content.Lifts.Add((key, live, hasLag, hasLag ? ReadLifts(r) : null));
         }
 
         r.EnsureAtEnd();
-        return declared;
+        return content;
     }
 
     private static void WriteLifts(SnapshotPayloadWriter w, EventLift[] lifts)

@@ -40,7 +40,7 @@ internal sealed class SnapshotSection<TKey> : ISeriesVisitor<TKey>
     }
 
     /// <summary>Reads every series of one section, creating each from the options the engine resolves for its key.</summary>
-    public static void Read(ReadOnlyMemory<byte> bytes, ISnapshotKeyCodec<TKey> codec, Func<TKey, SeriesOptions> resolve, long arrival, List<SeriesState<TKey>> into)
+    public static void Read(ReadOnlyMemory<byte> bytes, ISnapshotKeyCodec<TKey> codec, Func<TKey, SeriesOptions> resolve, long arrival, List<SeriesState<TKey>> into, Func<TKey, SeriesOptions, EventMarks?>? marksFor = null)
     {
         var reader = new SnapshotPayloadReader(bytes);
         int count = reader.ReadInt32();
@@ -52,7 +52,9 @@ internal sealed class SnapshotSection<TKey> : ISeriesVisitor<TKey>
         for (int i = 0; i < count; i++)
         {
             TKey key = reader.ReadKey(codec);
-            var state = new SeriesState<TKey>(key, resolve(key), arrival);
+            SeriesOptions options = resolve(key);
+            var state = new SeriesState<TKey>(key, options, arrival);
+            state.SetMarks(marksFor?.Invoke(key, options));
             state.Read(reader);
             into.Add(state);
         }
