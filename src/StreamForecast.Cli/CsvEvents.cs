@@ -85,10 +85,14 @@ internal static class CsvEvents
         string Where(int column) => $"{path}, line {line}, column {at[column] + 1} ('{header[at[column]]}')";
         string Field(int column) => csv.GetString(at[column]) ?? string.Empty;
 
-        string kindText = Field(0);
-        if (EventKind.Problem(kindText) is { } kindProblem)
+        EventKind kind;
+        try
         {
-            throw new DataException($"{Where(0)}: {kindProblem}");
+            kind = EventKind.Named(Field(0));
+        }
+        catch (ArgumentException e)
+        {
+            throw new DataException($"{Where(0)}: {Short(e.Message)}");
         }
 
         DateTimeOffset start = Time(1);
@@ -98,7 +102,6 @@ internal static class CsvEvents
             throw new DataException(string.Create(CultureInfo.InvariantCulture, $"{Where(2)}: the event must end after it starts ({start:O}); the end is exclusive."));
         }
 
-        EventKind kind = EventKind.Named(kindText);
         string scope = Field(3);
         if (scope == "all")
         {
@@ -126,5 +129,11 @@ internal static class CsvEvents
 
             return time;
         }
+    }
+
+    private static string Short(string message)
+    {
+        int end = message.IndexOf(" (Parameter", StringComparison.Ordinal);
+        return end < 0 ? message : message[..end];
     }
 }
