@@ -22,7 +22,9 @@ public sealed partial class ForecastEngine<TKey>
     /// everything posted before the call. Drift episodes opened before the declaration are not rolled back; acknowledge
     /// them (<see cref="AcknowledgeAsync"/>) if they were caused by the event.</para>
     /// <para><b>Durability.</b> Declared events are part of the engine's state: snapshots and checkpoints hold them (see
-    /// <see cref="SnapshotAsync"/>). Declaring the same event twice holds it twice (withdraw it twice to remove it).</para>
+    /// <see cref="SnapshotAsync"/>). An input log holds observations only: after a crash, declarations made since the last
+    /// checkpoint are not replayed, so declare them again. Declaring the same event twice holds it twice (withdraw it
+    /// twice to remove it).</para>
     /// <para><b>Cost.</b> O(series of the partition) plus, per affected series, resolving its events and replaying its
     /// restatement window.</para>
     /// </remarks>

@@ -31,6 +31,10 @@ internal enum StepMode
 /// allocation after creation when the sink allocates nothing.</para>
 /// <para><b>Warm-up.</b> Until the method is warm, periods are taken unscored and updates carry NaN forecasts; drift rules
 /// see only scored periods.</para>
+/// <para><b>Known events.</b> A period marked by a known event (<see cref="KnownEvent{TKey}"/>) is published with
+/// <see cref="ForecastUpdate{TKey}.Event"/> set and is not scored: the error statistics and the drift rules do not see it.
+/// Its actual and the forecast made for it are added to its kind's <see cref="EventLift"/>; when the event keeps it out of
+/// the model, the method learns that forecast instead of the actual. A series without events pays one null check.</para>
 /// <para><b>Bad input.</b> An actual the method refuses (outside its domain) is reported to the sink as a
 /// <see cref="SeriesFaultKind.ActualRejected"/> fault and the step is left exactly as it was.</para>
 /// <para><b>Thread safety.</b> Not thread-safe: one owner closes the periods of a series, in order.</para>
