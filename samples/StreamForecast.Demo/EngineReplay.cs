@@ -16,10 +16,10 @@ namespace StreamForecast.Demo;
 internal static class EngineReplay
 {
     /// <summary>The engine counters of the whole replay, and every forecast update and alert transition of the charted series.</summary>
-    public sealed record ReplayOutcome(EngineCounters Counters, List<ForecastUpdate<string>> ChartUpdates, List<DriftAlert<string>> ChartAlerts);
+    public sealed record ReplayOutcome(EngineCounters Counters, List<ForecastUpdate<string>> ChartUpdates, List<DriftAlert<string>> ChartAlerts, IReadOnlyList<EventLift> Lift);
 
-    private static readonly TimeZoneInfo s_zone = TimeZoneInfo.FindSystemTimeZoneById("Europe/Dublin");
-    private static readonly DateOnly s_firstDay = new(2025, 1, 6); // a Monday
+    private static readonly TimeZoneInfo s_zone = DemoSetup.Zone;
+    private static readonly DateOnly s_firstDay = DemoSetup.FirstDay;
 
     /// <summary>
     /// Replays every day through the engine, so each series' method and error statistics have a year of history
@@ -32,8 +32,8 @@ internal static class EngineReplay
         var showFrom = new DateTimeOffset(shownLocal, s_zone.GetUtcOffset(shownLocal));
         var chartUpdates = new List<ForecastUpdate<string>>();
         var chartAlerts = new List<DriftAlert<string>>();
-        List<Observation<string>> events = Events(series, fromDay);
-        ForecastEngineOptions<string> options = Options(methods);
+        List<Observation<string>> events = DemoSetup.Events(series, fromDay);
+        ForecastEngineOptions<string> options = DemoSetup.Options(methods, DemoSetup.PromotionCalendar());
         string checkpoints = Path.Combine(Path.GetTempPath(), "streamforecast-demo-" + Environment.ProcessId.ToString(CultureInfo.InvariantCulture));
         using var store = new FileCheckpointStore(checkpoints);
         try
@@ -59,6 +59,7 @@ internal static class EngineReplay
             log.WriteLine($"-- checkpoint saved at event {half:N0} of {events.Count:N0}; engine stopped and restored from it --");
             (engine, position) = await ForecastEngine.RestoreAsync(store, options, SnapshotKeyCodecs.Utf8String);
             var latest = new Dictionary<string, ForecastUpdate<string>>(StringComparer.Ordinal);
+            IReadOnlyList<EventLift> lift;
             using (engine.Alerts.Subscribe(new AlertPrinter(log, showFrom, () => Interlocked.Increment(ref alerts))))
             using (engine.Forecasts.Subscribe(new LatestForecast(latest)))
             using (engine.Forecasts.Subscribe(new KeyRecorder<ForecastUpdate<string>>(u => u.Key == chartKey && u.PeriodStart >= showFrom, chartUpdates)))
@@ -72,6 +73,7 @@ internal static class EngineReplay
                 // The shops' last day is over: close it everywhere, including series with no sale that day.
                 DateTime end = s_firstDay.AddDays(series[0].Daily.Length).ToDateTime(TimeOnly.MinValue);
                 await engine.AdvanceAsync(new DateTimeOffset(end, s_zone.GetUtcOffset(end)));
+                lift = await engine.GetEventLiftAsync();
                 await engine.DisposeAsync();
             }
 
@@ -80,7 +82,7 @@ internal static class EngineReplay
             {
                 lock (chartAlerts)
                 {
-                    return new ReplayOutcome(Sum(first, engine.GetCounters()), [.. chartUpdates], [.. chartAlerts]);
+                    return new ReplayOutcome(Sum(first, engine.GetCounters()), [.. chartUpdates], [.. chartAlerts], lift);
                 }
             }
         }
@@ -95,71 +97,6 @@ internal static class EngineReplay
         a.Rejected + b.Rejected, a.PeriodsClosed + b.PeriodsClosed, a.GapPeriods + b.GapPeriods, a.RejectedActuals + b.RejectedActuals,
         a.AlertsRaised + b.AlertsRaised, a.AlertsEscalated + b.AlertsEscalated, a.AlertsCleared + b.AlertsCleared, a.Evictions + b.Evictions,
         b.ActiveSeries, b.QueueDepth, a.SubscriberDrops + b.SubscriberDrops, a.SubscriberFaults + b.SubscriberFaults);
-
-    private static ForecastEngineOptions<string> Options(IReadOnlyDictionary<string, ForecasterOptions> methods)
-    {
-        // Shop days in local time, with events allowed 3 hours late; a late sale restates up to 2 closed days.
-        // Two rules whose false-alarm rate does not grow with the length of the series: a CUSUM on standardized errors
-        // (h = 5: about one false alarm per 465 in-control days, Montgomery) and Trigg's smoothed signal at 0.7 (above
-        // its simulated 99% point for β = 0.1). A cumulative RSFE/MAD signal drifts like √n on unbiased errors, so
-        // its limits need calibrating per method before it is used for paging.
-        DriftRuleOptions[] rules =
-        [
-            new CusumRuleOptions(decisionInterval: 5, warmUpPeriods: 28, periodsToClear: 7),
-            new TriggSignalRuleOptions(limit: 0.7, warmUpPeriods: 28, periodsToClear: 7),
-        ];
-        SeriesOptions Make(ForecasterOptions method) => new(
-            method,
-            PeriodCalendar.Daily(s_zone),
-            new LatenessPolicy(TimeSpan.FromHours(3), restatementPeriods: 2),
-            GapPolicy.Zero,
-            tracking: new Tracking.ErrorTrackerOptions(seasonLength: 7),
-            rules: [.. rules],
-            horizon: 7);
-
-        var perKey = methods.ToDictionary(kv => kv.Key, kv => Make(kv.Value), StringComparer.Ordinal);
-        return new ForecastEngineOptions<string>(
-            Make(new MovingAverageOptions(7)),
-            seriesOverrides: key => perKey.GetValueOrDefault(key),
-            keyComparer: StringComparer.Ordinal,
-            partitions: 2,
-            timeProvider: new FixedClock(new DateTimeOffset(2027, 1, 31, 0, 0, 0, TimeSpan.Zero)),
-            publishing: new PublishingOptions(subscriberCapacity: 200_000));
-    }
-
-    /// <summary>Splits each day's total into a few sales between 07:00 and 19:00 local time; a few arrive late or twice.</summary>
-    private static List<Observation<string>> Events(IReadOnlyList<BakerySeries> series, int fromDay)
-    {
-        var rng = new Random(7);
-        var byTime = new List<(DateTimeOffset Arrival, Observation<string> Event)>();
-        foreach (BakerySeries s in series)
-        {
-            for (int d = fromDay; d < s.Daily.Length; d++)
-            {
-                int units = (int)s.Daily[d];
-                DateTime day = s_firstDay.AddDays(d).ToDateTime(TimeOnly.MinValue);
-                int sales = Math.Min(units, 1 + rng.Next(6));
-                for (int k = 0; k < sales; k++)
-                {
-                    int quantity = k == sales - 1 ? units - ((sales - 1) * (units / sales)) : units / sales;
-                    DateTime local = day.AddHours(7).AddMinutes(rng.Next(12 * 60));
-                    var when = new DateTimeOffset(local, s_zone.GetUtcOffset(local));
-                    var sale = new Observation<string>(s.Key, when, quantity, $"{s.Key}#{d}#{k}");
-                    double r = rng.NextDouble();
-                    DateTimeOffset arrival = r < 0.01 ? when.AddHours(2)       // a till that syncs late, within the lateness
-                        : r < 0.013 ? when.AddHours(20)                          // synced next day: restates the closed day
-                        : when;
-                    byTime.Add((arrival, sale));
-                    if (rng.NextDouble() < 0.005)
-                    {
-                        byTime.Add((arrival.AddMinutes(1), sale)); // redelivered: ignored by event id
-                    }
-                }
-            }
-        }
-
-        return byTime.OrderBy(e => e.Arrival).Select(e => e.Event).ToList();
-    }
 
     private static void PrintLatest(Dictionary<string, ForecastUpdate<string>> latest)
     {
@@ -246,11 +183,5 @@ internal static class EngineReplay
                 }
             }
         }
-    }
-
-    /// <summary>The demo replays history, so the engine's clock (used for its future-time check) stands after the data.</summary>
-    private sealed class FixedClock(DateTimeOffset now) : TimeProvider
-    {
-        public override DateTimeOffset GetUtcNow() => now;
     }
 }

@@ -4,6 +4,7 @@ using Spectre.Console;
 using StreamForecast.Demo;
 using StreamForecast.Forecasting;
 using StreamForecast.Selection;
+using StreamForecast.Streaming;
 
 // The main demo: an invented chain of three bakeries ("Crumb Lane"), two years of daily sales per item.
 // 1. Tune a method per series on the first year with SeriesTuner (fit on its first half, rolling-origin backtest on the rest).
@@ -42,12 +43,26 @@ root.SetAction(async (parse, cancellationToken) =>
 
     var chosen = tuned.ToDictionary(t => t.Key, t => t.Value.Method, StringComparer.Ordinal);
     AnsiConsole.WriteLine();
+    foreach (KnownEvent<string> known in DemoSetup.PromotionEvents())
+    {
+        AnsiConsole.MarkupLine(
+            "Known event declared before the replay: [bold]{0}[/] for {1}, {2:yyyy-MM-dd} to {3:yyyy-MM-dd} (kept out of the error statistics, the drift rules and the model's learning).",
+            Markup.Escape(known.Kind.Name), Markup.Escape(known.Key!), known.Start, known.End.AddDays(-1));
+    }
+
     AnsiConsole.MarkupLine("[bold]Streaming replay[/]: both years as individual sale events, each series on its tuned method (the first year warms it up); second-year drift-alert transitions as they are published:");
     var replay = await EngineReplay.RunAsync(series, chosen, showFromDay: firstYear, Console.Out, chartKey);
     var counters = replay.Counters;
     AnsiConsole.MarkupLine(
         "Engine counters (both years): {0:N0} events, {1:N0} days closed, {2} duplicates ignored, {3} late sales restated a closed day, {4} too late, {5} alerts raised, {6} cleared.",
         counters.Observations, counters.PeriodsClosed, counters.Duplicates, counters.Restated, counters.Late, counters.AlertsRaised, counters.AlertsCleared);
+
+    foreach (EventLift lift in replay.Lift)
+    {
+        AnsiConsole.MarkupLine(
+            "Observed during {0}: {1} days, actual {2:N0} against {3:N0} forecast, lift {4:0.00}× (actual ÷ forecast), {5:+0.0;-0.0} units a day.",
+            Markup.Escape(lift.Kind.Name), lift.Periods, lift.ActualTotal, lift.ForecastTotal, lift.Ratio, lift.MeanDifference);
+    }
 
     string chartPath = Path.GetFullPath(parse.GetValue(chart)!);
     DemoChart.Save(chartPath, $"{chartKey} ({chosen[chartKey].MethodName}): second year, one-step forecast with 80% interval", replay.ChartUpdates, replay.ChartAlerts);

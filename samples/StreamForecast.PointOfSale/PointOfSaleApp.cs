@@ -54,6 +54,10 @@ public static class PointOfSaleApp
                 tracking: new ErrorTrackerOptions(seasonLength: 7),
                 rules: [new CusumRuleOptions(decisionInterval: 5, warmUpPeriods: 14, periodsToClear: 5)]);
             o.KeyComparer = StringComparer.Ordinal;
+
+            // The promotion week is planned, so it is declared before the run: its days are marked on the forecasts,
+            // not scored, kept out of the drift rule and the model, and their lift is measured. Shops group the series.
+            o.Events = new EventCalendar<string>([CrumbLaneTills.PromotionWeek()], EventGroups.ByKeyPrefix('/'));
             o.FullMode = IngestionFullMode.Wait;
         });
         builder.Services.AddSingleton(sp => new SalesBoard(sp.GetRequiredService<HostedForecastEngine<string>>(), ShopZone));

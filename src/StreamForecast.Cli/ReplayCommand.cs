@@ -14,17 +14,24 @@ internal static class ReplayCommand
     {
         var forecastsOut = new Option<string>("--forecasts-out") { Description = "Where to write the forecasts CSV.", DefaultValueFactory = _ => "forecasts.csv" };
         var alertsOut = new Option<string>("--alerts-out") { Description = "Where to write the alert transitions CSV.", DefaultValueFactory = _ => "alerts.csv" };
+        var events = new Option<string?>("--events")
+        {
+            Description = "A CSV of known events (columns kind,start,end,scope; scope is all, group:NAME or series:KEY; same delimiter and time format as the input): their periods are marked, not scored and kept out of the drift rules and the model.",
+        };
         var command = new Command("replay", "Replay observations through the streaming engine; write forecasts and alert transitions to CSV and print a summary per series.");
         common.AddInputOptions(command);
-        foreach (Option option in new Option[] { common.Lateness, common.Method, common.Config, common.Rules, common.ReferenceMethod, common.Season, common.Horizon, forecastsOut, alertsOut })
+        foreach (Option option in new Option[] { common.Lateness, common.Method, common.Config, common.Rules, common.ReferenceMethod, common.Season, common.Horizon, events, forecastsOut, alertsOut })
         {
             command.Options.Add(option);
         }
 
         command.SetAction((parse, cancellationToken) => Cli.Guard(async () =>
         {
-            ReplaySettings settings = SettingsOf(common, parse);
             CsvLayout layout = common.Layout(parse);
+            ReplaySettings settings = SettingsOf(common, parse) with
+            {
+                Events = parse.GetValue(events) is { } eventsPath ? CsvEvents.Read(eventsPath, layout) : null,
+            };
             CsvReadResult read = ProgressDisplay.Run("Reading", p => CsvObservations.Read(parse.GetValue(common.Input)!, layout, p));
             Output.ReportSkipped(read);
             ReplayResult result = await ProgressDisplay.RunAsync("Replaying", p => ReplayRunner.RunAsync(read.Rows, settings, p, cancellationToken)).ConfigureAwait(false);
@@ -38,6 +45,13 @@ internal static class ReplayCommand
             AnsiConsole.MarkupLine(
                 "Engine: {0:N0} events, {1:N0} periods closed, {2:N0} duplicates, {3:N0} late restated, {4:N0} too late, {5:N0} rejected, {6:N0} period actuals refused, {7} alerts raised, {8} cleared.",
                 c.Observations, c.PeriodsClosed, c.Duplicates, c.Restated, c.Late, c.Rejected + c.Dropped, c.RejectedActuals, c.AlertsRaised, c.AlertsCleared);
+            foreach (EventLift lift in result.Lift)
+            {
+                AnsiConsole.MarkupLine(
+                    "Known events, {0}: {1:N0} periods, actual {2} against forecast {3}, lift {4} (actual ÷ forecast).",
+                    Markup.Escape(lift.Kind.Name), lift.Periods, Output.F(lift.ActualTotal), Output.F(lift.ForecastTotal), Output.F(lift.Ratio));
+            }
+
             foreach (SeriesFault<string> fault in result.Faults.Take(5))
             {
                 AnsiConsole.MarkupLine("[yellow]Series fault[/] {0}: {1}", Markup.Escape(fault.Key), Markup.Escape(fault.Message));
@@ -65,13 +79,13 @@ internal static class ReplayCommand
 
     private static void WriteForecasts(string path, List<ForecastUpdate<string>> forecasts)
     {
-        string[] header = ["key", "period_start", "actual", "imputed", "forecast", "error", "next", "next_lower", "next_upper", "horizon", "at_horizon", "at_horizon_lower", "at_horizon_upper", "mad", "tracking_signal", "trigg_signal", "method", "restatement"];
+        string[] header = ["key", "period_start", "actual", "imputed", "forecast", "error", "next", "next_lower", "next_upper", "horizon", "at_horizon", "at_horizon_lower", "at_horizon_upper", "mad", "tracking_signal", "trigg_signal", "method", "restatement", "event"];
         Output.WriteCsv(path, header, forecasts.OrderBy(f => f.Key, StringComparer.Ordinal).ThenBy(f => f.Period), f =>
         [
             f.Key, f.PeriodStart.ToString("O", CultureInfo.InvariantCulture), Output.R(f.Actual), f.IsImputed ? "1" : "0",
             Output.R(f.ForecastForPeriod), Output.R(f.Error), Output.R(f.Next.Value), Output.R(f.Next.Lower), Output.R(f.Next.Upper),
             f.AtHorizon.Horizon.ToString(CultureInfo.InvariantCulture), Output.R(f.AtHorizon.Value), Output.R(f.AtHorizon.Lower), Output.R(f.AtHorizon.Upper),
-            Output.R(f.Errors.Mad), Output.R(f.Errors.TrackingSignal), Output.R(f.Errors.TriggSignal), f.Method, f.IsRestatement ? "1" : "0",
+            Output.R(f.Errors.Mad), Output.R(f.Errors.TrackingSignal), Output.R(f.Errors.TriggSignal), f.Method, f.IsRestatement ? "1" : "0", f.Event?.Name ?? string.Empty,
         ]);
     }
 

@@ -16,14 +16,16 @@ internal sealed record ReplaySettings(
     IReadOnlyList<DriftRuleOptions> Rules,
     int SeasonLength,
     int Horizon,
-    Func<ForecasterOptions, ForecasterOptions?> ReferenceOf);
+    Func<ForecasterOptions, ForecasterOptions?> ReferenceOf,
+    IReadOnlyList<KnownEvent<string>>? Events = null);
 
 /// <summary>What a replay produced.</summary>
 internal sealed record ReplayResult(
     List<ForecastUpdate<string>> Forecasts,
     List<DriftAlert<string>> Alerts,
     List<SeriesFault<string>> Faults,
-    EngineCounters Counters);
+    EngineCounters Counters,
+    IReadOnlyList<EventLift> Lift);
 
 /// <summary>
 /// Posts observations, in file order, through a <see cref="ForecastEngine{TKey}"/> and collects what it publishes. The
@@ -61,12 +63,14 @@ internal static class ReplayRunner
             keyComparer: StringComparer.Ordinal,
             timeProvider: new FixedClock(last),
             maxEventTimeAhead: Timeout.InfiniteTimeSpan,
-            publishing: new PublishingOptions(subscriberCapacity: 10_000_000));
+            publishing: new PublishingOptions(subscriberCapacity: 10_000_000),
+            events: settings.Events is { Count: > 0 } known ? new EventCalendar<string>(known, EventGroups.ByKeyPrefix(CsvLayout.KeySeparator[0])) : null);
 
         var forecasts = new Collector<ForecastUpdate<string>>();
         var alerts = new Collector<DriftAlert<string>>();
         var faults = new Collector<SeriesFault<string>>();
         var engine = new ForecastEngine<string>(options);
+        IReadOnlyList<EventLift> lift = [];
         using (engine.Forecasts.Subscribe(forecasts))
         using (engine.Alerts.Subscribe(alerts))
         using (engine.Faults.Subscribe(faults))
@@ -89,6 +93,8 @@ internal static class ReplayRunner
                     long lastPeriod = settings.Calendar.PeriodOf(last);
                     await engine.AdvanceAsync(settings.Calendar.EndOf(lastPeriod), cancellationToken).ConfigureAwait(false);
                 }
+
+                lift = await engine.GetEventLiftAsync(cancellationToken).ConfigureAwait(false);
             }
             finally
             {
@@ -96,7 +102,7 @@ internal static class ReplayRunner
             }
         }
 
-        return new ReplayResult(forecasts.Items(), alerts.Items(), faults.Items(), engine.GetCounters());
+        return new ReplayResult(forecasts.Items(), alerts.Items(), faults.Items(), engine.GetCounters(), lift);
     }
 
     private sealed class Collector<T> : IObserver<T>

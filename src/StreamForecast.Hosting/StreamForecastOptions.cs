@@ -90,6 +90,13 @@ public sealed class StreamForecastOptions<TKey>
     /// </summary>
     public Func<IServiceProvider, IInputLog>? InputLogFactory { get; set; }
 
+    /// <summary>
+    /// Known events declared before the run (promotions, closures...) and how series form groups (see
+    /// <see cref="ForecastEngineOptions{TKey}.Events"/>); set in code. Events learnt during the run are declared on the
+    /// engine (<see cref="ForecastEngine{TKey}.DeclareEventAsync"/>) and kept in its checkpoints. Default none.
+    /// </summary>
+    public EventCalendar<TKey>? Events { get; set; }
+
     /// <summary>Whether an input log is configured (a factory, or the SQLite log enabled).</summary>
     internal bool HasInputLog => InputLogFactory is not null || (InputLog?.Enabled ?? false);
 
@@ -110,5 +117,6 @@ public sealed class StreamForecastOptions<TKey>
         MaxSeries,
         EvictAfterQuietPeriods,
         IdleCheckInterval,
-        new PublishingOptions(SubscriberCapacity, ReaderCapacity));
+        new PublishingOptions(SubscriberCapacity, ReaderCapacity),
+        Events);
 }

@@ -121,7 +121,27 @@ public static class Backtester
     /// engine's, field by field (tested). O(1) per period plus the method's update; allocation per output is the sink's.</para>
     /// <para><b>Thread safety.</b> Pure over its arguments; the sink is called from the calling thread only.</para>
     /// </remarks>
-    public static SeriesStep<TKey> Replay<TKey>(TKey key, ReadOnlySpan<double> periodTotals, long firstPeriod, SeriesOptions options, ISeriesSink<TKey> sink)
+    public static SeriesStep<TKey> Replay<TKey>(TKey key, ReadOnlySpan<double> periodTotals, long firstPeriod, SeriesOptions options, ISeriesSink<TKey> sink) =>
+        Replay(key, periodTotals, firstPeriod, options, null, sink);
+
+    /// <summary>
+    /// Runs the engine's own per-period step over a history of period totals, as <see cref="Replay{TKey}(TKey, ReadOnlySpan{double}, long, SeriesOptions, ISeriesSink{TKey})"/>,
+    /// with known events marking periods exactly as an engine given the same <see cref="EventCalendar{TKey}"/> marks them:
+    /// marked periods are published with <see cref="ForecastUpdate{TKey}.Event"/>, kept out of the error statistics and
+    /// drift rules, and their lift is summed per kind (read it with <see cref="SeriesStep{TKey}.GetEventLift"/> on the result).
+    /// </summary>
+    /// <typeparam name="TKey">The series key type.</typeparam>
+    /// <param name="key">The key carried on the outputs (and matched against series and group events; keys compared with <see cref="EqualityComparer{T}.Default"/>).</param>
+    /// <param name="periodTotals">One total per period in order; NaN marks a gap. Other values must lie inside <see cref="NumericDomain"/>.</param>
+    /// <param name="firstPeriod">The number, in the options' calendar, of the first period.</param>
+    /// <param name="options">The series options the engine would run.</param>
+    /// <param name="events">The known events (null: none).</param>
+    /// <param name="sink">Receives the outputs in period order.</param>
+    /// <returns>The step after the last period, with its event lift.</returns>
+    /// <exception cref="ArgumentNullException"><paramref name="options"/> or <paramref name="sink"/> is null.</exception>
+    /// <exception cref="ArgumentOutOfRangeException">A total is infinite or outside <see cref="NumericDomain"/>; nothing was sent.</exception>
+    /// <remarks>Outputs identical to the engine's for events declared before the run (tested). Thread safety: as the overload without events.</remarks>
+    public static SeriesStep<TKey> Replay<TKey>(TKey key, ReadOnlySpan<double> periodTotals, long firstPeriod, SeriesOptions options, EventCalendar<TKey>? events, ISeriesSink<TKey> sink)
     {
         ArgumentNullException.ThrowIfNull(options);
         ArgumentNullException.ThrowIfNull(sink);
@@ -135,7 +155,7 @@ public static class Backtester
             }
         }
 
-        var step = new SeriesStep<TKey>(key, options);
+        var step = new SeriesStep<TKey>(key, options, events);
         for (int t = 0; t < periodTotals.Length; t++)
         {
             double total = periodTotals[t];

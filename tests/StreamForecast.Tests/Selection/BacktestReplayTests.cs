@@ -115,6 +115,56 @@ public sealed class BacktestReplayTests
     }
 
     [Fact]
+    public void Replay_RandomHistoriesWithKnownEvents_PublishesExactlyWhatTheEngineDoes() =>
+        PropertyCases.Check(
+            Prop.ForAll(
+                Gen.Choose(0, s_options.Length - 1).ToArbitrary(),
+                History.ToArbitrary(),
+                Gen.Choose(0, 89).SelectMany(day => Gen.Choose(1, 10).SelectMany(length => Gen.Elements(true, false).Select(keep => (day, length, keep)))).ArrayOf().ToArbitrary(),
+                (which, history, spans) => Same(s_options[which], history, spans)),
+            Math.Max(200, PropertyCases.PerFamily / 20));
+
+    private static bool Same(SeriesOptions series, double[] history, (int Day, int Length, bool Keep)[] spans)
+    {
+        var start = new DateTimeOffset(2026, 1, 5, 0, 0, 0, TimeSpan.Zero);
+        EventKind[] kinds = [EventKind.Promotion, EventKind.Closure, EventKind.Named("street fair")];
+        var events = new EventCalendar<string>(
+            spans.Select((s, i) => i % 2 == 0
+                ? KnownEvent.ForSeries("bakery/rye", kinds[i % 3], start.AddDays(s.Day), start.AddDays(s.Day + s.Length), s.Keep)
+                : KnownEvent.ForGroup<string>("bakery", kinds[i % 3], start.AddDays(s.Day).AddHours(5), start.AddDays(s.Day + s.Length), s.Keep)),
+            EventGroups.ByKeyPrefix('/'));
+        long first = s_days.PeriodOf(start);
+        var sink = new ListSink();
+        SeriesStep<string> step = Backtester.Replay("bakery/rye", history, first, series, events, sink);
+
+        var engineOptions = new ForecastEngineOptions<string>(series, partitions: 1, timeProvider: new FakeTimeProvider(start.AddYears(1)),
+            maxEventTimeAhead: Timeout.InfiniteTimeSpan, publishing: new PublishingOptions(100_000, 100_000), events: events);
+        var engine = new ForecastEngine<string>(engineOptions);
+        var recorder = EngineRecorder<string>.Attach(engine);
+        IReadOnlyList<EventLift> lift = Task.Run(async () =>
+        {
+            for (int t = 0; t < history.Length; t++)
+            {
+                if (!double.IsNaN(history[t]))
+                {
+                    await engine.PostAsync(new Observation<string>("bakery/rye", start.AddDays(t).AddHours(9), history[t]));
+                }
+            }
+
+            await engine.FlushAsync();
+            IReadOnlyList<EventLift> sums = await engine.GetEventLiftAsync();
+            await engine.DisposeAsync();
+            return sums;
+        }).GetAwaiter().GetResult();
+
+        Assert.Equal(recorder.Forecasts, sink.Forecasts);
+        Assert.Equal(recorder.Alerts, sink.Alerts);
+        Assert.Equal(recorder.Faults, sink.Faults);
+        Assert.Equal(lift, step.GetEventLift().OrderBy(l => l.Kind.Name, StringComparer.Ordinal));
+        return true;
+    }
+
+    [Fact]
     public void Replay_TotalOutsideTheDomain_ThrowsBeforeSendingAnything()
     {
         var sink = new ListSink();

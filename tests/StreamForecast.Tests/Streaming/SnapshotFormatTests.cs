@@ -147,12 +147,12 @@ public sealed class SnapshotFormatTests
     public void Read_UnsupportedVersion_MessageNamesBothVersions()
     {
         (byte[] bytes, _) = Sample();
-        BinaryPrimitives.WriteUInt16LittleEndian(bytes.AsSpan(4), 3);
+        BinaryPrimitives.WriteUInt16LittleEndian(bytes.AsSpan(4), 4); // 3 is the version with known-event state
 
         var ex = Assert.Throws<InvalidDataException>(() => SnapshotFormat.Read(new MemoryStream(bytes)));
 
-        Assert.Contains("format version 3", ex.Message, StringComparison.Ordinal);
-        Assert.Contains("reads version 2 only", ex.Message, StringComparison.Ordinal);
+        Assert.Contains("format version 4", ex.Message, StringComparison.Ordinal);
+        Assert.Contains("reads versions 2 and 3 only", ex.Message, StringComparison.Ordinal);
     }
 
     [Fact]
@@ -165,7 +165,7 @@ public sealed class SnapshotFormatTests
         var ex = Assert.Throws<InvalidDataException>(() => SnapshotFormat.Read(new MemoryStream(bytes)));
 
         Assert.Contains("format version 1", ex.Message, StringComparison.Ordinal);
-        Assert.Contains("reads version 2 only", ex.Message, StringComparison.Ordinal);
+        Assert.Contains("reads versions 2 and 3 only", ex.Message, StringComparison.Ordinal);
     }
 
     [Fact]

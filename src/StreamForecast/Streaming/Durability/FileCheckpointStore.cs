@@ -93,7 +93,7 @@ public sealed class FileCheckpointStore : ICheckpointStore, IAsyncDisposable, ID
                 var stream = new FileStream(tempPath, FileMode.Create, FileAccess.Write, FileShare.None, bufferSize: 0, FileOptions.Asynchronous);
                 await using (stream.ConfigureAwait(false))
                 {
-                    await SnapshotFormat.WriteAsync(stream, inputPosition, [snapshot], cancellationToken).ConfigureAwait(false);
+                    await SnapshotFormat.WriteAsync(stream, inputPosition, [snapshot], cancellationToken: cancellationToken).ConfigureAwait(false);
                     stream.Flush(flushToDisk: true);
                 }
 

@@ -29,8 +29,8 @@ public static class ForecastEngine
         using var buffer = new MemoryStream();
         await source.CopyToAsync(buffer, cancellationToken).ConfigureAwait(false);
         buffer.Position = 0;
-        (List<SeriesState<TKey>> series, long inputPosition) = ReadSnapshot(buffer, options, keyCodec);
-        return new RestoredEngine<TKey>(new ForecastEngine<TKey>(options, series), inputPosition);
+        (List<SeriesState<TKey>> series, long inputPosition, List<KnownEvent<TKey>> declared) = ReadSnapshotWithEvents(buffer, options, keyCodec);
+        return new RestoredEngine<TKey>(new ForecastEngine<TKey>(options, series, declared), inputPosition);
     }
 
     /// <summary>
@@ -39,6 +39,14 @@ public static class ForecastEngine
     /// </summary>
     /// <exception cref="InvalidDataException">The snapshot is corrupted, truncated, of another version, does not fit the options, or holds a state no run can reach.</exception>
     internal static (List<SeriesState<TKey>> Series, long InputPosition) ReadSnapshot<TKey>(Stream source, ForecastEngineOptions<TKey> options, ISnapshotKeyCodec<TKey> keyCodec)
+        where TKey : notnull
+    {
+        (List<SeriesState<TKey>> series, long position, _) = ReadSnapshotWithEvents(source, options, keyCodec);
+        return (series, position);
+    }
+
+    /// <summary>As <see cref="ReadSnapshot"/>, also returning the known events declared at run time (version 3 snapshots).</summary>
+    internal static (List<SeriesState<TKey>> Series, long InputPosition, List<KnownEvent<TKey>> Declared) ReadSnapshotWithEvents<TKey>(Stream source, ForecastEngineOptions<TKey> options, ISnapshotKeyCodec<TKey> keyCodec)
         where TKey : notnull
     {
         SnapshotContent content = SnapshotFormat.Read(source);
@@ -50,12 +58,26 @@ public static class ForecastEngine
         var series = new List<SeriesState<TKey>>();
         long arrival = options.TimeProvider.GetTimestamp();
         var seen = new HashSet<TKey>(options.KeyComparer);
+        List<KnownEvent<TKey>> declared = [];
         try
         {
-            for (int i = 1; i < content.Sections.Count; i++)
+            bool withEvents = content.Version == SnapshotFormat.EventsVersion;
+            if (withEvents && content.Sections.Count < 2)
             {
-                SnapshotSection<TKey>.Read(content.Sections[i], keyCodec, options.Resolve, arrival, series);
+                throw new InvalidDataException("The version 3 snapshot lacks its known-event section.");
             }
+
+            SnapshotEvents.Content<TKey>? events = withEvents ? SnapshotEvents.Read(content.Sections[^1], keyCodec) : null;
+            declared = events?.Declared ?? [];
+            int partitionSections = withEvents ? content.Sections.Count - 1 : content.Sections.Count;
+            for (int i = 1; i < partitionSections; i++)
+            {
+                // Each series is marked before its state is read, so the restore check replays its window as it ran.
+                SnapshotSection<TKey>.Read(content.Sections[i], keyCodec, options.Resolve, arrival, series,
+                    (key, o) => EventCalendar<TKey>.MarksFor(key, o.Calendar, options.Events, declared, options.KeyComparer));
+            }
+
+            events?.ApplyLifts(series, options.KeyComparer);
         }
         catch (Exception ex) when (ex is EndOfStreamException or ArgumentException or FormatException or OverflowException)
         {
@@ -75,7 +97,7 @@ public static class ForecastEngine
             throw new InvalidDataException($"The snapshot holds {series.Count} series, more than the limit of {options.MaxSeries}.");
         }
 
-        return (series, content.InputPosition);
+        return (series, content.InputPosition, declared);
     }
 
     /// <summary>

@@ -9,7 +9,8 @@ public sealed partial class ForecastEngine<TKey>
 {
     /// <summary>
     /// Writes a snapshot of every series (forecaster, error statistics, drift rules, open periods, restatement window,
-    /// remembered event ids) with the caller's input position, in a versioned, checksummed format.
+    /// remembered event ids, known events declared at run time and the event lift) with the caller's input position, in a
+    /// versioned, checksummed format (version 2, or 3 when the engine holds known-event state).
     /// </summary>
     /// <param name="destination">Where to write.</param>
     /// <param name="keyCodec">How keys are written (see <see cref="SnapshotKeyCodecs"/>).</param>
@@ -24,7 +25,7 @@ public sealed partial class ForecastEngine<TKey>
         var waits = new Task[_partitions.Length];
         for (int i = 0; i < _partitions.Length; i++)
         {
-            sections[i] = new SnapshotSection<TKey>(keyCodec);
+            sections[i] = new SnapshotSection<TKey>(keyCodec) { First = i == 0 };
             var done = new TaskCompletionSource(TaskCreationOptions.RunContinuationsAsynchronously);
             waits[i] = SendAsync(_partitions[i], new Partition<TKey>.Message(MessageKind.Visit, default, 0, default, done, sections[i]), done, cancellationToken);
         }
@@ -36,7 +37,15 @@ public sealed partial class ForecastEngine<TKey>
             parts.Add(s.Bytes);
         }
 
-        await SnapshotFormat.WriteAsync(destination, inputPosition, parts, cancellationToken).ConfigureAwait(false);
+        // Known-event state (declarations at run time, lift) goes into one last section, and only then is the format
+        // version 3: an engine without it writes exactly the version 2 bytes.
+        byte[]? events = SnapshotEvents.Write(Array.ConvertAll(sections, static s => s.Events!), keyCodec);
+        if (events is not null)
+        {
+            parts.Add(events);
+        }
+
+        await SnapshotFormat.WriteAsync(destination, inputPosition, parts, events is null ? SnapshotFormat.CurrentVersion : SnapshotFormat.EventsVersion, cancellationToken).ConfigureAwait(false);
     }
 
     /// <summary>Takes a snapshot (see <see cref="SnapshotAsync"/>) and saves it in a checkpoint store.</summary>

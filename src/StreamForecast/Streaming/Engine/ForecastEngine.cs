@@ -57,7 +57,7 @@ public sealed partial class ForecastEngine<TKey> : IForecastEngine<TKey>
     {
     }
 
-    internal ForecastEngine(ForecastEngineOptions<TKey> options, List<SeriesState<TKey>>? restored)
+    internal ForecastEngine(ForecastEngineOptions<TKey> options, List<SeriesState<TKey>>? restored, List<KnownEvent<TKey>>? declared = null)
     {
         ArgumentNullException.ThrowIfNull(options);
         Options = options;
@@ -68,6 +68,25 @@ public sealed partial class ForecastEngine<TKey> : IForecastEngine<TKey>
         for (int i = 0; i < _partitions.Length; i++)
         {
             _partitions[i] = new Partition<TKey>(this, i);
+        }
+
+        if (declared is not null)
+        {
+            // Before any series is adopted, so restored series are marked by them: a series event lives on its key's partition.
+            foreach (KnownEvent<TKey> e in declared)
+            {
+                if (e.Scope == EventScope.Series)
+                {
+                    PartitionOf(e.Key!).RestoreDeclared([e]);
+                }
+                else
+                {
+                    foreach (Partition<TKey> p in _partitions)
+                    {
+                        p.RestoreDeclared([e]);
+                    }
+                }
+            }
         }
 
         if (restored is not null)

@@ -41,6 +41,10 @@ public sealed record ForecastEngineOptions<TKey>
     /// </param>
     /// <param name="idleCheckInterval">How often series with an idle timeout are checked (default 1 second; 10 ms to 1 hour).</param>
     /// <param name="publishing">Subscriber and reader buffer sizes (default <see cref="PublishingOptions.Default"/>).</param>
+    /// <param name="events">
+    /// Known events declared before the run (promotions, closures...) and how series form groups (default: none). Events
+    /// learnt during the run are declared with <see cref="ForecastEngine{TKey}.DeclareEventAsync"/>.
+    /// </param>
     /// <exception cref="ArgumentNullException"><paramref name="defaultSeries"/> is null.</exception>
     /// <exception cref="ArgumentOutOfRangeException">A number is outside its stated range.</exception>
     public ForecastEngineOptions(
@@ -56,7 +60,8 @@ public sealed record ForecastEngineOptions<TKey>
         int maxSeries = DefaultMaxSeries,
         int? evictAfterQuietPeriods = null,
         TimeSpan? idleCheckInterval = null,
-        PublishingOptions? publishing = null)
+        PublishingOptions? publishing = null,
+        EventCalendar<TKey>? events = null)
     {
         ArgumentNullException.ThrowIfNull(defaultSeries);
         int p = partitions ?? Environment.ProcessorCount;
@@ -110,6 +115,7 @@ public sealed record ForecastEngineOptions<TKey>
         EvictAfterQuietPeriods = evictAfterQuietPeriods;
         IdleCheckInterval = check;
         Publishing = publishing ?? PublishingOptions.Default;
+        Events = events;
     }
 
     /// <summary>How a series is treated unless an override says otherwise.</summary>
@@ -150,6 +156,9 @@ public sealed record ForecastEngineOptions<TKey>
 
     /// <summary>Subscriber and reader buffer sizes.</summary>
     public PublishingOptions Publishing { get; }
+
+    /// <summary>The known events declared before the run, and the group function; null when none.</summary>
+    public EventCalendar<TKey>? Events { get; }
 
     internal SeriesOptions Resolve(TKey key) => SeriesOverrides?.Invoke(key) ?? DefaultSeries;
 }

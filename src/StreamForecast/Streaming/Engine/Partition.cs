@@ -39,6 +39,9 @@ internal sealed class Partition<TKey> : ISeriesSink<TKey>, ISeriesBudget
 
     public int SeriesCount => _table.Count;
 
+    /// <summary>Takes the declared events of a restored snapshot (before any series is adopted).</summary>
+    public void RestoreDeclared(IEnumerable<KnownEvent<TKey>> declared) => _table.RestoreDeclared(declared);
+
     public void Start() => Loop = Task.Run(RunAsync);
 
     public void Adopt(SeriesState<TKey> state) => _table.Adopt(state);
@@ -123,7 +126,7 @@ internal sealed class Partition<TKey> : ISeriesSink<TKey>, ISeriesBudget
                     _table.Acknowledge(message.Observation.Key, this);
                     break;
                 case MessageKind.Visit:
-                    message.Visitor!.Visit(_table.Series);
+                    message.Visitor!.VisitTable(_table, this);
                     break;
                 case MessageKind.Barrier:
                     break;
@@ -173,4 +176,10 @@ internal interface ISeriesVisitor<TKey>
 {
     /// <summary>Called once, on the partition's loop, with every series it holds.</summary>
     void Visit(ICollection<SeriesState<TKey>> series);
+
+    /// <summary>
+    /// Called once, on the partition's loop, with the partition's series set (its series and declared events) and the
+    /// partition as the sink for any outputs; by default visits the series.
+    /// </summary>
+    void VisitTable(SeriesSet<TKey> set, ISeriesSink<TKey> sink) => Visit(set.Series);
 }

@@ -26,7 +26,7 @@ namespace StreamForecast.Streaming;
 /// (post, advance, flush, idle check, acknowledge, restore, snapshot), and the sink is called on that thread, inside the
 /// call. <see cref="Count"/> and <see cref="GetCounters"/> may be read from other threads (relaxed reads).</para>
 /// </remarks>
-public sealed class SeriesSet<TKey>
+public sealed partial class SeriesSet<TKey>
     where TKey : notnull
 {
     private readonly Dictionary<TKey, SeriesState<TKey>> _series;
@@ -69,6 +69,7 @@ public sealed class SeriesSet<TKey>
     /// <summary>Takes over a series restored from a snapshot (its slot of the series limit is already counted by the caller).</summary>
     internal void Adopt(SeriesState<TKey> state)
     {
+        state.SetMarks(MarksFor(state.Key, state.Options));
         _series.Add(state.Key, state);
         _count = _series.Count;
         if (state.Options.IdleTimeout is not null)
@@ -151,7 +152,13 @@ public sealed class SeriesSet<TKey>
                 return;
             }
 
+            if (!TryMarksFor(observation.Key, options, sink, out EventMarks? marks))
+            {
+                return;
+            }
+
             slot = new SeriesState<TKey>(observation.Key, options, arrival);
+            slot.SetMarks(marks);
             _count = _series.Count;
             if (options.IdleTimeout is not null)
             {

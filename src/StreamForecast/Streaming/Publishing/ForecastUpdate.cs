@@ -14,7 +14,7 @@ namespace StreamForecast.Streaming;
 /// <param name="Actual">The period's actual (the sum of its observations, or the gap value).</param>
 /// <param name="IsImputed">Whether <paramref name="Actual"/> was filled in by the gap policy rather than observed.</param>
 /// <param name="ForecastForPeriod">The forecast made for this period before it closed; NaN when there was none.</param>
-/// <param name="Error">Actual − forecast; NaN when the period was not scored.</param>
+/// <param name="Error">Actual − forecast; NaN when the period was not scored (also for a period marked by a known event, see <see cref="Event"/>).</param>
 /// <param name="Next">The forecast for the next period with its interval; <see cref="ForecastPoint.IsValid"/> is false while the method warms up.</param>
 /// <param name="AtHorizon">The forecast <see cref="SeriesOptions.Horizon"/> periods ahead with its interval.</param>
 /// <param name="Errors">The running error statistics after this period.</param>
@@ -34,4 +34,12 @@ public readonly record struct ForecastUpdate<TKey>(
     ForecastPoint AtHorizon,
     ErrorSummary Errors,
     string Method,
-    bool IsRestatement);
+    bool IsRestatement)
+{
+    /// <summary>
+    /// The kind of known event marking this period (<see cref="KnownEvent{TKey}"/>), or null for an ordinary period.
+    /// A marked period is not scored (<see cref="Error"/> is NaN, <see cref="Errors"/> and the drift rules do not see it);
+    /// <see cref="Actual"/> ÷ <see cref="ForecastForPeriod"/> is its lift.
+    /// </summary>
+    public EventKind? Event { get; init; }
+}

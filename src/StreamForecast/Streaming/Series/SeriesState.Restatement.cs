@@ -51,8 +51,16 @@ internal sealed partial class SeriesState<TKey>
         r.ClosedHas[index] = SlotHasData;
         output.Counters.Restated++;
 
-        // Roll the model back to before the oldest retained period and replay the retained periods. Drift rules are
-        // not rolled back: they keep their episodes and see the corrected statistics from the next period on.
+        RollBackAndReplay(r, index, output);
+    }
+
+    /// <summary>
+    /// Rolls the model back to before the oldest retained period and replays the retained periods, republishing those
+    /// from <paramref name="index"/> on as restatements. Drift rules are not rolled back: they keep their episodes and see
+    /// the corrected statistics from the next period on.
+    /// </summary>
+    private void RollBackAndReplay(Restatement r, int index, ISeriesOutput<TKey> output)
+    {
         _step.CopyModelFrom(r.Lag, r.Scratch);
         long first = _nextToClose - r.ClosedCount;
         for (int i = 0; i < r.ClosedCount; i++)

@@ -321,6 +321,7 @@ internal sealed partial class SeriesState<TKey>
         // back to the lagged one and replays the window. Both use the same model step, so the replay must reproduce the
         // model and its last actual bit for bit.
         var replay = new SeriesStep<TKey>(Key, _options, withRules: false);
+        replay.SetMarks(_step.Marks);
         replay.Model.ImportState(lag);
         if (lagReference is not null)
         {

@@ -35,6 +35,10 @@ internal enum StepMode
 /// the same actuals in the same step (scored when it is warm, unscored when the gap policy filled the actual in); its
 /// forecasts are never published, and its errors feed only the rules that watch it (<see cref="DriftRuleOptions.Watches"/>).
 /// It costs one more method update and an export of its state (a backup for the all-or-nothing rule below) per period.</para>
+/// <para><b>Known events.</b> A period marked by a known event (<see cref="KnownEvent{TKey}"/>) is published with
+/// <see cref="ForecastUpdate{TKey}.Event"/> set and is not scored: the error statistics and the drift rules do not see it.
+/// Its actual and the forecast made for it are added to its kind's <see cref="EventLift"/>; when the event keeps it out of
+/// the model, the method learns that forecast instead of the actual. A series without events pays one null check.</para>
 /// <para><b>Bad input.</b> An actual the method refuses (outside its domain) is reported to the sink as a
 /// <see cref="SeriesFaultKind.ActualRejected"/> fault and the step is left exactly as it was; with a reference model, an
 /// actual either model refuses is refused for both.</para>
@@ -55,6 +59,10 @@ public sealed class SeriesStep<TKey>
     private readonly DriftRule[]? _ruleArray;
     private readonly int _ruleCount;
 
+    // Known events (null for a series no event applies to): the marked periods, and the lift observed in them.
+    private EventMarks? _marks;
+    private EventLiftSums? _lift;
+
     /// <summary>Creates the step of a new series.</summary>
     /// <param name="key">The series key carried on every output.</param>
     /// <param name="options">The series options (method, gap policy, tracking, rules, horizon, interval).</param>
@@ -62,6 +70,24 @@ public sealed class SeriesStep<TKey>
     public SeriesStep(TKey key, SeriesOptions options)
         : this(key, options, withRules: true)
     {
+    }
+
+    /// <summary>Creates the step of a new series whose periods may be marked by known events.</summary>
+    /// <param name="key">The series key carried on every output.</param>
+    /// <param name="options">The series options.</param>
+    /// <param name="events">
+    /// The known events (see <see cref="KnownEvent{TKey}"/>); those that apply to <paramref name="key"/> (keys compared with
+    /// <see cref="EqualityComparer{T}.Default"/>) mark the periods of the options' calendar they overlap. Null: none.
+    /// </param>
+    /// <exception cref="ArgumentNullException"><paramref name="options"/> is null.</exception>
+    /// <remarks>Resolving the events costs O(e²) for the e events that apply to the key, once (see <see cref="EventCalendar{TKey}"/>).</remarks>
+    public SeriesStep(TKey key, SeriesOptions options, EventCalendar<TKey>? events)
+        : this(key, options, withRules: true)
+    {
+        if (events is not null)
+        {
+            _marks = EventCalendar<TKey>.MarksFor(key, options.Calendar, events, [], EqualityComparer<TKey>.Default);
+        }
     }
 
     internal SeriesStep(TKey key, SeriesOptions options, bool withRules)
@@ -113,6 +139,26 @@ public sealed class SeriesStep<TKey>
 
     /// <summary>Whether any actual has been fed to the model yet.</summary>
     public bool HasLastActual { get; internal set; }
+
+    /// <summary>
+    /// The lift observed per event kind in this series' marked periods (see <see cref="EventLift"/>), in the order the
+    /// kinds were first met; empty when no marked period has closed with a forecast.
+    /// </summary>
+    /// <returns>A fresh array.</returns>
+    /// <remarks>O(kinds); allocates the array. Not thread-safe (read it on the owner).</remarks>
+    public EventLift[] GetEventLift() => _lift?.ToArray() ?? [];
+
+    /// <summary>The marked periods now (null: none).</summary>
+    internal EventMarks? Marks => _marks;
+
+    /// <summary>The lift sums (null until a marked period closed with a forecast).</summary>
+    internal EventLiftSums? Lift => _lift;
+
+    /// <summary>Replaces the marked periods (a declaration or withdrawal at run time, a restore).</summary>
+    internal void SetMarks(EventMarks? marks) => _marks = marks;
+
+    /// <summary>Replaces the lift sums (a restore).</summary>
+    internal void SetLift(EventLiftSums? lift) => _lift = lift;
 
     /// <summary>The drift rule at <paramref name="index"/> (0 ≤ index &lt; <see cref="RuleCount"/>).</summary>
     /// <param name="index">The rule's position in the options.</param>
@@ -179,6 +225,10 @@ public sealed class SeriesStep<TKey>
 
         LastActual = source.LastActual;
         HasLastActual = source.HasLastActual;
+        if (source._lift is not null || _lift is not null)
+        {
+            (_lift ??= new EventLiftSums()).CopyFrom(source._lift);
+        }
     }
 
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
@@ -197,9 +247,32 @@ public sealed class SeriesStep<TKey>
             counters.GapPeriods++;
         }
 
+        bool keepOut = false;
         if (!ResolveActual(has, sum, out double actual, out bool scored))
         {
             return;
+        }
+
+        // A period marked by a known event is never scored: the error statistics and the drift rules do not see it. Its
+        // lift is measured against the forecast made for it, which the model learns from instead of the actual when the
+        // event keeps it out of the model (the period count and seasonal position move on as in any period).
+        EventKind? marked = _marks?.KindAt(period, out keepOut);
+        double fed = actual;
+        double eventForecast = double.NaN;
+        if (marked is not null)
+        {
+            scored = false;
+            if (_model.Forecaster.TryForecast(1, out eventForecast) && keepOut)
+            {
+                fed = eventForecast;
+            }
+        }
+
+        // The reference model keeps the same period out of its learning with its own forecast.
+        double referenceFed = actual;
+        if (marked is not null && keepOut && _reference is not null && _reference.Forecaster.TryForecast(1, out double referenceForecast))
+        {
+            referenceFed = referenceForecast;
         }
 
         PeriodScore score;
@@ -211,10 +284,10 @@ public sealed class SeriesStep<TKey>
                 // Both models take the actual or neither does: back the reference up, step it, and put it back if the
                 // published model then refuses the actual.
                 _reference.ExportState(_referenceBackup);
-                referenceScore = scored ? _reference.Update(actual) : _reference.UpdateUnscored(actual);
+                referenceScore = scored ? _reference.Update(referenceFed) : _reference.UpdateUnscored(referenceFed);
                 try
                 {
-                    score = scored ? _model.Update(actual) : _model.UpdateUnscored(actual);
+                    score = scored ? _model.Update(fed) : _model.UpdateUnscored(fed);
                 }
                 catch (ArgumentOutOfRangeException)
                 {
@@ -224,7 +297,7 @@ public sealed class SeriesStep<TKey>
             }
             else
             {
-                score = scored ? _model.Update(actual) : _model.UpdateUnscored(actual);
+                score = scored ? _model.Update(fed) : _model.UpdateUnscored(fed);
             }
         }
         catch (ArgumentOutOfRangeException ex)
@@ -242,8 +315,13 @@ public sealed class SeriesStep<TKey>
             return;
         }
 
-        LastActual = actual;
+        LastActual = fed;
         HasLastActual = true;
+        if (marked is not null && !double.IsNaN(eventForecast))
+        {
+            (_lift ??= new EventLiftSums()).Add(marked, actual, eventForecast);
+        }
+
         if (mode == StepMode.Silent)
         {
             return;
@@ -255,8 +333,8 @@ public sealed class SeriesStep<TKey>
         ForecastPoint next = Point(1);
         ForecastPoint atHorizon = _options.Horizon == 1 ? next : Point(_options.Horizon); // the same point: compute it once
         sink!.Forecast(new ForecastUpdate<TKey>(
-            _key, period, start, actual, !has, score.Forecast, score.Error,
-            next, atHorizon, errors, _model.Forecaster.ActiveMethodName ?? _options.MethodLabel, restated));
+            _key, period, start, actual, !has, marked is null ? score.Forecast : eventForecast, score.Error,
+            next, atHorizon, errors, _model.Forecaster.ActiveMethodName ?? _options.MethodLabel, restated) { Event = marked });
 
         if (restated)
         {

@@ -26,7 +26,9 @@ namespace StreamForecast.Streaming;
 /// <para><b>Versions.</b> 2: the current one. The envelope and the payload layouts are those of version 1, but the
 /// payload's meaning changed: the lagged model of a series' restatement window keeps the last actual its model took
 /// (version 1 could keep one the model refused), and restoring checks that every series is a state the engine can reach.
-/// Version 1 snapshots are refused with a message naming both versions; no conversion is offered before the first
+/// Version 3: version 2 plus one last section, the known events declared at run time and the event lift per series
+/// (<see cref="SnapshotEvents"/>); written only when an engine holds such state, so an engine without known events keeps
+/// writing version 2, byte for byte. Both are read. Version 1 snapshots are refused with a message naming both versions; no conversion is offered before the first
 /// release (rebuild the state by replaying the input).</para>
 /// <para><b>Reading order.</b> Magic, then version, then the declared length against the caller's limit, then the
 /// bytes themselves (a stream that ends early is reported as truncated), then the checksum, then the section table.
@@ -37,6 +39,9 @@ internal static partial class SnapshotFormat
 {
     /// <summary>The format version this library writes (and the only one it reads).</summary>
     public const ushort CurrentVersion = 2;
+
+    /// <summary>The format version written when the engine holds known-event state: <see cref="CurrentVersion"/> plus the event section.</summary>
+    public const ushort EventsVersion = 3;
 
     /// <summary>The length of the fixed header, before the section table.</summary>
     public const int HeaderLength = 26;
@@ -86,10 +91,11 @@ internal static partial class SnapshotFormat
     /// <exception cref="ArgumentOutOfRangeException"><paramref name="inputPosition"/> is negative.</exception>
     /// <exception cref="ArgumentException">The snapshot would be longer than <see cref="MaxSupportedLength"/>.</exception>
     /// <remarks>O(total length): one pass that writes and hashes. Allocates the section table once.</remarks>
-    public static void Write(Stream destination, long inputPosition, IReadOnlyList<ReadOnlyMemory<byte>> sections)
+    /// <param name="version">The format version to stamp: <see cref="CurrentVersion"/> (default) or <see cref="EventsVersion"/>.</param>
+    public static void Write(Stream destination, long inputPosition, IReadOnlyList<ReadOnlyMemory<byte>> sections, ushort version = CurrentVersion)
     {
         ArgumentNullException.ThrowIfNull(destination);
-        byte[] prefix = BuildPrefix(inputPosition, sections);
+        byte[] prefix = BuildPrefix(inputPosition, sections, version);
         using var hash = IncrementalHash.CreateHash(HashAlgorithmName.SHA256);
         hash.AppendData(prefix);
         destination.Write(prefix);
@@ -114,10 +120,11 @@ internal static partial class SnapshotFormat
     /// <exception cref="ArgumentNullException">An argument is null.</exception>
     /// <exception cref="ArgumentOutOfRangeException"><paramref name="inputPosition"/> is negative.</exception>
     /// <exception cref="ArgumentException">The snapshot would be longer than <see cref="MaxSupportedLength"/>.</exception>
-    public static async ValueTask WriteAsync(Stream destination, long inputPosition, IReadOnlyList<ReadOnlyMemory<byte>> sections, CancellationToken cancellationToken = default)
+    /// <param name="version">The format version to stamp: <see cref="CurrentVersion"/> (default) or <see cref="EventsVersion"/>.</param>
+    public static async ValueTask WriteAsync(Stream destination, long inputPosition, IReadOnlyList<ReadOnlyMemory<byte>> sections, ushort version = CurrentVersion, CancellationToken cancellationToken = default)
     {
         ArgumentNullException.ThrowIfNull(destination);
-        byte[] prefix = BuildPrefix(inputPosition, sections);
+        byte[] prefix = BuildPrefix(inputPosition, sections, version);
         using var hash = IncrementalHash.CreateHash(HashAlgorithmName.SHA256);
         hash.AppendData(prefix);
         await destination.WriteAsync(prefix, cancellationToken).ConfigureAwait(false);
@@ -215,8 +222,13 @@ internal static partial class SnapshotFormat
         return TryValidate(snapshot, out content, out problem);
     }
 
-    private static byte[] BuildPrefix(long inputPosition, IReadOnlyList<ReadOnlyMemory<byte>> sections)
+    private static byte[] BuildPrefix(long inputPosition, IReadOnlyList<ReadOnlyMemory<byte>> sections, ushort version)
     {
+        if (version is not (CurrentVersion or EventsVersion))
+        {
+            throw new ArgumentOutOfRangeException(nameof(version), version, "Only format versions 2 and 3 are written.");
+        }
+
         ArgumentNullException.ThrowIfNull(sections);
         ArgumentOutOfRangeException.ThrowIfNegative(inputPosition);
         long total = GetLength(sections);
@@ -227,7 +239,7 @@ internal static partial class SnapshotFormat
 
         byte[] prefix = new byte[HeaderLength + (4 * sections.Count)];
         Magic.CopyTo(prefix.AsSpan(MagicOffset));
-        BinaryPrimitives.WriteUInt16LittleEndian(prefix.AsSpan(VersionOffset), CurrentVersion);
+        BinaryPrimitives.WriteUInt16LittleEndian(prefix.AsSpan(VersionOffset), version);
         BinaryPrimitives.WriteInt64LittleEndian(prefix.AsSpan(LengthOffset), total);
         BinaryPrimitives.WriteInt64LittleEndian(prefix.AsSpan(PositionOffset), inputPosition);
         BinaryPrimitives.WriteInt32LittleEndian(prefix.AsSpan(CountOffset), sections.Count);
@@ -260,9 +272,9 @@ internal static partial class SnapshotFormat
         }
 
         ushort version = BinaryPrimitives.ReadUInt16LittleEndian(header[VersionOffset..]);
-        if (version != CurrentVersion)
+        if (version is not (CurrentVersion or EventsVersion))
         {
-            return Invariant($"The snapshot has format version {version}, which this library does not support; it reads version {CurrentVersion} only (earlier versions are not converted: rebuild the state by replaying the input).");
+            return Invariant($"The snapshot has format version {version}, which this library does not support; it reads versions {CurrentVersion} and {EventsVersion} only (earlier versions are not converted: rebuild the state by replaying the input).");
         }
 
         total = BinaryPrimitives.ReadInt64LittleEndian(header[LengthOffset..]);

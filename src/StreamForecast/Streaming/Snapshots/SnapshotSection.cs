@@ -14,7 +14,20 @@ internal sealed class SnapshotSection<TKey> : ISeriesVisitor<TKey>
 
     public ReadOnlyMemory<byte> Bytes => _writer.WrittenMemory;
 
+    /// <summary>The partition's known-event state, captured with its series (null unless <see cref="VisitTable"/> ran).</summary>
+    public SnapshotEvents.Part<TKey>? Events { get; private set; }
+
+    /// <summary>Whether this is the first partition's section (which alone carries the group and all-series declarations).</summary>
+    public bool First { get; init; }
+
     public void Visit(ICollection<SeriesState<TKey>> series) => Write(series);
+
+    public void VisitTable(SeriesSet<TKey> set, ISeriesSink<TKey> sink)
+    {
+        Write(set.Series);
+        Events = new SnapshotEvents.Part<TKey>();
+        Events.Capture(set, First);
+    }
 
     public void Write(ICollection<SeriesState<TKey>> series)
     {
@@ -27,7 +40,7 @@ internal sealed class SnapshotSection<TKey> : ISeriesVisitor<TKey>
     }
 
     /// <summary>Reads every series of one section, creating each from the options the engine resolves for its key.</summary>
-    public static void Read(ReadOnlyMemory<byte> bytes, ISnapshotKeyCodec<TKey> codec, Func<TKey, SeriesOptions> resolve, long arrival, List<SeriesState<TKey>> into)
+    public static void Read(ReadOnlyMemory<byte> bytes, ISnapshotKeyCodec<TKey> codec, Func<TKey, SeriesOptions> resolve, long arrival, List<SeriesState<TKey>> into, Func<TKey, SeriesOptions, EventMarks?>? marksFor = null)
     {
         var reader = new SnapshotPayloadReader(bytes);
         int count = reader.ReadInt32();
@@ -39,7 +52,9 @@ internal sealed class SnapshotSection<TKey> : ISeriesVisitor<TKey>
         for (int i = 0; i < count; i++)
         {
             TKey key = reader.ReadKey(codec);
-            var state = new SeriesState<TKey>(key, resolve(key), arrival);
+            SeriesOptions options = resolve(key);
+            var state = new SeriesState<TKey>(key, options, arrival);
+            state.SetMarks(marksFor?.Invoke(key, options));
             state.Read(reader);
             into.Add(state);
         }
