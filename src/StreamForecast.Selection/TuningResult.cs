@@ -76,6 +76,8 @@ public sealed class TuningResult
             template.IntervalMultiplier,
             template.IdleTimeout,
             template.DuplicateWindow,
-            template.MaxCatchUpPeriods);
+            template.MaxCatchUpPeriods,
+            template.EmpiricalIntervals,
+            template.NonNegative);
     }
 }

@@ -49,6 +49,17 @@ public sealed record SeriesOptions
     /// and reported as a <see cref="SeriesFaultKind.PeriodsSkipped"/> fault, and periods before them can no longer be
     /// restated. This bounds the work of one event (a stray time stamp years ahead cannot close millions of periods).
     /// </param>
+    /// <param name="empiricalIntervals">
+    /// Intervals from the series' own recent errors instead of normal ones (default null: normal intervals with
+    /// <paramref name="intervalMultiplier"/>, as before). While a horizon warms up its interval is the normal one of the
+    /// same nominal coverage; every published point says which kind it carries (<see cref="ForecastPoint.Kind"/>). The
+    /// multiplier is then not used.
+    /// </param>
+    /// <param name="nonNegative">
+    /// Whether the series cannot go below zero (counts, sales, demand): point forecasts and interval bounds are clipped at
+    /// zero, and the forecast scored against each actual is the clipped one, so the error statistics describe what was
+    /// published (default false). Actuals are not changed or checked: a negative actual is taken as it is.
+    /// </param>
     /// <exception cref="ArgumentNullException"><paramref name="method"/> or <paramref name="calendar"/> is null.</exception>
     /// <exception cref="ArgumentOutOfRangeException">A number is out of its stated range.</exception>
     public SeriesOptions(
@@ -62,7 +73,9 @@ public sealed record SeriesOptions
         double intervalMultiplier = NormalMultiplier.Coverage80,
         TimeSpan? idleTimeout = null,
         int duplicateWindow = DefaultDuplicateWindow,
-        int maxCatchUpPeriods = DefaultMaxCatchUpPeriods)
+        int maxCatchUpPeriods = DefaultMaxCatchUpPeriods,
+        EmpiricalIntervalOptions? empiricalIntervals = null,
+        bool nonNegative = false)
     {
         ArgumentNullException.ThrowIfNull(method);
         ArgumentNullException.ThrowIfNull(calendar);
@@ -118,6 +131,9 @@ public sealed record SeriesOptions
         IdleTimeout = idleTimeout;
         DuplicateWindow = duplicateWindow;
         MaxCatchUpPeriods = maxCatchUpPeriods;
+        EmpiricalIntervals = empiricalIntervals;
+        NonNegative = nonNegative;
+        Intervals = new IntervalSettings(intervalMultiplier, empiricalIntervals, horizon, nonNegative);
     }
 
     /// <summary>The forecasting method.</summary>
@@ -150,6 +166,21 @@ public sealed record SeriesOptions
     /// <summary>The normal multiplier z of the prediction intervals.</summary>
     public double IntervalMultiplier { get; }
 
+    /// <summary>The empirical-interval settings; null for normal intervals (the default).</summary>
+    public EmpiricalIntervalOptions? EmpiricalIntervals { get; }
+
+    /// <summary>Whether point forecasts and interval bounds are clipped at zero (see the constructor).</summary>
+    public bool NonNegative { get; }
+
+    /// <summary>
+    /// The nominal coverage of the published intervals: the empirical coverage, or for normal intervals 2Φ(z) − 1 of
+    /// <see cref="IntervalMultiplier"/> (0.8 for the default z = 1.2816).
+    /// </summary>
+    public double IntervalCoverage => Intervals.Coverage;
+
+    /// <summary>The interval settings resolved once for every series of these options.</summary>
+    internal IntervalSettings Intervals { get; }
+
     /// <summary>The quiet time after which a series' periods are closed without new events; null for never.</summary>
     public TimeSpan? IdleTimeout { get; }
 
@@ -174,7 +205,9 @@ public sealed record SeriesOptions
         && IntervalMultiplier.Equals(other.IntervalMultiplier)
         && IdleTimeout == other.IdleTimeout
         && DuplicateWindow == other.DuplicateWindow
-        && MaxCatchUpPeriods == other.MaxCatchUpPeriods;
+        && MaxCatchUpPeriods == other.MaxCatchUpPeriods
+        && Equals(EmpiricalIntervals, other.EmpiricalIntervals)
+        && NonNegative == other.NonNegative;
 
     /// <inheritdoc/>
     public override int GetHashCode() => HashCode.Combine(Method, Calendar, Lateness, Gaps, Tracking, Rules.Length, Horizon, IdleTimeout);
