@@ -89,6 +89,13 @@ internal sealed class ErrorQuantileWindow
         return fraction == 0 ? lower : lower + (fraction * (upper - lower));
     }
 
+    /// <summary>
+    /// The empirical interval around <paramref name="forecast"/>: forecast + q(a/2), forecast + q(1 − a/2). Only when
+    /// <see cref="Count"/> is above 0. The one formula every host uses (the live step and the backtester).
+    /// </summary>
+    public PredictionInterval IntervalAround(double forecast, EmpiricalIntervalOptions options) =>
+        new(forecast + Quantile(options.LowerProbability), forecast + Quantile(options.UpperProbability));
+
     public void Reset()
     {
         _start = 0;

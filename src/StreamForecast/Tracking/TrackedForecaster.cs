@@ -179,8 +179,7 @@ public sealed class TrackedForecaster
         ErrorQuantileWindow? window = _empirical?.WindowFor(horizon);
         if (window is not null && window.Count >= _empirical!.Options.MinimumErrors)
         {
-            EmpiricalIntervalOptions e = _empirical.Options;
-            interval = new PredictionInterval(forecast + window.Quantile(e.LowerProbability), forecast + window.Quantile(e.UpperProbability));
+            interval = window.IntervalAround(forecast, _empirical.Options);
             kind = IntervalKind.Empirical;
         }
         else
