@@ -115,7 +115,9 @@ internal static class EngineReplay
             GapPolicy.Zero,
             tracking: new Tracking.ErrorTrackerOptions(seasonLength: 7),
             rules: [.. rules],
-            horizon: 7);
+            horizon: 7,
+            empiricalIntervals: new Tracking.EmpiricalIntervalOptions(0.8), // from each series' own last 100 errors
+            nonNegative: true); // sales cannot go below zero: forecasts and bounds are clipped at 0 by the library
 
         var perKey = methods.ToDictionary(kv => kv.Key, kv => Make(kv.Value), StringComparer.Ordinal);
         return new ForecastEngineOptions<string>(
@@ -163,7 +165,7 @@ internal static class EngineReplay
 
     private static void PrintLatest(Dictionary<string, ForecastUpdate<string>> latest)
     {
-        var table = new Table().Title("Forecasts after the last day (80% intervals, lower bound clipped at 0 sales); advisory");
+        var table = new Table().Title("Forecasts after the last day (80% empirical intervals from each series' recent errors, clipped at 0 sales); advisory");
         table.AddColumns("Series", "Method", "Last day", "Actual", "Next day", "Interval", "In 7 days", "RSFE/MAD", "Trigg");
         foreach (var (key, u) in latest.OrderBy(kv => kv.Key, StringComparer.Ordinal))
         {
@@ -173,7 +175,7 @@ internal static class EngineReplay
                 u.PeriodStart.ToString("yyyy-MM-dd", CultureInfo.InvariantCulture),
                 F(u.Actual),
                 F(u.Next.Value),
-                $"{F(Math.Max(0, u.Next.Lower))} – {F(u.Next.Upper)}",
+                $"{F(u.Next.Lower)} – {F(u.Next.Upper)} ({u.Next.Kind.ToString().ToLowerInvariant()})",
                 F(u.AtHorizon.Value),
                 F(u.Errors.TrackingSignal),
                 u.Errors.TriggSignal.ToString("0.00", CultureInfo.InvariantCulture));

@@ -15,7 +15,9 @@ internal sealed record ReplaySettings(
     IReadOnlyDictionary<string, ForecasterOptions> TunedMethods,
     IReadOnlyList<DriftRuleOptions> Rules,
     int SeasonLength,
-    int Horizon);
+    int Horizon,
+    EmpiricalIntervalOptions? EmpiricalIntervals = null,
+    bool NonNegative = false);
 
 /// <summary>What a replay produced.</summary>
 internal sealed record ReplayResult(
@@ -50,7 +52,9 @@ internal static class ReplayRunner
             GapPolicy.Zero,
             tracking: new ErrorTrackerOptions(seasonLength: settings.SeasonLength),
             rules: [.. settings.Rules],
-            horizon: settings.Horizon);
+            horizon: settings.Horizon,
+            empiricalIntervals: settings.EmpiricalIntervals,
+            nonNegative: settings.NonNegative);
 
         Dictionary<string, SeriesOptions> perKey = settings.TunedMethods.ToDictionary(kv => kv.Key, kv => Make(kv.Value), StringComparer.Ordinal);
         var options = new ForecastEngineOptions<string>(
