@@ -14,7 +14,7 @@ internal sealed class IntervalSettings
     {
         Empirical = empirical;
         Multiplier = empirical?.FallbackMultiplier ?? z;
-        Coverage = empirical?.Coverage ?? NormalCoverage.Of(z);
+        Coverage = empirical?.Coverage ?? Label(NormalCoverage.Of(z));
         Horizon = horizon;
         NonNegative = nonNegative;
     }
@@ -33,6 +33,16 @@ internal sealed class IntervalSettings
 
     /// <summary>Whether point forecasts and interval bounds are clipped at zero.</summary>
     public bool NonNegative { get; }
+
+    /// <summary>
+    /// A normal coverage as a label: a value within 1e-12 of a 9-decimal number is that number, so the multiplier of an
+    /// 80% interval (1.2815515655446004, itself rounded to a double) reads as 0.8 rather than 0.7999999999999998.
+    /// </summary>
+    private static double Label(double coverage)
+    {
+        double rounded = Math.Round(coverage, 9);
+        return Math.Abs(coverage - rounded) < 1e-12 ? rounded : coverage;
+    }
 
     /// <summary>Whether the model needs any state or step beyond today's normal intervals.</summary>
     public bool IsPlain => Empirical is null && !NonNegative;
