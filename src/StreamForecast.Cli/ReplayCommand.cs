@@ -93,8 +93,10 @@ internal static class ReplayCommand
         var raised = result.Alerts.Where(a => a.Transition.Kind == DriftTransitionKind.Raised).GroupBy(a => a.Key, StringComparer.Ordinal)
             .ToDictionary(g => g.Key, g => g.Count(), StringComparer.Ordinal);
         double nominal = result.Forecasts.Count > 0 ? result.Forecasts[0].Next.Coverage : double.NaN;
-        var table = new Table().Title($"Series after the last period ({Output.F(100 * nominal, "0")}% interval); forecasts and alerts are advisory");
-        table.AddColumns("Series", "Method", "Periods", "Last period", "Actual", "Next", "Interval", "Kind", "Covered (next period)", "MAD", "Tracking signal", "Alerts raised");
+        var table = new Table().Title($"Series after the last period ({Output.F(100 * nominal, "0.#")}% interval); forecasts and alerts are advisory");
+        table.AddColumns("Series", "Method", "Periods", "Last period", "Actual", "Next", "Interval", "MAD", "Tracking signal", "Alerts raised");
+        var coverage = new Table().Title("Next-period interval coverage: each actual against the interval published the period before");
+        coverage.AddColumns("Series", "Interval kind now", "Actuals inside");
         long allInside = 0, allScored = 0;
         foreach (var group in result.Forecasts.GroupBy(f => f.Key, StringComparer.Ordinal).OrderBy(g => g.Key, StringComparer.Ordinal))
         {
@@ -105,11 +107,13 @@ internal static class ReplayCommand
             table.AddRow(
                 Markup.Escape(group.Key), Markup.Escape(last.Method), group.Select(f => f.Period).Distinct().Count().ToString("N0", CultureInfo.InvariantCulture),
                 last.PeriodStart.ToString("yyyy-MM-dd HH:mm", CultureInfo.InvariantCulture), Output.F(last.Actual), Output.F(last.Next.Value),
-                $"{Output.F(last.Next.Lower)} – {Output.F(last.Next.Upper)}", KindOf(last.Next), CoverageText(inside, scored),
-                Output.F(last.Errors.Mad), Output.F(last.Errors.TrackingSignal), raised.GetValueOrDefault(group.Key).ToString(CultureInfo.InvariantCulture));
+                $"{Output.F(last.Next.Lower)} – {Output.F(last.Next.Upper)}", Output.F(last.Errors.Mad), Output.F(last.Errors.TrackingSignal),
+                raised.GetValueOrDefault(group.Key).ToString(CultureInfo.InvariantCulture));
+            coverage.AddRow(Markup.Escape(group.Key), KindOf(last.Next), CoverageText(inside, scored));
         }
 
         AnsiConsole.Write(table);
+        AnsiConsole.Write(coverage);
         AnsiConsole.MarkupLine("Next-period intervals: {0} actuals inside the interval published the period before (nominal {1}%).",
             CoverageText(allInside, allScored), Output.F(100 * nominal, "0.#"));
     }

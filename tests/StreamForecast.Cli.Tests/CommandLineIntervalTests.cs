@@ -14,12 +14,14 @@ public sealed class CommandLineIntervalTests : IDisposable
     public void Replay_EmpiricalNonNegative_ColumnsSayKindAndCoverageAndNothingBelowZero()
     {
         _tool.Write("sales.csv", ToolRunner.SalesCsv(days: 60));
+        // A method label without a comma keeps the plain Split(',') below valid.
 
-        ToolResult result = _tool.Run(["replay", "sales.csv", .. s_keyColumns, "--method", "holt:0.9,0.9", "--intervals", "empirical", "--non-negative"]);
+        ToolResult result = _tool.Run(["replay", "sales.csv", .. s_keyColumns, "--method", "ses:0.5", "--intervals", "empirical", "--non-negative"]);
 
         Assert.True(result.ExitCode == 0, result.ToString());
         Assert.Contains("Next-period intervals:", result.Output, StringComparison.Ordinal);
         Assert.Contains("(nominal 80%)", result.Output, StringComparison.Ordinal);
+        Assert.Contains("Actuals inside", result.Output, StringComparison.Ordinal);
         string[] header = File.ReadLines(_tool.PathOf("forecasts.csv")).First().Split(',');
         var rows = File.ReadLines(_tool.PathOf("forecasts.csv")).Skip(1).Select(l => l.Split(',')).ToList();
         int kind = Array.IndexOf(header, "next_interval_kind"), coverage = Array.IndexOf(header, "interval_coverage");
