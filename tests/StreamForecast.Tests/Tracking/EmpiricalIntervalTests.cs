@@ -260,6 +260,14 @@ public sealed class EmpiricalIntervalTests
     }
 
     [Fact]
+    public void ForecastPoint_Size_KindSitsInPaddingCoverageAddsEightBytes()
+    {
+        // int + 3 doubles was 32 bytes with 4 of padding; the one-byte kind fills part of it, the coverage adds 8.
+        Assert.Equal(40, System.Runtime.CompilerServices.Unsafe.SizeOf<ForecastPoint>());
+        Assert.Equal(1, System.Runtime.CompilerServices.Unsafe.SizeOf<IntervalKind>());
+    }
+
+    [Fact]
     public void SeriesOptions_IntervalSettings_TakePartInEquality()
     {
         var a = new SeriesOptions(new NaiveOptions(), s_days, empiricalIntervals: new EmpiricalIntervalOptions());

@@ -1,3 +1,4 @@
+using System.Runtime.InteropServices;
 using StreamForecast.Tracking;
 
 namespace StreamForecast.Streaming;
@@ -20,6 +21,7 @@ namespace StreamForecast.Streaming;
 /// The nominal coverage is a target, not a measurement: the backtester reports the coverage achieved
 /// (<c>HorizonAccuracy.Coverage</c> in StreamForecast.Selection).
 /// </remarks>
+[StructLayout(LayoutKind.Auto)] // lets the one-byte kind share the horizon's 8-byte slot: 40 bytes, not 48
 public readonly record struct ForecastPoint(int Horizon, double Value, double Lower, double Upper, IntervalKind Kind = IntervalKind.Normal, double Coverage = double.NaN)
 {
     /// <summary>Whether a forecast exists (the method is warm).</summary>
