@@ -32,7 +32,7 @@ internal static class DemoChart
             {
                 fx.Add(x);
                 forecast.Add(p.Value); // the forecast for this period was published with the previous period's update
-                lower.Add(Math.Max(0, p.Lower));
+                lower.Add(p.Lower); // already clipped at 0: the demo's series are declared non-negative
                 upper.Add(p.Upper);
             }
 

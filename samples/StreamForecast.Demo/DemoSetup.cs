@@ -61,7 +61,9 @@ internal static class DemoSetup
             GapPolicy.Zero,
             tracking: new Tracking.ErrorTrackerOptions(seasonLength: 7),
             rules: [.. rules],
-            horizon: 7);
+            horizon: 7,
+            empiricalIntervals: new Tracking.EmpiricalIntervalOptions(0.8), // from each series' own last 100 errors
+            nonNegative: true); // sales cannot go below zero: forecasts and bounds are clipped at 0 by the library
 
         var perKey = methods.ToDictionary(kv => kv.Key, kv => Make(kv.Value), StringComparer.Ordinal);
         return new ForecastEngineOptions<string>(

@@ -100,7 +100,7 @@ internal static class EngineReplay
 
     private static void PrintLatest(Dictionary<string, ForecastUpdate<string>> latest)
     {
-        var table = new Table().Title("Forecasts after the last day (80% intervals, lower bound clipped at 0 sales); advisory");
+        var table = new Table().Title("Forecasts after the last day (80% empirical intervals from each series' recent errors, clipped at 0 sales); advisory");
         table.AddColumns("Series", "Method", "Last day", "Actual", "Next day", "Interval", "In 7 days", "RSFE/MAD", "Trigg");
         foreach (var (key, u) in latest.OrderBy(kv => kv.Key, StringComparer.Ordinal))
         {
@@ -110,7 +110,7 @@ internal static class EngineReplay
                 u.PeriodStart.ToString("yyyy-MM-dd", CultureInfo.InvariantCulture),
                 F(u.Actual),
                 F(u.Next.Value),
-                $"{F(Math.Max(0, u.Next.Lower))} – {F(u.Next.Upper)}",
+                $"{F(u.Next.Lower)} – {F(u.Next.Upper)} ({u.Next.Kind.ToString().ToLowerInvariant()})",
                 F(u.AtHorizon.Value),
                 F(u.Errors.TrackingSignal),
                 u.Errors.TriggSignal.ToString("0.00", CultureInfo.InvariantCulture));

@@ -3,6 +3,7 @@ using System.Globalization;
 using StreamForecast.Alerts;
 using StreamForecast.Forecasting;
 using StreamForecast.Periods;
+using StreamForecast.Tracking;
 
 namespace StreamForecast.Cli;
 
@@ -95,6 +96,17 @@ internal sealed class CommonOptions
     public Option<int> Season { get; } = new("--season") { Description = "The season length in periods (e.g. 7 for days in a week); 1 = none.", DefaultValueFactory = _ => 1 };
 
     public Option<int> Horizon { get; } = new("--horizon") { Description = "The furthest horizon forecast (and backtested).", DefaultValueFactory = _ => 1 };
+
+    public Option<string> Intervals { get; } = new("--intervals")
+    {
+        Description = "How the 80% intervals are formed: normal (from the error σ) or empirical (from each series' last 100 errors per horizon; normal until 20 exist).",
+        DefaultValueFactory = _ => "normal",
+    };
+
+    public Option<bool> NonNegative { get; } = new("--non-negative")
+    {
+        Description = "The series cannot go below zero (counts, sales): clip forecasts and interval bounds at 0; errors are scored against the clipped forecast.",
+    };
 
     public void AddInputOptions(Command command)
     {
@@ -228,6 +240,14 @@ internal sealed class CommonOptions
         int horizon = parse.GetValue(Horizon);
         return horizon is >= 1 and <= 1000 ? horizon : throw new UsageException($"--horizon {horizon}: the horizon must be between 1 and 1,000.");
     }
+
+    /// <summary>The empirical-interval settings of --intervals, or null for normal intervals.</summary>
+    public EmpiricalIntervalOptions? IntervalsOf(ParseResult parse) => parse.GetValue(Intervals)!.Trim().ToLowerInvariant() switch
+    {
+        "normal" => null,
+        "empirical" => new EmpiricalIntervalOptions(),
+        string other => throw new UsageException($"--intervals {other}: use normal or empirical."),
+    };
 
     public static DriftRuleOptions RuleOf(string text)
     {

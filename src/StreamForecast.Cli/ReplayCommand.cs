@@ -20,7 +20,7 @@ internal static class ReplayCommand
         };
         var command = new Command("replay", "Replay observations through the streaming engine; write forecasts and alert transitions to CSV and print a summary per series.");
         common.AddInputOptions(command);
-        foreach (Option option in new Option[] { common.Lateness, common.Method, common.Config, common.Rules, common.ReferenceMethod, common.Season, common.Horizon, events, forecastsOut, alertsOut })
+        foreach (Option option in new Option[] { common.Lateness, common.Method, common.Config, common.Rules, common.ReferenceMethod, common.Season, common.Horizon, common.Intervals, common.NonNegative, events, forecastsOut, alertsOut })
         {
             command.Options.Add(option);
         }
@@ -74,20 +74,23 @@ internal static class ReplayCommand
         DriftRuleOptions[] rules = common.RulesOf(parse);
         return new ReplaySettings(
             common.Calendar(parse), common.LatenessOf(parse), common.MethodOf(parse), tuned, rules, common.SeasonOf(parse), common.HorizonOf(parse),
-            common.ReferenceOf(parse, rules));
+            common.ReferenceOf(parse, rules), EmpiricalIntervals: common.IntervalsOf(parse), NonNegative: parse.GetValue(common.NonNegative));
     }
 
     private static void WriteForecasts(string path, List<ForecastUpdate<string>> forecasts)
     {
-        string[] header = ["key", "period_start", "actual", "imputed", "forecast", "error", "next", "next_lower", "next_upper", "horizon", "at_horizon", "at_horizon_lower", "at_horizon_upper", "mad", "tracking_signal", "trigg_signal", "method", "restatement", "event"];
+        string[] header = ["key", "period_start", "actual", "imputed", "forecast", "error", "next", "next_lower", "next_upper", "horizon", "at_horizon", "at_horizon_lower", "at_horizon_upper", "mad", "tracking_signal", "trigg_signal", "method", "restatement", "event", "next_interval_kind", "at_horizon_interval_kind", "interval_coverage"];
         Output.WriteCsv(path, header, forecasts.OrderBy(f => f.Key, StringComparer.Ordinal).ThenBy(f => f.Period), f =>
         [
             f.Key, f.PeriodStart.ToString("O", CultureInfo.InvariantCulture), Output.R(f.Actual), f.IsImputed ? "1" : "0",
             Output.R(f.ForecastForPeriod), Output.R(f.Error), Output.R(f.Next.Value), Output.R(f.Next.Lower), Output.R(f.Next.Upper),
             f.AtHorizon.Horizon.ToString(CultureInfo.InvariantCulture), Output.R(f.AtHorizon.Value), Output.R(f.AtHorizon.Lower), Output.R(f.AtHorizon.Upper),
             Output.R(f.Errors.Mad), Output.R(f.Errors.TrackingSignal), Output.R(f.Errors.TriggSignal), f.Method, f.IsRestatement ? "1" : "0", f.Event?.Name ?? string.Empty,
+            KindOf(f.Next), KindOf(f.AtHorizon), Output.R(f.Next.Coverage),
         ]);
     }
+
+    private static string KindOf(ForecastPoint point) => point.Kind == Tracking.IntervalKind.Empirical ? "empirical" : "normal";
 
     private static void WriteAlerts(string path, List<DriftAlert<string>> alerts)
     {
@@ -105,18 +108,60 @@ internal static class ReplayCommand
     {
         var raised = result.Alerts.Where(a => a.Transition.Kind == DriftTransitionKind.Raised).GroupBy(a => a.Key, StringComparer.Ordinal)
             .ToDictionary(g => g.Key, g => g.Count(), StringComparer.Ordinal);
-        var table = new Table().Title("Series after the last period (80% interval); forecasts and alerts are advisory");
+        double nominal = result.Forecasts.Count > 0 ? result.Forecasts[0].Next.Coverage : double.NaN;
+        var table = new Table().Title($"Series after the last period ({Output.F(100 * nominal, "0.#")}% interval); forecasts and alerts are advisory");
         table.AddColumns("Series", "Method", "Periods", "Last period", "Actual", "Next", "Interval", "MAD", "Tracking signal", "Alerts raised");
+        var coverage = new Table().Title("Next-period interval coverage: each actual against the interval published the period before");
+        coverage.AddColumns("Series", "Interval kind now", "Actuals inside");
+        long allInside = 0, allScored = 0;
         foreach (var group in result.Forecasts.GroupBy(f => f.Key, StringComparer.Ordinal).OrderBy(g => g.Key, StringComparer.Ordinal))
         {
             ForecastUpdate<string> last = group.MaxBy(f => f.Period);
+            (long inside, long scored) = Covered(group);
+            allInside += inside;
+            allScored += scored;
             table.AddRow(
                 Markup.Escape(group.Key), Markup.Escape(last.Method), group.Select(f => f.Period).Distinct().Count().ToString("N0", CultureInfo.InvariantCulture),
                 last.PeriodStart.ToString("yyyy-MM-dd HH:mm", CultureInfo.InvariantCulture), Output.F(last.Actual), Output.F(last.Next.Value),
                 $"{Output.F(last.Next.Lower)} – {Output.F(last.Next.Upper)}", Output.F(last.Errors.Mad), Output.F(last.Errors.TrackingSignal),
                 raised.GetValueOrDefault(group.Key).ToString(CultureInfo.InvariantCulture));
+            coverage.AddRow(Markup.Escape(group.Key), KindOf(last.Next), CoverageText(inside, scored));
         }
 
         AnsiConsole.Write(table);
+        AnsiConsole.Write(coverage);
+        AnsiConsole.MarkupLine("Next-period intervals: {0} actuals inside the interval published the period before (nominal {1}%).",
+            CoverageText(allInside, allScored), Output.F(100 * nominal, "0.#"));
     }
+
+    /// <summary>
+    /// Out-of-sample coverage of one series' next-period intervals: each actual against the interval published with the
+    /// previous period's update (restatements replace the earlier update of their period).
+    /// </summary>
+    private static (long Inside, long Scored) Covered(IEnumerable<ForecastUpdate<string>> updates)
+    {
+        var byPeriod = new SortedDictionary<long, ForecastUpdate<string>>();
+        foreach (ForecastUpdate<string> u in updates)
+        {
+            byPeriod[u.Period] = u;
+        }
+
+        long inside = 0, scored = 0;
+        ForecastUpdate<string>? previous = null;
+        foreach (ForecastUpdate<string> u in byPeriod.Values)
+        {
+            if (previous is { } p && p.Period == u.Period - 1 && double.IsFinite(p.Next.Lower) && double.IsFinite(p.Next.Upper))
+            {
+                scored++;
+                inside += u.Actual >= p.Next.Lower && u.Actual <= p.Next.Upper ? 1 : 0;
+            }
+
+            previous = u;
+        }
+
+        return (inside, scored);
+    }
+
+    private static string CoverageText(long inside, long scored) =>
+        scored == 0 ? "n/a" : string.Create(CultureInfo.InvariantCulture, $"{100.0 * inside / scored:0.0}% of {scored:N0}");
 }

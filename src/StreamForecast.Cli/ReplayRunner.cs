@@ -17,6 +17,8 @@ internal sealed record ReplaySettings(
     int SeasonLength,
     int Horizon,
     Func<ForecasterOptions, ForecasterOptions?> ReferenceOf,
+    EmpiricalIntervalOptions? EmpiricalIntervals = null,
+    bool NonNegative = false,
     IReadOnlyList<KnownEvent<string>>? Events = null);
 
 /// <summary>What a replay produced.</summary>
@@ -54,7 +56,9 @@ internal static class ReplayRunner
             tracking: new ErrorTrackerOptions(seasonLength: settings.SeasonLength),
             rules: [.. settings.Rules],
             horizon: settings.Horizon,
-            referenceMethod: settings.ReferenceOf(method));
+            referenceMethod: settings.ReferenceOf(method),
+            empiricalIntervals: settings.EmpiricalIntervals,
+            nonNegative: settings.NonNegative);
 
         Dictionary<string, SeriesOptions> perKey = settings.TunedMethods.ToDictionary(kv => kv.Key, kv => Make(kv.Value), StringComparer.Ordinal);
         var options = new ForecastEngineOptions<string>(

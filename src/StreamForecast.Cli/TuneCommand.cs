@@ -88,7 +88,7 @@ internal static class TuneCommand
     private static void Print(string key, TuningResult result, int top, int periods)
     {
         var table = new Table().Title($"{Markup.Escape(key)}: {periods} periods, fitted on {result.FirstOrigin}, demand class {result.Demand.Class}");
-        table.AddColumns("Rank", "Method", "Score", "MAD (h=1)", "RMSE (h=1)", "MASE (h=1)", "Bias (h=1)");
+        table.AddColumns("Rank", "Method", "Score", "MAD (h=1)", "RMSE (h=1)", "MASE (h=1)", "Bias (h=1)", "Covered, 80% normal (h=1)");
         int rank = 0;
         foreach (CandidateEvaluation candidate in result.Ranking.Take(top))
         {
@@ -96,7 +96,8 @@ internal static class TuneCommand
             HorizonAccuracy h1 = candidate.AtHorizon(1);
             string name = Markup.Escape(candidate.MethodName) + (ReferenceEquals(candidate, result.Default) ? " (default)" : string.Empty);
             table.AddRow(rank.ToString(System.Globalization.CultureInfo.InvariantCulture), rank == 1 ? $"[bold]{name}[/]" : name,
-                Output.F(candidate.Score, "0.000"), Output.F(h1.Mad, "0.000"), Output.F(h1.Rmse, "0.000"), Output.F(h1.Mase, "0.000"), Output.F(h1.Bias, "0.000"));
+                Output.F(candidate.Score, "0.000"), Output.F(h1.Mad, "0.000"), Output.F(h1.Rmse, "0.000"), Output.F(h1.Mase, "0.000"), Output.F(h1.Bias, "0.000"),
+                double.IsFinite(h1.Coverage) ? Output.F(100 * h1.Coverage, "0.0") + "%" : "n/a");
         }
 
         AnsiConsole.Write(table);

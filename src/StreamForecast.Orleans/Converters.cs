@@ -1,5 +1,6 @@
 using StreamForecast.Alerts;
 using StreamForecast.Streaming;
+using StreamForecast.Tracking;
 
 namespace StreamForecast.Orleans;
 
@@ -55,6 +56,12 @@ internal struct ForecastPointSurrogate
 
     /// <summary>The interval's upper end.</summary>
     [Id(3)] public double Upper;
+
+    /// <summary>How the interval was formed.</summary>
+    [Id(4)] public IntervalKind Kind;
+
+    /// <summary>The interval's nominal coverage.</summary>
+    [Id(5)] public double Coverage;
 }
 
 /// <summary>Converts <see cref="ForecastPoint"/> to and from its wire form.</summary>
@@ -63,11 +70,11 @@ internal sealed class ForecastPointConverter : IConverter<ForecastPoint, Forecas
 {
     /// <inheritdoc/>
     public ForecastPoint ConvertFromSurrogate(in ForecastPointSurrogate surrogate) =>
-        new(surrogate.Horizon, surrogate.Value, surrogate.Lower, surrogate.Upper);
+        new(surrogate.Horizon, surrogate.Value, surrogate.Lower, surrogate.Upper, surrogate.Kind, surrogate.Coverage);
 
     /// <inheritdoc/>
     public ForecastPointSurrogate ConvertToSurrogate(in ForecastPoint value) =>
-        new() { Horizon = value.Horizon, Value = value.Value, Lower = value.Lower, Upper = value.Upper };
+        new() { Horizon = value.Horizon, Value = value.Value, Lower = value.Lower, Upper = value.Upper, Kind = value.Kind, Coverage = value.Coverage };
 }
 
 /// <summary>Wire form of <see cref="ErrorSummary"/>.</summary>

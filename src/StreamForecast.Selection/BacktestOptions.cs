@@ -44,6 +44,19 @@ public sealed record BacktestOptions
     /// The most keys evaluated at once by <see cref="Backtester.RunMany{TKey}"/>, 1 to 4,096; null (the default) means one
     /// worker per core. Results do not depend on it.
     /// </param>
+    /// <param name="intervalMultiplier">
+    /// The normal multiplier z of the intervals whose coverage is reported (default 1.2816, 80%; above 0, at most 10), as
+    /// <see cref="Streaming.SeriesOptions.IntervalMultiplier"/>.
+    /// </param>
+    /// <param name="empiricalIntervals">
+    /// Empirical intervals instead of normal ones, as <see cref="Streaming.SeriesOptions.EmpiricalIntervals"/> (default
+    /// null): each horizon keeps a window of its own scored errors; while it holds too few, the normal interval of the same
+    /// coverage is scored, as live.
+    /// </param>
+    /// <param name="nonNegative">
+    /// Whether forecasts and interval bounds are clipped at zero before scoring, as
+    /// <see cref="Streaming.SeriesOptions.NonNegative"/> (default false).
+    /// </param>
     /// <exception cref="ArgumentOutOfRangeException">A number is outside its stated range.</exception>
     public BacktestOptions(
         int firstOrigin,
@@ -52,7 +65,10 @@ public sealed record BacktestOptions
         RankingMetric metric = RankingMetric.Rmse,
         ErrorTrackerOptions? tracking = null,
         int signalWarmUpPeriods = DriftRuleOptions.DefaultWarmUpPeriods,
-        int? maxDegreeOfParallelism = null)
+        int? maxDegreeOfParallelism = null,
+        double intervalMultiplier = NormalMultiplier.Coverage80,
+        EmpiricalIntervalOptions? empiricalIntervals = null,
+        bool nonNegative = false)
     {
         if (firstOrigin < 1)
         {
@@ -79,6 +95,11 @@ public sealed record BacktestOptions
             SelectionThrowHelper.ThrowOutOfRange(nameof(signalWarmUpPeriods), signalWarmUpPeriods, "the signal warm-up must be between 0 and 1,000,000 periods");
         }
 
+        if (!(intervalMultiplier > 0 && intervalMultiplier <= 10))
+        {
+            SelectionThrowHelper.ThrowOutOfRange(nameof(intervalMultiplier), intervalMultiplier, "the interval multiplier z must be above 0 and at most 10 (1.2816 for 80%, 1.96 for 95%)");
+        }
+
         SelectionThrowHelper.ResolveParallelism(maxDegreeOfParallelism, nameof(maxDegreeOfParallelism));
         FirstOrigin = firstOrigin;
         Horizon = horizon;
@@ -87,7 +108,26 @@ public sealed record BacktestOptions
         Tracking = tracking ?? ErrorTrackerOptions.Default;
         SignalWarmUpPeriods = signalWarmUpPeriods;
         MaxDegreeOfParallelism = maxDegreeOfParallelism;
+        IntervalMultiplier = intervalMultiplier;
+        EmpiricalIntervals = empiricalIntervals;
+        NonNegative = nonNegative;
+        Intervals = new IntervalSettings(intervalMultiplier, empiricalIntervals, horizon, nonNegative);
     }
+
+    /// <summary>The normal multiplier z of the scored intervals (unused with empirical intervals but for their warm-up).</summary>
+    public double IntervalMultiplier { get; }
+
+    /// <summary>The empirical-interval settings; null for normal intervals.</summary>
+    public EmpiricalIntervalOptions? EmpiricalIntervals { get; }
+
+    /// <summary>Whether forecasts and interval bounds are clipped at zero before scoring.</summary>
+    public bool NonNegative { get; }
+
+    /// <summary>The nominal coverage of the scored intervals (see <see cref="Streaming.SeriesOptions.IntervalCoverage"/>).</summary>
+    public double IntervalCoverage => Intervals.Coverage;
+
+    /// <summary>The interval settings, resolved once.</summary>
+    internal IntervalSettings Intervals { get; }
 
     /// <summary>The number of actuals seen at the first origin.</summary>
     public int FirstOrigin { get; }

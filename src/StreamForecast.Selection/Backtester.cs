@@ -20,7 +20,12 @@ namespace StreamForecast.Selection;
 /// forecasts also pass through a <see cref="TrackedForecaster"/> so that the tracking-signal behaviour is the live one.
 /// Nothing is re-fitted per origin: a method's parameters are fixed by its options and its state only ever moves
 /// forward, which is what re-feeding a fresh forecaster at each origin would give, at O(n·H) instead of O(n²·H).</para>
-/// <para><b>Cost.</b> O(n·H) per candidate (plus the forecaster's own update cost), with O(H²) numbers held.
+/// <para><b>Intervals.</b> Each held forecast keeps the interval the live step would publish with it (normal from the
+/// one-step tracker's σ, or empirical from the horizon's own window of scored errors, as <see cref="BacktestOptions"/>
+/// says); <see cref="HorizonAccuracy.Coverage"/> is the fraction of scored actuals inside their interval: out of sample,
+/// since every interval is fixed at its origin.</para>
+/// <para><b>Cost.</b> O(n·H) per candidate (plus the forecaster's own update cost), with O(H²) numbers held; empirical
+/// intervals add O(n·H·w) for windows of w errors and 16·H·w bytes.
 /// <see cref="RunMany{TKey}"/> runs keys in parallel on up to <see cref="BacktestOptions.MaxDegreeOfParallelism"/>
 /// workers; candidates of one key run in order on one worker.</para>
 /// <para><b>Bad input.</b> A history with a NaN or infinite value is rejected with
@@ -234,17 +239,30 @@ public static class Backtester
         int n = series.Length;
         int horizon = options.Horizon;
         int firstOrigin = options.FirstOrigin;
-        var model = new TrackedForecaster(candidate, options.Tracking);
-        Forecaster forecaster = model.Forecaster;
+        IntervalSettings intervals = options.Intervals;
+        EmpiricalIntervalOptions? empirical = intervals.Empirical;
+        var model = new TrackedForecaster(candidate, options.Tracking, new IntervalSettings(intervals.Multiplier, null, 1, intervals.NonNegative));
         var trackers = new ErrorTracker[horizon];
+        var windows = empirical is null ? null : new ErrorQuantileWindow[horizon];
         for (int h = 0; h < horizon; h++)
         {
             trackers[h] = ErrorTrackerOptions.Default.CreateTracker();
+            if (windows is not null)
+            {
+                windows[h] = new ErrorQuantileWindow(empirical!.Window);
+            }
         }
 
-        // pending[(origin mod H)·H + h − 1] holds the forecast made at the origin for h periods ahead (NaN: not warm).
+        // pending[(origin mod H)·H + h − 1] holds the forecast made at the origin for h periods ahead (NaN: not warm), and
+        // lowers/uppers its interval as it would have been published (NaN bounds: no σ yet), empiricalAt whether it was empirical.
         var pending = new double[horizon * horizon];
+        var lowers = new double[horizon * horizon];
+        var uppers = new double[horizon * horizon];
+        var empiricalAt = new bool[horizon * horizon];
         var unscored = new long[horizon];
+        var withInterval = new long[horizon];
+        var inside = new long[horizon];
+        var empiricalCount = new long[horizon];
         long signalPeriods = 0;
         double maxTracking = double.NaN;
         double maxTrigg = double.NaN;
@@ -258,14 +276,21 @@ public static class Backtester
                 // Score every held forecast made for period s, at origins s − h ≥ firstOrigin.
                 for (int h = 1; h <= horizon && s - h >= firstOrigin; h++)
                 {
-                    double forecast = pending[(((s - h) % horizon) * horizon) + h - 1];
+                    int at = (((s - h) % horizon) * horizon) + h - 1;
+                    double forecast = pending[at];
                     if (double.IsNaN(forecast))
                     {
                         unscored[h - 1]++;
+                        continue;
                     }
-                    else
+
+                    trackers[h - 1].Record(actual, forecast);
+                    windows?[h - 1].Add(trackers[h - 1].LastError);
+                    if (!double.IsNaN(lowers[at]))
                     {
-                        trackers[h - 1].Record(actual, forecast);
+                        withInterval[h - 1]++;
+                        inside[h - 1] += actual >= lowers[at] && actual <= uppers[at] ? 1 : 0;
+                        empiricalCount[h - 1] += empiricalAt[at] ? 1 : 0;
                     }
                 }
 
@@ -281,14 +306,14 @@ public static class Backtester
                     }
                 }
 
-                // Origin s: hold the forecasts for s + 1 … s + H that the history can score.
+                // Origin s: hold the forecasts for s + 1 … s + H that the history can score, with their intervals.
                 if (s >= firstOrigin && s < n)
                 {
                     int slot = (s % horizon) * horizon;
                     int reach = Math.Min(horizon, n - s);
                     for (int h = 1; h <= reach; h++)
                     {
-                        pending[slot + h - 1] = forecaster.TryForecast(h, out double forecast) ? forecast : double.NaN;
+                        Hold(model, h, intervals, windows?[h - 1], slot + h - 1, pending, lowers, uppers, empiricalAt);
                     }
                 }
             }
@@ -304,13 +329,43 @@ public static class Backtester
         {
             ErrorTracker t = trackers[h];
             double mase = t.Count > 0 && naiveScale > 0 ? t.Mad / naiveScale : double.NaN;
-            horizons.Add(new HorizonAccuracy(h + 1, t.Count, unscored[h], t.Mad, t.Rmse, t.Bias, t.Mape, t.ZeroActualCount, t.Wape, mase));
+            double coverage = withInterval[h] > 0 ? (double)inside[h] / withInterval[h] : double.NaN;
+            horizons.Add(new HorizonAccuracy(h + 1, t.Count, unscored[h], t.Mad, t.Rmse, t.Bias, t.Mape, t.ZeroActualCount, t.Wape, mase,
+                withInterval[h], coverage, empiricalCount[h]));
             scoreSum += options.Metric == RankingMetric.Mad ? t.Mad : t.Rmse;
         }
 
         double score = failure is null ? scoreSum / horizon : double.NaN;
         var signals = new OneStepSignals(model.Tracker.Count, model.Tracker.TrackingSignal, maxTracking, maxTrigg);
         return new CandidateEvaluation(index, candidate, horizons.MoveToImmutable(), signals, score, failure);
+    }
+
+    /// <summary>
+    /// Holds the forecast made now for <paramref name="h"/> periods ahead with the interval the live step would publish:
+    /// the normal one from the one-step tracker, or the empirical one once the horizon's window holds enough errors.
+    /// </summary>
+    private static void Hold(TrackedForecaster model, int h, IntervalSettings intervals, ErrorQuantileWindow? window, int at, double[] pending, double[] lowers, double[] uppers, bool[] empiricalAt)
+    {
+        if (!model.TryForecast(h, intervals.Multiplier, out double forecast, out PredictionInterval interval))
+        {
+            pending[at] = double.NaN;
+            return;
+        }
+
+        bool isEmpirical = window is not null && window.Count >= intervals.Empirical!.MinimumErrors;
+        if (isEmpirical)
+        {
+            interval = window!.IntervalAround(forecast, intervals.Empirical!);
+            if (intervals.NonNegative)
+            {
+                interval = new PredictionInterval(Math.Max(0, interval.Lower), Math.Max(0, interval.Upper));
+            }
+        }
+
+        pending[at] = forecast;
+        lowers[at] = interval.Lower;
+        uppers[at] = interval.Upper;
+        empiricalAt[at] = isEmpirical;
     }
 
     private static double MaxOf(double current, double value) => double.IsNaN(current) || value > current ? value : current;

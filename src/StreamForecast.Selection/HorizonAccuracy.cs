@@ -18,6 +18,13 @@ namespace StreamForecast.Selection;
 /// <paramref name="Mad"/> divided by the in-sample mean absolute error of the seasonal naive forecast over the whole history
 /// (<see cref="BacktestReport.NaiveScale"/>); NaN when that scale is undefined or zero.
 /// </param>
+/// <param name="IntervalCount">The scored forecasts that carried an interval (the others came before σ existed).</param>
+/// <param name="Coverage">
+/// The achieved coverage: the fraction of the <paramref name="IntervalCount"/> scored actuals that fell inside their
+/// interval, bounds included (the interval kind and nominal coverage of <see cref="BacktestOptions"/>); NaN when
+/// <paramref name="IntervalCount"/> is 0. Its binomial standard error is about √(c(1 − c)/n) for nominal coverage c.
+/// </param>
+/// <param name="EmpiricalCount">Of <paramref name="IntervalCount"/>, the intervals that were empirical (the rest were normal, warm-up included).</param>
 /// <remarks>An immutable value; safe to share across threads.</remarks>
 public readonly record struct HorizonAccuracy(
     int Horizon,
@@ -29,4 +36,7 @@ public readonly record struct HorizonAccuracy(
     double Mape,
     long ZeroActualCount,
     double Wape,
-    double Mase);
+    double Mase,
+    long IntervalCount,
+    double Coverage,
+    long EmpiricalCount);

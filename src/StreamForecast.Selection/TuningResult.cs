@@ -77,6 +77,8 @@ public sealed class TuningResult
             template.IdleTimeout,
             template.DuplicateWindow,
             template.MaxCatchUpPeriods,
-            template.ReferenceMethod);
+            template.ReferenceMethod,
+            template.EmpiricalIntervals,
+            template.NonNegative);
     }
 }

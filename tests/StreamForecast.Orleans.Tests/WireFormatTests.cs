@@ -17,7 +17,7 @@ public sealed class WireFormatTests
         var errors = new ErrorSummary(12, -3.5, 2.25, 2.1, 7.5, -0.29, double.NaN, 0.8, -1.55, 0.4, 2.8);
         var update = new ForecastUpdate<string>(
             "north/rye", 41, new DateTimeOffset(2026, 3, 2, 0, 0, 0, TimeSpan.FromHours(1)), 17, false, 15.5, 1.5,
-            new ForecastPoint(1, 16, 12.1, 19.9), new ForecastPoint(4, 16, 9.2, 22.8), errors, "MA(4)", true);
+            new ForecastPoint(1, 16, 12.1, 19.9, StreamForecast.Tracking.IntervalKind.Normal, 0.8), new ForecastPoint(4, 16, 9.2, 22.8, StreamForecast.Tracking.IntervalKind.Empirical, 0.8), errors, "MA(4)", true);
 
         Assert.Equal(update, RoundTrip(update));
     }

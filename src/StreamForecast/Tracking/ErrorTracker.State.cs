@@ -75,4 +75,10 @@ public sealed partial class ErrorTracker
 
     /// <summary>The number of recorded actuals in a state that <see cref="Validate"/> accepted.</summary>
     internal static double ActualCountOf(ReadOnlySpan<double> state) => state[ActualCountIndex];
+
+    /// <summary>The scored-period count held in a validated exported state.</summary>
+    internal static double ScoredCountOf(ReadOnlySpan<double> state) => state[CountIndex];
+
+    /// <summary>The last scored error held in a validated exported state (meaningful when its scored count is above 0).</summary>
+    internal static double LastErrorOf(ReadOnlySpan<double> state) => state[LastErrorIndex];
 }

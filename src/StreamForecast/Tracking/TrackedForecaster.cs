@@ -27,6 +27,10 @@ public sealed class TrackedForecaster : IExportableState
     private readonly Forecaster _forecaster;
     private readonly ErrorTracker _tracker;
 
+    // Interval settings of a series (null: today's normal intervals, no clipping) and, for empirical intervals, their state.
+    private readonly IntervalSettings? _intervals;
+    private readonly EmpiricalErrors? _empirical;
+
     /// <summary>Creates an empty forecaster and tracker for one series.</summary>
     /// <param name="forecasterOptions">The forecasting method.</param>
     /// <param name="trackerOptions">The error-tracking settings; <see cref="ErrorTrackerOptions.Default"/> when null.</param>
@@ -37,6 +41,20 @@ public sealed class TrackedForecaster : IExportableState
         _forecaster = forecasterOptions.CreateForecaster();
         _tracker = (trackerOptions ?? ErrorTrackerOptions.Default).CreateTracker();
     }
+
+    /// <summary>Creates the model of a series whose options ask for empirical intervals or clipping at zero.</summary>
+    internal TrackedForecaster(ForecasterOptions forecasterOptions, ErrorTrackerOptions trackerOptions, IntervalSettings intervals)
+        : this(forecasterOptions, trackerOptions)
+    {
+        if (!intervals.IsPlain)
+        {
+            _intervals = intervals;
+            _empirical = intervals.Empirical is { } e ? new EmpiricalErrors(e, intervals.Horizon) : null;
+        }
+    }
+
+    /// <summary>Whether forecasts are clipped at zero (a series declared non-negative).</summary>
+    private bool NonNegative => _intervals is { NonNegative: true };
 
     /// <summary>The forecaster, for reading (forecasts, warm-up, horizon variance ratios).</summary>
     public Forecaster Forecaster => _forecaster;
@@ -66,7 +84,7 @@ public sealed class TrackedForecaster : IExportableState
         }
 
         // The forecast for this period was fixed before its actual arrived: read it before the update.
-        bool scored = _forecaster.TryForecast(1, out double forecast);
+        bool scored = ReadForecast(1, out double forecast);
         ErrorTracker.Staged staged;
         if (scored)
         {
@@ -79,6 +97,7 @@ public sealed class TrackedForecaster : IExportableState
 
         _forecaster.Update(actual); // validates the method's domain before changing anything
         _tracker.Commit(in staged);
+        _empirical?.Step(_forecaster.Count, actual, scored, staged.Error, _forecaster, NonNegative);
         return scored ? new PeriodScore(actual, forecast, staged.Error) : new PeriodScore(actual, double.NaN, double.NaN);
     }
 
@@ -104,6 +123,7 @@ public sealed class TrackedForecaster : IExportableState
         _tracker.StageUnscored(actual, out ErrorTracker.Staged staged);
         _forecaster.Update(actual); // validates the method's domain before changing anything
         _tracker.Commit(in staged);
+        _empirical?.Step(_forecaster.Count, actual, false, double.NaN, _forecaster, NonNegative);
         return new PeriodScore(actual, double.NaN, double.NaN);
     }
 
@@ -125,13 +145,69 @@ public sealed class TrackedForecaster : IExportableState
             ThrowHelper.ThrowOutOfRange(nameof(z), z, "the normal multiplier z must be finite and above zero (1.96 for 95 %)");
         }
 
-        if (!_forecaster.TryForecast(horizon, out forecast))
+        if (!ReadForecast(horizon, out forecast))
         {
             interval = new PredictionInterval(double.NaN, double.NaN);
             return false;
         }
 
         interval = _tracker.GetPredictionInterval(forecast, _forecaster.HorizonVarianceRatio(horizon), z);
+        if (NonNegative)
+        {
+            interval = new PredictionInterval(Math.Max(0, interval.Lower), Math.Max(0, interval.Upper));
+        }
+
+        return true;
+    }
+
+    /// <summary>
+    /// The forecast <paramref name="horizon"/> periods ahead with the interval the series' settings ask for: empirical
+    /// once the horizon's error window holds enough errors, normal otherwise (the normal multiplier of the settings);
+    /// everything clipped at zero for a non-negative series.
+    /// </summary>
+    /// <returns>Whether the forecaster is warm; when not, every output is NaN and the kind is normal.</returns>
+    /// <remarks>O(1), allocation-free. Does not change the state.</remarks>
+    internal bool TryForecast(int horizon, IntervalSettings settings, out double forecast, out PredictionInterval interval, out IntervalKind kind)
+    {
+        kind = IntervalKind.Normal;
+        if (!ReadForecast(horizon, out forecast))
+        {
+            interval = new PredictionInterval(double.NaN, double.NaN);
+            return false;
+        }
+
+        ErrorQuantileWindow? window = _empirical?.WindowFor(horizon);
+        if (window is not null && window.Count >= _empirical!.Options.MinimumErrors)
+        {
+            interval = window.IntervalAround(forecast, _empirical.Options);
+            kind = IntervalKind.Empirical;
+        }
+        else
+        {
+            interval = _tracker.GetPredictionInterval(forecast, _forecaster.HorizonVarianceRatio(horizon), settings.Multiplier);
+        }
+
+        if (NonNegative)
+        {
+            interval = new PredictionInterval(Math.Max(0, interval.Lower), Math.Max(0, interval.Upper));
+        }
+
+        return true;
+    }
+
+    /// <summary>The method's forecast, clipped at zero for a non-negative series.</summary>
+    private bool ReadForecast(int horizon, out double forecast)
+    {
+        if (!_forecaster.TryForecast(horizon, out forecast))
+        {
+            return false;
+        }
+
+        if (NonNegative)
+        {
+            forecast = Math.Max(0, forecast);
+        }
+
         return true;
     }
 
@@ -140,17 +216,23 @@ public sealed class TrackedForecaster : IExportableState
     /// the re-baseline after a person has acknowledged a drift and, where needed, changed the method or its inputs.
     /// </summary>
     /// <remarks>O(1) plus the tracker's buffers. Not thread-safe.</remarks>
-    public void ResetErrors() => _tracker.Reset();
+    public void ResetErrors()
+    {
+        _tracker.Reset();
+        _empirical?.ResetErrors();
+    }
 
     /// <summary>Forgets every period: both the forecaster and the tracker are as if just created.</summary>
     public void Reset()
     {
         _forecaster.Reset();
         _tracker.Reset();
+        _empirical?.Reset();
     }
 
     /// <summary>How many numbers <see cref="ExportState(Span{double})"/> writes: the forecaster's state then the tracker's.</summary>
-    public int StateLength => _forecaster.StateLength + _tracker.StateLength;
+    /// <remarks>A series with empirical intervals adds their error windows and waiting forecasts after the tracker's state.</remarks>
+    public int StateLength => _forecaster.StateLength + _tracker.StateLength + (_empirical?.StateLength ?? 0);
 
     /// <summary>Writes both states into <paramref name="destination"/>: the forecaster's first, then the tracker's.</summary>
     /// <param name="destination">At least <see cref="StateLength"/> numbers long.</param>
@@ -166,6 +248,7 @@ public sealed class TrackedForecaster : IExportableState
         int split = _forecaster.StateLength;
         _forecaster.ExportState(destination[..split]);
         _tracker.ExportState(destination.Slice(split, _tracker.StateLength));
+        _empirical?.Export(destination.Slice(split + _tracker.StateLength, _empirical.StateLength));
     }
 
     /// <summary>Replaces both states with ones exported from a tracked forecaster created from equal options.</summary>
@@ -182,7 +265,8 @@ public sealed class TrackedForecaster : IExportableState
         }
 
         int split = _forecaster.StateLength;
-        ReadOnlySpan<double> trackerState = state[split..];
+        ReadOnlySpan<double> trackerState = state.Slice(split, _tracker.StateLength);
+        ReadOnlySpan<double> empiricalState = state[(split + _tracker.StateLength)..];
         string? problem = _tracker.Validate(trackerState);
         if (problem is not null)
         {
@@ -196,7 +280,17 @@ public sealed class TrackedForecaster : IExportableState
             ThrowHelper.ThrowArgument(nameof(state), "The forecaster and tracker parts of the state disagree on the number of periods. Nothing was imported.");
         }
 
+        if (_empirical is not null)
+        {
+            problem = _empirical.Validate(empiricalState, ErrorTracker.ScoredCountOf(trackerState), ErrorTracker.LastErrorOf(trackerState), state[0]);
+            if (problem is not null)
+            {
+                ThrowHelper.ThrowArgument(nameof(state), "The empirical-interval part of the state is not one a series reaches: " + problem + ". Nothing was imported.");
+            }
+        }
+
         _forecaster.ImportState(state[..split]); // validates its part and throws before changing anything
         _tracker.ImportValidated(trackerState);
+        _empirical?.ImportValidated(empiricalState);
     }
 }

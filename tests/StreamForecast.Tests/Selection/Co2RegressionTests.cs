@@ -14,6 +14,9 @@ public class Co2RegressionTests
 {
     private static readonly Lazy<double[]> s_co2 = new(Load);
 
+    /// <summary>The loaded series, shared with other tests of the same data.</summary>
+    internal static double[] LoadForTests() => s_co2.Value;
+
     /// <summary>The contiguous monthly run 1964-05 … 2020-04 (672 months) of the "CO2" column.</summary>
     private static double[] Load()
     {

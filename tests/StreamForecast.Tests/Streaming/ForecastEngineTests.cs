@@ -123,7 +123,7 @@ public sealed class ForecastEngineTests
                 PeriodScore score = model.Update(actual);
                 list.Add(new ForecastUpdate<string>(
                     group.Key, p, options.Calendar.StartOf(p), actual, !has, score.Forecast, score.Error,
-                    Point(model, 1, options.IntervalMultiplier), Point(model, options.Horizon, options.IntervalMultiplier),
+                    Point(model, 1, options.IntervalMultiplier, options.IntervalCoverage), Point(model, options.Horizon, options.IntervalMultiplier, options.IntervalCoverage),
                     ErrorSummary.Of(model.Tracker), options.Method.MethodName, false));
             }
 
@@ -133,10 +133,10 @@ public sealed class ForecastEngineTests
         return result;
     }
 
-    private static ForecastPoint Point(TrackedForecaster model, int h, double z) =>
+    private static ForecastPoint Point(TrackedForecaster model, int h, double z, double coverage) =>
         model.TryForecast(h, z, out double value, out PredictionInterval interval)
-            ? new ForecastPoint(h, value, interval.Lower, interval.Upper)
-            : new ForecastPoint(h, double.NaN, double.NaN, double.NaN);
+            ? new ForecastPoint(h, value, interval.Lower, interval.Upper, IntervalKind.Normal, coverage)
+            : new ForecastPoint(h, double.NaN, double.NaN, double.NaN, IntervalKind.Normal, coverage);
 
     private static async Task<EngineRecorder<string>> RunAsync(ForecastEngineOptions<string> options, IEnumerable<Observation<string>> stream, bool flush = true)
     {

@@ -56,6 +56,16 @@ public sealed record SeriesOptions
     /// Default: none (nothing changes, outputs and snapshots are as without it).
     /// <see cref="Forecasting.ReferenceMethods.Slower"/> derives one from common methods. Costs one more forecaster and
     /// error tracker per series, in memory and per period.
+    /// <param name="empiricalIntervals">
+    /// Intervals from the series' own recent errors instead of normal ones (default null: normal intervals with
+    /// <paramref name="intervalMultiplier"/>, as before). While a horizon warms up its interval is the normal one of the
+    /// same nominal coverage; every published point says which kind it carries (<see cref="ForecastPoint.Kind"/>). The
+    /// multiplier is then not used.
+    /// </param>
+    /// <param name="nonNegative">
+    /// Whether the series cannot go below zero (counts, sales, demand): point forecasts and interval bounds are clipped at
+    /// zero, and the forecast scored against each actual is the clipped one, so the error statistics describe what was
+    /// published (default false). Actuals are not changed or checked: a negative actual is taken as it is.
     /// </param>
     /// <exception cref="ArgumentNullException"><paramref name="method"/> or <paramref name="calendar"/> is null.</exception>
     /// <exception cref="ArgumentOutOfRangeException">A number is out of its stated range.</exception>
@@ -74,7 +84,9 @@ public sealed record SeriesOptions
         TimeSpan? idleTimeout = null,
         int duplicateWindow = DefaultDuplicateWindow,
         int maxCatchUpPeriods = DefaultMaxCatchUpPeriods,
-        ForecasterOptions? referenceMethod = null)
+        ForecasterOptions? referenceMethod = null,
+        EmpiricalIntervalOptions? empiricalIntervals = null,
+        bool nonNegative = false)
     {
         ArgumentNullException.ThrowIfNull(method);
         ArgumentNullException.ThrowIfNull(calendar);
@@ -145,6 +157,9 @@ public sealed record SeriesOptions
         {
             StateLabel = MethodLabel;
         }
+        EmpiricalIntervals = empiricalIntervals;
+        NonNegative = nonNegative;
+        Intervals = new IntervalSettings(intervalMultiplier, empiricalIntervals, horizon, nonNegative);
     }
 
     /// <summary>The forecasting method.</summary>
@@ -189,6 +204,21 @@ public sealed record SeriesOptions
     /// <summary>The normal multiplier z of the prediction intervals.</summary>
     public double IntervalMultiplier { get; }
 
+    /// <summary>The empirical-interval settings; null for normal intervals (the default).</summary>
+    public EmpiricalIntervalOptions? EmpiricalIntervals { get; }
+
+    /// <summary>Whether point forecasts and interval bounds are clipped at zero (see the constructor).</summary>
+    public bool NonNegative { get; }
+
+    /// <summary>
+    /// The nominal coverage of the published intervals: the empirical coverage, or for normal intervals 2Φ(z) − 1 of
+    /// <see cref="IntervalMultiplier"/> (0.8 for the default z = 1.2816).
+    /// </summary>
+    public double IntervalCoverage => Intervals.Coverage;
+
+    /// <summary>The interval settings resolved once for every series of these options.</summary>
+    internal IntervalSettings Intervals { get; }
+
     /// <summary>The quiet time after which a series' periods are closed without new events; null for never.</summary>
     public TimeSpan? IdleTimeout { get; }
 
@@ -214,7 +244,9 @@ public sealed record SeriesOptions
         && IdleTimeout == other.IdleTimeout
         && DuplicateWindow == other.DuplicateWindow
         && MaxCatchUpPeriods == other.MaxCatchUpPeriods
-        && Equals(ReferenceMethod, other.ReferenceMethod);
+        && Equals(ReferenceMethod, other.ReferenceMethod)
+        && Equals(EmpiricalIntervals, other.EmpiricalIntervals)
+        && NonNegative == other.NonNegative;
 
     /// <inheritdoc/>
     public override int GetHashCode() => HashCode.Combine(Method, Calendar, Lateness, Gaps, Tracking, Rules.Length, Horizon, IdleTimeout);

@@ -141,7 +141,7 @@ internal sealed partial class SeriesState<TKey>
             return;
         }
 
-        var trial = new TrackedForecaster(_options.Method, _options.Tracking);
+        var trial = new TrackedForecaster(_options.Method, _options.Tracking, _options.Intervals);
         trial.ImportState(_step.Model.ExportState());
         try
         {

@@ -95,7 +95,7 @@ public sealed class SeriesStep<TKey>
         ArgumentNullException.ThrowIfNull(options);
         _key = key;
         _options = options;
-        _model = new TrackedForecaster(options.Method, options.Tracking);
+        _model = new TrackedForecaster(options.Method, options.Tracking, options.Intervals);
         if (options.ReferenceMethod is { } referenceMethod)
         {
             _reference = new TrackedForecaster(referenceMethod, options.Tracking);
@@ -432,11 +432,12 @@ public sealed class SeriesStep<TKey>
     /// <summary>The forecast <paramref name="horizon"/> periods ahead with its interval; NaN fields while the method is cold.</summary>
     internal ForecastPoint Point(int horizon)
     {
-        if (!_model.TryForecast(horizon, _options.IntervalMultiplier, out double value, out PredictionInterval interval))
+        IntervalSettings intervals = _options.Intervals;
+        if (!_model.TryForecast(horizon, intervals, out double value, out PredictionInterval interval, out IntervalKind kind))
         {
-            return new ForecastPoint(horizon, double.NaN, double.NaN, double.NaN);
+            return new ForecastPoint(horizon, double.NaN, double.NaN, double.NaN, kind, intervals.Coverage);
         }
 
-        return new ForecastPoint(horizon, value, interval.Lower, interval.Upper);
+        return new ForecastPoint(horizon, value, interval.Lower, interval.Upper, kind, intervals.Coverage);
     }
 }
