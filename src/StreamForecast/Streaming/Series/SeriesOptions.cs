@@ -56,6 +56,7 @@ public sealed record SeriesOptions
     /// Default: none (nothing changes, outputs and snapshots are as without it).
     /// <see cref="Forecasting.ReferenceMethods.Slower"/> derives one from common methods. Costs one more forecaster and
     /// error tracker per series, in memory and per period.
+    /// </param>
     /// <param name="empiricalIntervals">
     /// Intervals from the series' own recent errors instead of normal ones (default null: normal intervals with
     /// <paramref name="intervalMultiplier"/>, as before). While a horizon warms up its interval is the normal one of the

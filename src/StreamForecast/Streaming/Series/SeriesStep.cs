@@ -44,7 +44,7 @@ internal enum StepMode
 /// actual either model refuses is refused for both.</para>
 /// <para><b>Thread safety.</b> Not thread-safe: one owner closes the periods of a series, in order.</para>
 /// </remarks>
-public sealed class SeriesStep<TKey>
+public sealed partial class SeriesStep<TKey>
 {
     private readonly TKey _key;
     private readonly SeriesOptions _options;
@@ -353,25 +353,6 @@ public sealed class SeriesStep<TKey>
         }
     }
 
-    /// <summary>Shows one model's scored period to every rule that watches that model and can read the input.</summary>
-    private void EvaluateRules(WatchedModel watched, ErrorSummary errors, double error, long period, ISeriesSink<TKey> sink, SeriesCounters? counters, DateTimeOffset start)
-    {
-        DriftInput input = errors.ToDriftInput(error);
-        for (int i = 0; i < _ruleCount; i++)
-        {
-            if (_options.Rules[i].Watches != watched)
-            {
-                continue;
-            }
-
-            DriftRule rule = RuleAt(i);
-            if (rule.CanRead(input))
-            {
-                Publish(i, rule.Evaluate(input), period, sink, counters, errors, start);
-            }
-        }
-    }
-
     /// <summary>Turns a period's raw input into the actual fed to the model under the gap policy; false when nothing is fed.</summary>
     private bool ResolveActual(bool has, double sum, out double actual, out bool scored)
     {
@@ -396,38 +377,6 @@ public sealed class SeriesStep<TKey>
                 return false;
         }
     }
-
-    private void Publish(int ruleIndex, in DriftTransition transition, long period, ISeriesSink<TKey> sink, SeriesCounters? counters, ErrorSummary? errors, DateTimeOffset? start)
-    {
-        if (transition.IsNone)
-        {
-            return;
-        }
-
-        if (counters is not null)
-        {
-            switch (transition.Kind)
-            {
-                case DriftTransitionKind.Raised:
-                    counters.AlertsRaised++;
-                    break;
-                case DriftTransitionKind.Escalated:
-                    counters.AlertsEscalated++;
-                    break;
-                case DriftTransitionKind.Cleared:
-                    counters.AlertsCleared++;
-                    break;
-            }
-        }
-
-        sink.Alert(new DriftAlert<TKey>(
-            _key, period, start ?? _options.Calendar.StartOf(period), ruleIndex, _options.RuleLabels[ruleIndex],
-            transition, errors ?? ErrorSummary.Of(WatchedTracker(ruleIndex))));
-    }
-
-    /// <summary>The error tracker the rule at <paramref name="ruleIndex"/> watches.</summary>
-    internal ErrorTracker WatchedTracker(int ruleIndex) =>
-        _options.Rules[ruleIndex].Watches == WatchedModel.Reference ? _reference!.Tracker : _model.Tracker;
 
     /// <summary>The forecast <paramref name="horizon"/> periods ahead with its interval; NaN fields while the method is cold.</summary>
     internal ForecastPoint Point(int horizon)
