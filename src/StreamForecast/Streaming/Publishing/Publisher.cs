@@ -12,7 +12,9 @@ namespace StreamForecast.Streaming;
 /// <remarks>
 /// <para><b>Push subscribers</b> (<see cref="Subscribe(IObserver{T})"/>) each get a bounded buffer of
 /// <see cref="PublishingOptions.SubscriberCapacity"/> items and their own delivery loop (one task) that calls the
-/// observer one item at a time. When a buffer is full the oldest item is dropped, counted on the subscription and
+/// observer one item at a time. The loop sleeps only when its buffer is empty, and drains it up to 256 items per take
+/// (see <see cref="DeliveryBuffer{T}"/>: one short lock per published item, one per batch delivered, one thread-pool
+/// wake-up per idle-to-busy change). When a buffer is full the oldest item is dropped, counted on the subscription and
 /// reported to the dropped-item callback. An observer's exception is caught, counted and reported to the fault
 /// callback; delivery goes on for that observer and every other one. The publisher never calls
 /// <see cref="IObserver{T}.OnError"/> except after <see cref="Complete"/> with an error.</para>
@@ -94,9 +96,9 @@ internal sealed partial class Publisher<T> : IObservable<T>
     /// <returns><see langword="true"/> if the item was published; <see langword="false"/> if a pull reader is full.</returns>
     /// <exception cref="InvalidOperationException"><see cref="Complete"/> has been called.</exception>
     /// <remarks>
-    /// Synchronous and never waits. Cost: O(subscribers + readers) short buffer operations; with readers attached,
-    /// one short lock shared by all publishers. Allocation-free once each subscriber's buffer has grown to its
-    /// high-water mark (the buffers are the channels' own).
+    /// Synchronous and never waits. Cost: O(subscribers + readers) short buffer operations (per push subscriber one
+    /// short lock and a copy of the item); with readers attached, one short lock shared by all publishers.
+    /// Allocation-free once each buffer has grown to its high-water mark.
     /// </remarks>
     public bool TryPublish(in T item)
     {

@@ -1,0 +1,231 @@
+using System.Diagnostics;
+using System.Runtime.CompilerServices;
+using System.Threading.Tasks.Sources;
+
+namespace StreamForecast.Streaming;
+
+/// <summary>
+/// One push subscriber's buffer: a bounded ring that drops its oldest item when full, written by any number of
+/// publishing threads and drained by one delivery loop in batches.
+/// </summary>
+/// <typeparam name="T">The item type.</typeparam>
+/// <remarks>
+/// <para><b>Why not a channel.</b> A bounded channel takes its lock once per item on both sides and wakes its reader
+/// per item when the reader keeps up; with engine-sized items the reader then fell behind the engine and dropped
+/// updates (issue 15). Here a write is one short lock and a copy into the ring; the reader takes up to a whole batch
+/// under one lock, and a writer wakes the reader only when the reader has found the ring empty and gone to sleep.</para>
+/// <para><b>Capacity.</b> The ring holds at most <c>capacity</c> items; it starts small and doubles up to that, so the
+/// steady state allocates nothing once it has reached its high-water mark. Items the reader has taken (at most one
+/// batch) are out of the ring: they are delivered, not dropped, unless the subscription is disposed.</para>
+/// <para><b>Thread safety.</b> <see cref="Write"/>, <see cref="Close"/> and <see cref="Count"/> are thread-safe;
+/// <see cref="WaitToReadAsync"/> and <see cref="Take"/> belong to the single reader. The reader's wait is a reusable
+/// value-task source queued to the thread pool's global queue as a work item, so waking it allocates nothing and its
+/// continuation never runs inline on a writer's thread (nor waits in a busy owner loop's local queue).</para>
+/// </remarks>
+internal sealed class DeliveryBuffer<T> : IValueTaskSource<bool>, IThreadPoolWorkItem
+{
+    private const int InitialSize = 64;
+
+    private readonly Lock _lock = new();
+    private readonly int _capacity;
+    private ManualResetValueTaskSourceCore<bool> _signal;
+    private T[] _ring;
+    private int _head;
+    private int _count;
+    private bool _closed;
+    private bool _readerWaiting;
+
+    public DeliveryBuffer(int capacity)
+    {
+        Debug.Assert(capacity >= 1, "validated by PublishingOptions");
+        _capacity = capacity;
+        _ring = new T[Math.Min(capacity, InitialSize)];
+    }
+
+    /// <summary>How many items wait in the ring (not counting a batch the reader has taken).</summary>
+    public int Count
+    {
+        get
+        {
+            lock (_lock)
+            {
+                return _count;
+            }
+        }
+    }
+
+    /// <summary>
+    /// Adds an item at the end. When the ring is full, the oldest item makes room: it is returned in
+    /// <paramref name="dropped"/> and the method returns <see langword="true"/>. After <see cref="Close"/> the item
+    /// is ignored.
+    /// </summary>
+    public bool Write(in T item, out T dropped)
+    {
+        bool wake;
+        bool drop = false;
+        dropped = default!;
+        lock (_lock)
+        {
+            if (_closed)
+            {
+                return false;
+            }
+
+            T[] ring = _ring;
+            if (_count == ring.Length)
+            {
+                if (ring.Length < _capacity)
+                {
+                    ring = Grow();
+                }
+                else
+                {
+                    dropped = ring[_head];
+                    ring[_head] = default!;
+                    _head = _head + 1 == ring.Length ? 0 : _head + 1;
+                    _count--;
+                    drop = true;
+                }
+            }
+
+            int tail = _head + _count;
+            if (tail >= ring.Length)
+            {
+                tail -= ring.Length;
+            }
+
+            ring[tail] = item;
+            _count++;
+            wake = _readerWaiting;
+            _readerWaiting = false;
+        }
+
+        if (wake)
+        {
+            WakeReader();
+        }
+
+        return drop;
+    }
+
+    /// <summary>
+    /// Ends writing. With <paramref name="discard"/> the buffered items are thrown away (an unsubscribe); otherwise the
+    /// reader still takes them. Idempotent.
+    /// </summary>
+    public void Close(bool discard)
+    {
+        bool wake;
+        lock (_lock)
+        {
+            _closed = true;
+            if (discard && _count > 0)
+            {
+                Array.Clear(_ring);
+                _head = 0;
+                _count = 0;
+            }
+
+            wake = _readerWaiting;
+            _readerWaiting = false;
+        }
+
+        if (wake)
+        {
+            WakeReader();
+        }
+    }
+
+    /// <summary>
+    /// Reader only: completes with <see langword="true"/> when items wait, or with <see langword="false"/> when the ring
+    /// is empty and closed. Completes synchronously, without allocating, when it can answer at once.
+    /// </summary>
+    public ValueTask<bool> WaitToReadAsync()
+    {
+        lock (_lock)
+        {
+            if (_count > 0)
+            {
+                return new ValueTask<bool>(true);
+            }
+
+            if (_closed)
+            {
+                return new ValueTask<bool>(false);
+            }
+
+            // Reset before any writer can see the flag, so a write that races with the await still completes it.
+            _signal.Reset();
+            _readerWaiting = true;
+            return new ValueTask<bool>(this, _signal.Version);
+        }
+    }
+
+    /// <summary>Reader only: moves up to <c>batch.Length</c> of the oldest items into <paramref name="batch"/>.</summary>
+    /// <returns>How many items were taken (0 when the ring is empty).</returns>
+    public int Take(T[] batch)
+    {
+        lock (_lock)
+        {
+            int n = Math.Min(_count, batch.Length);
+            if (n == 0)
+            {
+                return 0;
+            }
+
+            T[] ring = _ring;
+            int first = Math.Min(n, ring.Length - _head);
+            Array.Copy(ring, _head, batch, 0, first);
+            Array.Copy(ring, 0, batch, first, n - first);
+            if (RuntimeHelpers.IsReferenceOrContainsReferences<T>())
+            {
+                // Let the taken items' references go with the batch, not stay reachable from the ring.
+                Array.Clear(ring, _head, first);
+                Array.Clear(ring, 0, n - first);
+            }
+
+            _head += n;
+            if (_head >= ring.Length)
+            {
+                _head -= ring.Length;
+            }
+
+            _count -= n;
+            return n;
+        }
+    }
+
+    /// <summary>Runs on a pool thread after <see cref="WakeReader"/>: completes the reader's wait, continuing it here.</summary>
+    void IThreadPoolWorkItem.Execute()
+    {
+        bool more;
+        lock (_lock)
+        {
+            // False only for a ring closed and empty (a discard, or a close with nothing left), as for a direct answer.
+            more = _count > 0 || !_closed;
+        }
+
+        _signal.SetResult(more);
+    }
+
+    bool IValueTaskSource<bool>.GetResult(short token) => _signal.GetResult(token);
+
+    ValueTaskSourceStatus IValueTaskSource<bool>.GetStatus(short token) => _signal.GetStatus(token);
+
+    void IValueTaskSource<bool>.OnCompleted(Action<object?> continuation, object? state, short token, ValueTaskSourceOnCompletedFlags flags) =>
+        _signal.OnCompleted(continuation, state, token, flags);
+
+    private void WakeReader() => ThreadPool.UnsafeQueueUserWorkItem(this, preferLocal: false);
+
+    private T[] Grow()
+    {
+        // Called under the lock with a full ring: unroll it into a larger array, oldest first.
+        T[] old = _ring;
+        var grown = new T[(int)Math.Min((long)old.Length * 2, _capacity)];
+        int first = old.Length - _head;
+        Array.Copy(old, _head, grown, 0, first);
+        Array.Copy(old, 0, grown, first, _head);
+        _ring = grown;
+        _head = 0;
+        return grown;
+    }
+}
