@@ -75,4 +75,35 @@ public sealed class DeliveryBufferTests
         Assert.Equal(0, other.Count);
         Assert.False(await other.WaitToReadAsync());
     }
+
+    [Fact]
+    public async Task Write_DeferredWake_ReaderSleepsUntilWakeIfPendingOrARunOfItems()
+    {
+        var buffer = new DeliveryBuffer<int>(1000);
+        int[] batch = new int[256];
+
+        // Fewer deferred items than the run that wakes by itself: the reader sleeps until WakeIfPending.
+        ValueTask<bool> wait = buffer.WaitToReadAsync();
+        for (int i = 0; i < DeliveryBuffer<int>.DeferredWakeItems - 1; i++)
+        {
+            buffer.Write(i, out _, deferWake: true);
+        }
+
+        Assert.False(wait.IsCompleted);
+        buffer.WakeIfPending();
+        Assert.True(await wait.AsTask().WaitAsync(TimeSpan.FromSeconds(30)));
+        Assert.Equal(DeliveryBuffer<int>.DeferredWakeItems - 1, buffer.Take(batch));
+
+        // A full run of deferred items wakes the reader without WakeIfPending; WakeIfPending on an empty ring does nothing.
+        wait = buffer.WaitToReadAsync();
+        buffer.WakeIfPending();
+        Assert.False(wait.IsCompleted);
+        for (int i = 0; i < DeliveryBuffer<int>.DeferredWakeItems; i++)
+        {
+            buffer.Write(i, out _, deferWake: true);
+        }
+
+        Assert.True(await wait.AsTask().WaitAsync(TimeSpan.FromSeconds(30)));
+        Assert.Equal(DeliveryBuffer<int>.DeferredWakeItems, buffer.Take(batch));
+    }
 }

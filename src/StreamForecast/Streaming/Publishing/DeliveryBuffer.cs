@@ -13,7 +13,8 @@ namespace StreamForecast.Streaming;
 /// <para><b>Why not a channel.</b> A bounded channel takes its lock once per item on both sides and wakes its reader
 /// per item when the reader keeps up; with engine-sized items the reader then fell behind the engine and dropped
 /// updates (issue 15). Here a write is one short lock and a copy into the ring; the reader takes up to a whole batch
-/// under one lock, and a writer wakes the reader only when the reader has found the ring empty and gone to sleep.</para>
+/// under one lock, and a writer wakes the reader only when the reader has found the ring empty and gone to sleep (an
+/// owner loop may defer even that until a run of items waits or it runs out of work, see <see cref="Write"/>).</para>
 /// <para><b>Capacity.</b> The ring holds at most <c>capacity</c> items; it starts small and doubles up to that, so the
 /// steady state allocates nothing once it has reached its high-water mark. Items the reader has taken (at most one
 /// batch) are out of the ring: they are delivered, not dropped, unless the subscription is disposed.</para>
@@ -24,6 +25,9 @@ namespace StreamForecast.Streaming;
 /// </remarks>
 internal sealed class DeliveryBuffer<T> : IValueTaskSource<bool>, IThreadPoolWorkItem
 {
+    /// <summary>How many items a deferred write lets wait before it wakes a sleeping reader itself.</summary>
+    public const int DeferredWakeItems = 64;
+
     private const int InitialSize = 64;
 
     private readonly Lock _lock = new();
@@ -59,7 +63,14 @@ internal sealed class DeliveryBuffer<T> : IValueTaskSource<bool>, IThreadPoolWor
     /// <paramref name="dropped"/> and the method returns <see langword="true"/>. After <see cref="Close"/> the item
     /// is ignored.
     /// </summary>
-    public bool Write(in T item, out T dropped)
+    /// <param name="item">The item.</param>
+    /// <param name="dropped">The item dropped to make room, when the method returns <see langword="true"/>.</param>
+    /// <param name="deferWake">
+    /// Leave a sleeping reader asleep until <see cref="DeferredWakeItems"/> items wait or <see cref="WakeIfPending"/> is
+    /// called: for an owner loop that calls <see cref="WakeIfPending"/> whenever it runs out of work, so that a reader
+    /// that keeps up is woken once per run of items instead of once per item.
+    /// </param>
+    public bool Write(in T item, out T dropped, bool deferWake = false)
     {
         bool wake;
         bool drop = false;
@@ -96,8 +107,8 @@ internal sealed class DeliveryBuffer<T> : IValueTaskSource<bool>, IThreadPoolWor
 
             ring[tail] = item;
             _count++;
-            wake = _readerWaiting;
-            _readerWaiting = false;
+            wake = _readerWaiting && (!deferWake || _count >= DeferredWakeItems);
+            _readerWaiting &= !wake;
         }
 
         if (wake)
@@ -106,6 +117,22 @@ internal sealed class DeliveryBuffer<T> : IValueTaskSource<bool>, IThreadPoolWor
         }
 
         return drop;
+    }
+
+    /// <summary>Wakes the reader if it sleeps while items wait (after writes with a deferred wake-up).</summary>
+    public void WakeIfPending()
+    {
+        bool wake;
+        lock (_lock)
+        {
+            wake = _readerWaiting && _count > 0;
+            _readerWaiting &= !wake;
+        }
+
+        if (wake)
+        {
+            WakeReader();
+        }
     }
 
     /// <summary>

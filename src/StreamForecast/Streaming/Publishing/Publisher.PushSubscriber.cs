@@ -36,13 +36,15 @@ internal sealed partial class Publisher<T>
 
         /// <summary>Buffers an item; when the buffer is full its oldest item is dropped and reported.</summary>
         [MethodImpl(MethodImplOptions.AggressiveInlining)]
-        public void Offer(in T item)
+        public void Offer(in T item, bool deferWake)
         {
-            if (_buffer.Write(in item, out T dropped))
+            if (_buffer.Write(in item, out T dropped, deferWake))
             {
                 OnItemDropped(dropped);
             }
         }
+
+        public void WakeIfPending() => _buffer.WakeIfPending();
 
         public void Start() => _loop = Task.Run(RunAsync);
 

@@ -100,7 +100,25 @@ internal sealed partial class Publisher<T> : IObservable<T>
     /// short lock and a copy of the item); with readers attached, one short lock shared by all publishers.
     /// Allocation-free once each buffer has grown to its high-water mark.
     /// </remarks>
-    public bool TryPublish(in T item)
+    public bool TryPublish(in T item) => Publish(in item, deferWake: false);
+
+    /// <summary><see cref="TryPublish"/> for an owner loop that calls <see cref="WakeSubscribers"/> whenever it runs out of work: a
+    /// sleeping push subscriber wakes when <see cref="DeliveryBuffer{T}.DeferredWakeItems"/> items wait or at that call.</summary>
+    /// <param name="item">The item.</param>
+    /// <returns>As <see cref="TryPublish"/>.</returns>
+    public bool TryPublishDeferred(in T item) => Publish(in item, deferWake: true);
+
+    /// <summary>Wakes each push subscriber asleep while items wait (see <see cref="TryPublishDeferred"/>). O(subscribers), thread-safe.</summary>
+    public void WakeSubscribers()
+    {
+        PushSubscriber[] subscribers = _subscribers;
+        for (int i = 0; i < subscribers.Length; i++)
+        {
+            subscribers[i].WakeIfPending();
+        }
+    }
+
+    private bool Publish(in T item, bool deferWake)
     {
         if (_completed)
         {
@@ -132,7 +150,7 @@ internal sealed partial class Publisher<T> : IObservable<T>
         PushSubscriber[] subscribers = _subscribers;
         for (int i = 0; i < subscribers.Length; i++)
         {
-            subscribers[i].Offer(item);
+            subscribers[i].Offer(item, deferWake);
         }
 
         return true;
