@@ -42,38 +42,41 @@ public sealed class DeliveryBufferTests
         Assert.True(buffer.Count == 0);
     }
 
+    private static readonly TimeSpan s_guard = TimeSpan.FromSeconds(30);
+
     [Fact]
-    public async Task WaitToReadAsync_EmptyThenWritten_CompletesTrueAndAfterCloseDrainsThenFalse()
+    public async Task WaitToRead_EmptyThenWritten_ReturnsTrueAndAfterCloseDrainsThenFalse()
     {
         var buffer = new DeliveryBuffer<int>(10);
-        ValueTask<bool> wait = buffer.WaitToReadAsync();
-        Assert.False(wait.IsCompleted);
+        Task<bool> wait = Task.Run(buffer.WaitToRead);
+        await AsleepAsync(buffer);
         buffer.Write(1, out _);
-        Assert.True(await wait.AsTask().WaitAsync(TimeSpan.FromSeconds(30)));
+        Assert.True(await wait.WaitAsync(s_guard));
 
         buffer.Write(2, out _);
         buffer.Close(discard: false);
         buffer.Write(3, out _); // ignored after close
-        Assert.True(await buffer.WaitToReadAsync());
+        Assert.True(buffer.WaitToRead());
         int[] batch = new int[10];
         Assert.Equal(2, buffer.Take(batch));
         Assert.Equal([1, 2], batch[..2]);
-        Assert.False(await buffer.WaitToReadAsync());
+        Assert.False(buffer.WaitToRead());
     }
 
     [Fact]
     public async Task Close_DiscardWhileReaderWaits_WakesReaderWithFalse()
     {
         var buffer = new DeliveryBuffer<string>(4);
-        ValueTask<bool> wait = buffer.WaitToReadAsync();
+        Task<bool> wait = Task.Run(buffer.WaitToRead);
+        await AsleepAsync(buffer);
         buffer.Close(discard: true);
-        Assert.False(await wait.AsTask().WaitAsync(TimeSpan.FromSeconds(30)));
+        Assert.False(await wait.WaitAsync(s_guard));
 
         var other = new DeliveryBuffer<string>(4);
         other.Write("a", out _);
         other.Close(discard: true);
         Assert.Equal(0, other.Count);
-        Assert.False(await other.WaitToReadAsync());
+        Assert.False(other.WaitToRead());
     }
 
     [Fact]
@@ -83,27 +86,39 @@ public sealed class DeliveryBufferTests
         int[] batch = new int[256];
 
         // Fewer deferred items than the run that wakes by itself: the reader sleeps until WakeIfPending.
-        ValueTask<bool> wait = buffer.WaitToReadAsync();
+        Task<bool> wait = Task.Run(buffer.WaitToRead);
+        await AsleepAsync(buffer);
         for (int i = 0; i < DeliveryBuffer<int>.DeferredWakeItems - 1; i++)
         {
             buffer.Write(i, out _, deferWake: true);
         }
 
-        Assert.False(wait.IsCompleted);
+        Assert.True(buffer.IsReaderWaiting); // only a wake-up clears it
         buffer.WakeIfPending();
-        Assert.True(await wait.AsTask().WaitAsync(TimeSpan.FromSeconds(30)));
+        Assert.True(await wait.WaitAsync(s_guard));
         Assert.Equal(DeliveryBuffer<int>.DeferredWakeItems - 1, buffer.Take(batch));
 
         // A full run of deferred items wakes the reader without WakeIfPending; WakeIfPending on an empty ring does nothing.
-        wait = buffer.WaitToReadAsync();
+        wait = Task.Run(buffer.WaitToRead);
+        await AsleepAsync(buffer);
         buffer.WakeIfPending();
-        Assert.False(wait.IsCompleted);
+        Assert.True(buffer.IsReaderWaiting);
         for (int i = 0; i < DeliveryBuffer<int>.DeferredWakeItems; i++)
         {
             buffer.Write(i, out _, deferWake: true);
         }
 
-        Assert.True(await wait.AsTask().WaitAsync(TimeSpan.FromSeconds(30)));
+        Assert.True(await wait.WaitAsync(s_guard));
         Assert.Equal(DeliveryBuffer<int>.DeferredWakeItems, buffer.Take(batch));
+    }
+
+    private static async Task AsleepAsync<T>(DeliveryBuffer<T> buffer)
+    {
+        // Waits (bounded by the guard) until the reader has found the ring empty and gone to sleep.
+        using var guard = new CancellationTokenSource(s_guard);
+        while (!buffer.IsReaderWaiting)
+        {
+            await Task.Delay(1, guard.Token);
+        }
     }
 }

@@ -1,6 +1,5 @@
 using System.Diagnostics;
 using System.Runtime.CompilerServices;
-using System.Threading.Tasks.Sources;
 
 namespace StreamForecast.Streaming;
 
@@ -19,11 +18,12 @@ namespace StreamForecast.Streaming;
 /// steady state allocates nothing once it has reached its high-water mark. Items the reader has taken (at most one
 /// batch) are out of the ring: they are delivered, not dropped, unless the subscription is disposed.</para>
 /// <para><b>Thread safety.</b> <see cref="Write"/>, <see cref="Close"/> and <see cref="Count"/> are thread-safe;
-/// <see cref="WaitToReadAsync"/> and <see cref="Take"/> belong to the single reader. The reader's wait is a reusable
-/// value-task source queued to the thread pool's global queue as a work item, so waking it allocates nothing and its
-/// continuation never runs inline on a writer's thread (nor waits in a busy owner loop's local queue).</para>
+/// <see cref="WaitToRead"/> and <see cref="Take"/> belong to the single reader, which runs on a thread of its own and
+/// sleeps on a monitor: waking it allocates nothing and needs no thread-pool thread. (Waking a pool continuation
+/// instead left the reader queued behind the busy owner loop and the posting thread until the pool added a thread,
+/// long enough for a 10,000-item buffer to overflow at the engine's rate.)</para>
 /// </remarks>
-internal sealed class DeliveryBuffer<T> : IValueTaskSource<bool>, IThreadPoolWorkItem
+internal sealed class DeliveryBuffer<T>
 {
     /// <summary>How many items a deferred write lets wait before it wakes a sleeping reader itself.</summary>
     public const int DeferredWakeItems = 64;
@@ -32,7 +32,9 @@ internal sealed class DeliveryBuffer<T> : IValueTaskSource<bool>, IThreadPoolWor
 
     private readonly Lock _lock = new();
     private readonly int _capacity;
-    private ManualResetValueTaskSourceCore<bool> _signal;
+    // The reader sleeps on this monitor until a writer sets _woken (Monitor.Wait/Pulse: nothing to dispose).
+    private readonly object _sleep = new();
+    private bool _woken;
     private T[] _ring;
     private int _head;
     private int _count;
@@ -162,28 +164,54 @@ internal sealed class DeliveryBuffer<T> : IValueTaskSource<bool>, IThreadPoolWor
         }
     }
 
-    /// <summary>
-    /// Reader only: completes with <see langword="true"/> when items wait, or with <see langword="false"/> when the ring
-    /// is empty and closed. Completes synchronously, without allocating, when it can answer at once.
-    /// </summary>
-    public ValueTask<bool> WaitToReadAsync()
+    /// <summary>Whether the reader sleeps waiting for items (for tests).</summary>
+    internal bool IsReaderWaiting
     {
-        lock (_lock)
+        get
         {
-            if (_count > 0)
+            lock (_lock)
             {
-                return new ValueTask<bool>(true);
+                return _readerWaiting;
+            }
+        }
+    }
+
+    /// <summary>
+    /// Reader only: returns <see langword="true"/> when items wait, or <see langword="false"/> when the ring is empty and
+    /// closed; otherwise sleeps until a writer (or <see cref="Close"/>) wakes it.
+    /// </summary>
+    public bool WaitToRead()
+    {
+        while (true)
+        {
+            lock (_lock)
+            {
+                if (_count > 0)
+                {
+                    return true;
+                }
+
+                if (_closed)
+                {
+                    return false;
+                }
+
+                // Cleared before any writer can see the flag, so a write between here and the wait still wakes it.
+                lock (_sleep)
+                {
+                    _woken = false;
+                }
+
+                _readerWaiting = true;
             }
 
-            if (_closed)
+            lock (_sleep)
             {
-                return new ValueTask<bool>(false);
+                while (!_woken)
+                {
+                    Monitor.Wait(_sleep);
+                }
             }
-
-            // Reset before any writer can see the flag, so a write that races with the await still completes it.
-            _signal.Reset();
-            _readerWaiting = true;
-            return new ValueTask<bool>(this, _signal.Version);
         }
     }
 
@@ -221,27 +249,14 @@ internal sealed class DeliveryBuffer<T> : IValueTaskSource<bool>, IThreadPoolWor
         }
     }
 
-    /// <summary>Runs on a pool thread after <see cref="WakeReader"/>: completes the reader's wait, continuing it here.</summary>
-    void IThreadPoolWorkItem.Execute()
+    private void WakeReader()
     {
-        bool more;
-        lock (_lock)
+        lock (_sleep)
         {
-            // False only for a ring closed and empty (a discard, or a close with nothing left), as for a direct answer.
-            more = _count > 0 || !_closed;
+            _woken = true;
+            Monitor.Pulse(_sleep);
         }
-
-        _signal.SetResult(more);
     }
-
-    bool IValueTaskSource<bool>.GetResult(short token) => _signal.GetResult(token);
-
-    ValueTaskSourceStatus IValueTaskSource<bool>.GetStatus(short token) => _signal.GetStatus(token);
-
-    void IValueTaskSource<bool>.OnCompleted(Action<object?> continuation, object? state, short token, ValueTaskSourceOnCompletedFlags flags) =>
-        _signal.OnCompleted(continuation, state, token, flags);
-
-    private void WakeReader() => ThreadPool.UnsafeQueueUserWorkItem(this, preferLocal: false);
 
     private T[] Grow()
     {

@@ -6,9 +6,10 @@ namespace StreamForecast.Streaming;
 /// </summary>
 /// <remarks>
 /// <para><b>Delivery.</b> Each subscriber has its own bounded buffer and its own delivery loop, which calls the
-/// observer one item at a time on a thread-pool thread (never two calls at once for one observer), in the order the
-/// items were published by each publishing thread. The loop wakes when items arrive in an empty buffer and then takes
-/// up to 256 buffered items at a time, delivering them before it takes more. A slow subscriber delays only itself:
+/// observer one item at a time on a background thread of its own (never two calls at once for one observer; one
+/// thread per subscription, so it never waits for a thread-pool thread), in the order the items were published by each
+/// publishing thread. The loop sleeps while its buffer is empty and, woken, takes up to 256 buffered items at a time,
+/// delivering them before it takes more. A slow subscriber delays only itself:
 /// when its buffer is full the oldest buffered item is dropped and counted in <see cref="DroppedCount"/> (items the
 /// loop has already taken are delivered, not dropped).</para>
 /// <para><b>Thread safety.</b> Every member is thread-safe. The counters are read without locks and may be up to one

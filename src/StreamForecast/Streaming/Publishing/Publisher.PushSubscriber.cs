@@ -16,7 +16,7 @@ internal sealed partial class Publisher<T>
         private readonly IObserver<T> _observer;
         private readonly DeliveryBuffer<T> _buffer;
         private readonly T[] _batch;
-        private Task _loop = Task.CompletedTask;
+        private readonly TaskCompletionSource _loopEnded = new(TaskCreationOptions.RunContinuationsAsynchronously);
         private volatile bool _stopped;
 
         public PushSubscriber(Publisher<T> owner, IObserver<T> observer, long id)
@@ -32,7 +32,7 @@ internal sealed partial class Publisher<T>
 
         public int BufferedCount => _buffer.Count;
 
-        public Task Completion => _loop;
+        public Task Completion => _loopEnded.Task;
 
         /// <summary>Buffers an item; when the buffer is full its oldest item is dropped and reported.</summary>
         [MethodImpl(MethodImplOptions.AggressiveInlining)]
@@ -46,7 +46,8 @@ internal sealed partial class Publisher<T>
 
         public void WakeIfPending() => _buffer.WakeIfPending();
 
-        public void Start() => _loop = Task.Run(RunAsync);
+        /// <summary>Starts the delivery loop on a background thread of its own (see <see cref="DeliveryBuffer{T}"/> for why).</summary>
+        public void Start() => new Thread(Run) { IsBackground = true, Name = "StreamForecast delivery " + Handle.Id }.Start();
 
         public void CloseBuffer() => _buffer.Close(discard: false);
 
@@ -63,7 +64,11 @@ internal sealed partial class Publisher<T>
         }
 
         /// <summary>For a subscription made after completion: the final notification, on the caller's thread.</summary>
-        public void DeliverFinalNow(Exception? error) => Notify(error);
+        public void DeliverFinalNow(Exception? error)
+        {
+            Notify(error);
+            _loopEnded.TrySetResult();
+        }
 
         private void OnItemDropped(T item)
         {
@@ -85,14 +90,14 @@ internal sealed partial class Publisher<T>
             }
         }
 
-        private async Task RunAsync()
+        private void Run()
         {
             DeliveryBuffer<T> buffer = _buffer;
             T[] batch = _batch;
             try
             {
-                // Each wake-up drains everything buffered, a batch at a time, before waiting again.
-                while (await buffer.WaitToReadAsync().ConfigureAwait(false))
+                // Each wake-up drains everything buffered, a batch at a time, before sleeping again.
+                while (buffer.WaitToRead())
                 {
                     int taken;
                     while (!_stopped && (taken = buffer.Take(batch)) > 0)
@@ -114,6 +119,7 @@ internal sealed partial class Publisher<T>
             finally
             {
                 _owner.OnLoopEnded();
+                _loopEnded.TrySetResult();
             }
         }
 

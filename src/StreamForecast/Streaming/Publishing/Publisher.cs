@@ -11,10 +11,10 @@ namespace StreamForecast.Streaming;
 /// <typeparam name="T">The item type (the engine's payloads are small <c>readonly record struct</c>s).</typeparam>
 /// <remarks>
 /// <para><b>Push subscribers</b> (<see cref="Subscribe(IObserver{T})"/>) each get a bounded buffer of
-/// <see cref="PublishingOptions.SubscriberCapacity"/> items and their own delivery loop (one task) that calls the
-/// observer one item at a time. The loop sleeps only when its buffer is empty, and drains it up to 256 items per take
-/// (see <see cref="DeliveryBuffer{T}"/>: one short lock per published item, one per batch delivered, one thread-pool
-/// wake-up per idle-to-busy change). When a buffer is full the oldest item is dropped, counted on the subscription and
+/// <see cref="PublishingOptions.SubscriberCapacity"/> items and their own delivery loop (a background thread each)
+/// that calls the observer one item at a time. The loop sleeps only when its buffer is empty, and drains it up to 256
+/// items per take (see <see cref="DeliveryBuffer{T}"/>: one short lock per published item, one per batch delivered,
+/// one wake-up per idle-to-busy change). When a buffer is full the oldest item is dropped, counted on the subscription and
 /// reported to the dropped-item callback. An observer's exception is caught, counted and reported to the fault
 /// callback; delivery goes on for that observer and every other one. The publisher never calls
 /// <see cref="IObserver{T}.OnError"/> except after <see cref="Complete"/> with an error.</para>
@@ -184,7 +184,7 @@ internal sealed partial class Publisher<T> : IObservable<T>
     /// <param name="observer">The observer; called by its own delivery loop, never concurrently.</param>
     /// <returns>The subscription: counters, its delivery loop's <see cref="DeliverySubscription.Completion"/>, and Dispose.</returns>
     /// <exception cref="ArgumentNullException"><paramref name="observer"/> is null.</exception>
-    /// <remarks>Allocates the buffer and starts one task. Thread-safe.</remarks>
+    /// <remarks>Allocates the buffer and starts one background thread. Thread-safe.</remarks>
     public DeliverySubscription Subscribe(IObserver<T> observer)
     {
         ArgumentNullException.ThrowIfNull(observer);
