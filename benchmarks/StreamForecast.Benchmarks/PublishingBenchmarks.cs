@@ -1,4 +1,5 @@
 using System.Reactive.Subjects;
+using System.Threading.Channels;
 using BenchmarkDotNet.Attributes;
 using StreamForecast.Streaming;
 
@@ -12,6 +13,8 @@ namespace StreamForecast.Benchmarks;
 /// waits until every subscriber has received every item, so the time per operation is the inverse of the sustained
 /// delivery rate. The subscribers' buffers hold a whole invocation, so nothing is dropped and the wait always ends
 /// (drops at the default buffer are counted separately, by the <c>drops</c> mode of the benchmark program).
+/// <see cref="ChannelPerSubscriber"/> is the design the publisher had before issue 15 (a drop-oldest bounded channel
+/// per subscriber, read one item at a time), kept here so that before and after share one run.
 /// </summary>
 [MemoryDiagnoser]
 public class PublishingBenchmarks
@@ -23,6 +26,8 @@ public class PublishingBenchmarks
     private Publisher<ForecastUpdate<long>> _publisher = null!;
     private CountingObserver[] _observers = [];
     private DeliverySubscription[] _subscriptions = [];
+    private Channel<ForecastUpdate<long>>[] _channels = [];
+    private Task[] _channelLoops = [];
     private int _remaining;
     private TaskCompletionSource _allDone = new(TaskCreationOptions.RunContinuationsAsynchronously);
 
@@ -53,6 +58,31 @@ public class PublishingBenchmarks
             _subject.Subscribe(new CountingObserver(this));
             _subscriptions[s] = _publisher.Subscribe(_observers[s]);
         }
+
+        _channels = new Channel<ForecastUpdate<long>>[Subscribers];
+        _channelLoops = new Task[Subscribers];
+        for (int s = 0; s < Subscribers; s++)
+        {
+            _channels[s] = Channel.CreateBounded<ForecastUpdate<long>>(new BoundedChannelOptions(Ops)
+            {
+                FullMode = BoundedChannelFullMode.DropOldest,
+                SingleReader = true,
+                SingleWriter = false,
+                AllowSynchronousContinuations = false,
+            });
+            ChannelReader<ForecastUpdate<long>> reader = _channels[s].Reader;
+            IObserver<ForecastUpdate<long>> observer = _observers[s];
+            _channelLoops[s] = Task.Run(async () =>
+            {
+                while (await reader.WaitToReadAsync().ConfigureAwait(false))
+                {
+                    while (reader.TryRead(out ForecastUpdate<long> item))
+                    {
+                        observer.OnNext(item);
+                    }
+                }
+            });
+        }
     }
 
     /// <summary>Completes the publisher and checks that nothing was dropped.</summary>
@@ -61,6 +91,12 @@ public class PublishingBenchmarks
     {
         _publisher.Complete();
         _publisher.Completion.GetAwaiter().GetResult();
+        foreach (Channel<ForecastUpdate<long>> c in _channels)
+        {
+            c.Writer.TryComplete();
+        }
+
+        Task.WaitAll(_channelLoops);
         foreach (DeliverySubscription s in _subscriptions)
         {
             if (s.DroppedCount != 0)
@@ -90,13 +126,7 @@ public class PublishingBenchmarks
     [Benchmark(OperationsPerInvoke = Ops)]
     public async Task<long> PublisherPush()
     {
-        Volatile.Write(ref _allDone, new TaskCompletionSource(TaskCreationOptions.RunContinuationsAsynchronously));
-        Volatile.Write(ref _remaining, Subscribers);
-        foreach (CountingObserver o in _observers)
-        {
-            o.Expect(Ops);
-        }
-
+        Task done = ExpectAll();
         Publisher<ForecastUpdate<long>> publisher = _publisher;
         ForecastUpdate<long>[] items = _items;
         for (int i = 0; i < Ops; i++)
@@ -104,8 +134,41 @@ public class PublishingBenchmarks
             publisher.TryPublish(in items[i & 1023]);
         }
 
-        await _allDone.Task.ConfigureAwait(false);
+        await done.ConfigureAwait(false);
         return _observers[0].Received;
+    }
+
+    /// <summary>The previous design: <c>TryWrite</c> into each subscriber's drop-oldest bounded channel, one reader task each.</summary>
+    /// <returns>The number of items the first subscriber received so far.</returns>
+    [Benchmark(OperationsPerInvoke = Ops)]
+    public async Task<long> ChannelPerSubscriber()
+    {
+        Task done = ExpectAll();
+        Channel<ForecastUpdate<long>>[] channels = _channels;
+        ForecastUpdate<long>[] items = _items;
+        for (int i = 0; i < Ops; i++)
+        {
+            for (int s = 0; s < channels.Length; s++)
+            {
+                channels[s].Writer.TryWrite(items[i & 1023]);
+            }
+        }
+
+        await done.ConfigureAwait(false);
+        return _observers[0].Received;
+    }
+
+    private Task ExpectAll()
+    {
+        var done = new TaskCompletionSource(TaskCreationOptions.RunContinuationsAsynchronously);
+        Volatile.Write(ref _allDone, done);
+        Volatile.Write(ref _remaining, Subscribers);
+        foreach (CountingObserver o in _observers)
+        {
+            o.Expect(Ops);
+        }
+
+        return done.Task;
     }
 
     private void ObserverDone()
