@@ -10,18 +10,18 @@ namespace StreamForecast.Streaming;
 /// <typeparam name="T">The item type.</typeparam>
 /// <remarks>
 /// <para><b>Why not a channel.</b> A bounded channel takes its lock once per item on both sides and wakes its reader
-/// per item when the reader keeps up; with engine-sized items the reader then fell behind the engine and dropped
-/// updates (issue 15). Here a write is one short lock and a copy into the ring; the reader takes up to a whole batch
-/// under one lock, and a writer wakes the reader only when the reader has found the ring empty and gone to sleep (an
-/// owner loop may defer even that until a run of items waits or it runs out of work, see <see cref="Write"/>).</para>
+/// per item when the reader keeps up (issue 15 measured drops with it at the engine's full rate; see
+/// benchmarks/README.md for what this design changes). Here a write is one short lock and a copy into the ring; the
+/// reader takes up to a whole batch under one lock, and a writer wakes the reader only when the reader has found the
+/// ring empty and gone to sleep (an owner loop may defer even that until a run of items waits or it runs out of work,
+/// see <see cref="Write"/>).</para>
 /// <para><b>Capacity.</b> The ring holds at most <c>capacity</c> items; it starts small and doubles up to that, so the
 /// steady state allocates nothing once it has reached its high-water mark. Items the reader has taken (at most one
 /// batch) are out of the ring: they are delivered, not dropped, unless the subscription is disposed.</para>
 /// <para><b>Thread safety.</b> <see cref="Write"/>, <see cref="Close"/> and <see cref="Count"/> are thread-safe;
 /// <see cref="WaitToRead"/> and <see cref="Take"/> belong to the single reader, which runs on a thread of its own and
-/// sleeps on a monitor: waking it allocates nothing and needs no thread-pool thread. (Waking a pool continuation
-/// instead left the reader queued behind the busy owner loop and the posting thread until the pool added a thread,
-/// long enough for a 10,000-item buffer to overflow at the engine's rate.)</para>
+/// sleeps on a monitor: waking it allocates nothing and never waits for a thread-pool thread (the owner loops and
+/// the posting code occupy pool threads without yielding while they have work).</para>
 /// </remarks>
 internal sealed class DeliveryBuffer<T>
 {
