@@ -9,11 +9,20 @@ using StreamForecast.Benchmarks;
 //   dotnet run -c Release --project benchmarks/StreamForecast.Benchmarks -- memory
 // The keyed paths as a plain program, for valgrind (see benchmarks/README.md):
 //   dotnet run -c Release --project benchmarks/StreamForecast.Benchmarks -- keyed-sim <engine|dictionary> <keys> <rounds>
+// Updates a no-op push subscriber loses at the engine's full rate (default buffer, one partition; issue 15 target 1):
+//   dotnet run -c Release --project benchmarks/StreamForecast.Benchmarks -- drops [observations] [keys]
 // Charts from the result CSVs of a run:
 //   dotnet run -c Release --project benchmarks/StreamForecast.Benchmarks -- chart <results folder> <output folder>
 if (args.Length > 0 && args[0] == "memory")
 {
     return await MemoryFootprint.RunAsync(args.Length > 1 ? int.Parse(args[1], System.Globalization.CultureInfo.InvariantCulture) : 1_000_000).ConfigureAwait(false);
+}
+
+if (args.Length > 0 && args[0] == "drops")
+{
+    return await SubscriberDrops.RunAsync(
+        args.Length > 1 ? int.Parse(args[1], System.Globalization.CultureInfo.InvariantCulture) : 10_000_000,
+        args.Length > 2 ? int.Parse(args[2], System.Globalization.CultureInfo.InvariantCulture) : 2_000_000).ConfigureAwait(false);
 }
 
 if (args.Length == 4 && args[0] == "keyed-sim")

@@ -58,7 +58,7 @@ internal sealed class Partition<TKey> : ISeriesSink<TKey>, ISeriesBudget
 
     void ISeriesSink<TKey>.Forecast(in ForecastUpdate<TKey> update)
     {
-        if (_pendingForecasts.Count > 0 || !_engine.ForecastPublisher.TryPublish(update))
+        if (_pendingForecasts.Count > 0 || !_engine.ForecastPublisher.TryPublishDeferred(update))
         {
             _pendingForecasts.Enqueue(update);
         }
@@ -66,7 +66,7 @@ internal sealed class Partition<TKey> : ISeriesSink<TKey>, ISeriesBudget
 
     void ISeriesSink<TKey>.Alert(in DriftAlert<TKey> alert)
     {
-        if (_pendingAlerts.Count > 0 || !_engine.AlertPublisher.TryPublish(alert))
+        if (_pendingAlerts.Count > 0 || !_engine.AlertPublisher.TryPublishDeferred(alert))
         {
             _pendingAlerts.Enqueue(alert);
         }
@@ -84,10 +84,20 @@ internal sealed class Partition<TKey> : ISeriesSink<TKey>, ISeriesBudget
                 Handle(message);
                 if (_pendingForecasts.Count > 0 || _pendingAlerts.Count > 0)
                 {
+                    WakeSubscribers();
                     await DrainPendingAsync().ConfigureAwait(false);
                 }
             }
+
+            // Out of work: wake the push subscribers that the deferred publishes above left asleep.
+            WakeSubscribers();
         }
+    }
+
+    private void WakeSubscribers()
+    {
+        _engine.ForecastPublisher.WakeSubscribers();
+        _engine.AlertPublisher.WakeSubscribers();
     }
 
     private async ValueTask DrainPendingAsync()

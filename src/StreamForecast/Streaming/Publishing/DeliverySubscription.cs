@@ -6,11 +6,14 @@ namespace StreamForecast.Streaming;
 /// </summary>
 /// <remarks>
 /// <para><b>Delivery.</b> Each subscriber has its own bounded buffer and its own delivery loop, which calls the
-/// observer one item at a time on a thread-pool thread (never two calls at once for one observer), in the order the
-/// items were published by each publishing thread. A slow subscriber delays only itself: when its buffer is full
-/// the oldest buffered item is dropped and counted in <see cref="DroppedCount"/>.</para>
-/// <para><b>Thread safety.</b> Every member is thread-safe. The counters are read without locks and may be a
-/// moment behind the delivery loop.</para>
+/// observer one item at a time on a background thread of its own (never two calls at once for one observer; one
+/// thread per subscription, so it never waits for a thread-pool thread), in the order the items were published by each
+/// publishing thread. The loop sleeps while its buffer is empty and, woken, takes up to 256 buffered items at a time,
+/// delivering them before it takes more. A slow subscriber delays only itself:
+/// when its buffer is full the oldest buffered item is dropped and counted in <see cref="DroppedCount"/> (items the
+/// loop has already taken are delivered, not dropped).</para>
+/// <para><b>Thread safety.</b> Every member is thread-safe. The counters are read without locks and may be up to one
+/// batch behind the delivery loop (<see cref="DeliveredCount"/> is added after each batch).</para>
 /// </remarks>
 public sealed class DeliverySubscription : IDisposable
 {
@@ -40,7 +43,7 @@ public sealed class DeliverySubscription : IDisposable
     /// <summary>How many times one of the observer's methods threw (each is also reported to the fault callback).</summary>
     public long FaultCount => Interlocked.Read(ref _faults);
 
-    /// <summary>How many items wait in this subscriber's buffer. O(1); takes the buffer's lock briefly.</summary>
+    /// <summary>How many items wait in this subscriber's buffer (not counting a batch its loop has taken). O(1); takes the buffer's lock briefly.</summary>
     public int BufferedCount => _control.BufferedCount;
 
     /// <summary>
@@ -61,7 +64,7 @@ public sealed class DeliverySubscription : IDisposable
     /// </remarks>
     public void Dispose() => _control.Stop();
 
-    internal void CountDelivered() => Interlocked.Increment(ref _delivered);
+    internal void CountDelivered(int count) => Interlocked.Add(ref _delivered, count);
 
     internal void CountDropped() => Interlocked.Increment(ref _dropped);
 

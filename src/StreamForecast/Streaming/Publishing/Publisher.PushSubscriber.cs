@@ -1,19 +1,22 @@
 using System.Diagnostics.CodeAnalysis;
 using System.Runtime.CompilerServices;
-using System.Threading.Channels;
 
 namespace StreamForecast.Streaming;
 
 /// <content>The push side of the publisher: one subscriber's buffer and delivery loop.</content>
 internal sealed partial class Publisher<T>
 {
-    /// <summary>One push subscriber: its buffer (a drop-oldest bounded channel) and its delivery loop.</summary>
+    /// <summary>One push subscriber: its buffer (a drop-oldest ring, see <see cref="DeliveryBuffer{T}"/>) and its delivery loop.</summary>
     private sealed class PushSubscriber : IDeliveryControl
     {
+        /// <summary>The most items the delivery loop takes from the buffer at once.</summary>
+        private const int MaxBatch = 256;
+
         private readonly Publisher<T> _owner;
         private readonly IObserver<T> _observer;
-        private readonly Channel<T> _buffer;
-        private Task _loop = Task.CompletedTask;
+        private readonly DeliveryBuffer<T> _buffer;
+        private readonly T[] _batch;
+        private readonly TaskCompletionSource _loopEnded = new(TaskCreationOptions.RunContinuationsAsynchronously);
         private volatile bool _stopped;
 
         public PushSubscriber(Publisher<T> owner, IObserver<T> observer, long id)
@@ -21,30 +24,32 @@ internal sealed partial class Publisher<T>
             _owner = owner;
             _observer = observer;
             Handle = new DeliverySubscription(id, this);
-            _buffer = Channel.CreateBounded<T>(
-                new BoundedChannelOptions(owner._subscriberCapacity)
-                {
-                    FullMode = BoundedChannelFullMode.DropOldest,
-                    SingleReader = true,
-                    SingleWriter = false,
-                    AllowSynchronousContinuations = false,
-                },
-                OnItemDropped);
+            _buffer = new DeliveryBuffer<T>(owner._subscriberCapacity);
+            _batch = new T[Math.Min(MaxBatch, owner._subscriberCapacity)];
         }
 
         public DeliverySubscription Handle { get; }
 
-        public int BufferedCount => _buffer.Reader.Count;
+        public int BufferedCount => _buffer.Count;
 
-        public Task Completion => _loop;
+        public Task Completion => _loopEnded.Task;
 
-        /// <summary>Buffers an item; when the buffer is full the channel drops the oldest and calls <see cref="OnItemDropped"/>.</summary>
+        /// <summary>Buffers an item; when the buffer is full its oldest item is dropped and reported.</summary>
         [MethodImpl(MethodImplOptions.AggressiveInlining)]
-        public void Offer(in T item) => _buffer.Writer.TryWrite(item);
+        public void Offer(in T item, bool deferWake)
+        {
+            if (_buffer.Write(in item, out T dropped, deferWake))
+            {
+                OnItemDropped(dropped);
+            }
+        }
 
-        public void Start() => _loop = Task.Run(RunAsync);
+        public void WakeIfPending() => _buffer.WakeIfPending();
 
-        public void CloseBuffer() => _buffer.Writer.TryComplete();
+        /// <summary>Starts the delivery loop on a background thread of its own (see <see cref="DeliveryBuffer{T}"/> for why).</summary>
+        public void Start() => new Thread(Run) { IsBackground = true, Name = "StreamForecast delivery " + Handle.Id }.Start();
+
+        public void CloseBuffer() => _buffer.Close(discard: false);
 
         public void Stop()
         {
@@ -55,11 +60,15 @@ internal sealed partial class Publisher<T>
 
             _stopped = true;
             _owner.DetachSubscriber(this);
-            _buffer.Writer.TryComplete();
+            _buffer.Close(discard: true);
         }
 
         /// <summary>For a subscription made after completion: the final notification, on the caller's thread.</summary>
-        public void DeliverFinalNow(Exception? error) => Notify(error);
+        public void DeliverFinalNow(Exception? error)
+        {
+            Notify(error);
+            _loopEnded.TrySetResult();
+        }
 
         private void OnItemDropped(T item)
         {
@@ -81,26 +90,19 @@ internal sealed partial class Publisher<T>
             }
         }
 
-        private async Task RunAsync()
+        private void Run()
         {
-            ChannelReader<T> reader = _buffer.Reader;
+            DeliveryBuffer<T> buffer = _buffer;
+            T[] batch = _batch;
             try
             {
-                // The buffer is only ever completed without an error, so this never throws.
-                while (await reader.WaitToReadAsync().ConfigureAwait(false))
+                // Each wake-up drains everything buffered, a batch at a time, before sleeping again.
+                while (buffer.WaitToRead())
                 {
-                    while (!_stopped && reader.TryRead(out T? item))
+                    int taken;
+                    while (!_stopped && (taken = buffer.Take(batch)) > 0)
                     {
-                        try
-                        {
-                            _observer.OnNext(item);
-                            Handle.CountDelivered();
-                        }
-                        catch (Exception ex)
-                        {
-                            // User callback: count and report, then go on with the next item.
-                            _owner.ReportFault(Handle, DeliveryFaultSource.OnNext, ex);
-                        }
+                        Deliver(batch, taken);
                     }
 
                     if (_stopped)
@@ -117,6 +119,37 @@ internal sealed partial class Publisher<T>
             finally
             {
                 _owner.OnLoopEnded();
+                _loopEnded.TrySetResult();
+            }
+        }
+
+        private void Deliver(T[] batch, int count)
+        {
+            int delivered = 0;
+            int i = 0;
+            while (i < count && !_stopped)
+            {
+                try
+                {
+                    // Checked before each call: after Dispose at most the call already committed to begins.
+                    for (; i < count && !_stopped; i++)
+                    {
+                        _observer.OnNext(batch[i]);
+                        delivered++;
+                    }
+                }
+                catch (Exception ex)
+                {
+                    // User callback: count and report, then go on with the next item.
+                    i++;
+                    _owner.ReportFault(Handle, DeliveryFaultSource.OnNext, ex);
+                }
+            }
+
+            Handle.CountDelivered(delivered);
+            if (RuntimeHelpers.IsReferenceOrContainsReferences<T>())
+            {
+                Array.Clear(batch, 0, count);
             }
         }
 

@@ -11,8 +11,10 @@ namespace StreamForecast.Streaming;
 /// <typeparam name="T">The item type (the engine's payloads are small <c>readonly record struct</c>s).</typeparam>
 /// <remarks>
 /// <para><b>Push subscribers</b> (<see cref="Subscribe(IObserver{T})"/>) each get a bounded buffer of
-/// <see cref="PublishingOptions.SubscriberCapacity"/> items and their own delivery loop (one task) that calls the
-/// observer one item at a time. When a buffer is full the oldest item is dropped, counted on the subscription and
+/// <see cref="PublishingOptions.SubscriberCapacity"/> items and their own delivery loop (a background thread each)
+/// that calls the observer one item at a time. The loop sleeps only when its buffer is empty, and drains it up to 256
+/// items per take (see <see cref="DeliveryBuffer{T}"/>: one short lock per published item, one per batch delivered,
+/// one wake-up per idle-to-busy change). When a buffer is full the oldest item is dropped, counted on the subscription and
 /// reported to the dropped-item callback. An observer's exception is caught, counted and reported to the fault
 /// callback; delivery goes on for that observer and every other one. The publisher never calls
 /// <see cref="IObserver{T}.OnError"/> except after <see cref="Complete"/> with an error.</para>
@@ -94,11 +96,29 @@ internal sealed partial class Publisher<T> : IObservable<T>
     /// <returns><see langword="true"/> if the item was published; <see langword="false"/> if a pull reader is full.</returns>
     /// <exception cref="InvalidOperationException"><see cref="Complete"/> has been called.</exception>
     /// <remarks>
-    /// Synchronous and never waits. Cost: O(subscribers + readers) short buffer operations; with readers attached,
-    /// one short lock shared by all publishers. Allocation-free once each subscriber's buffer has grown to its
-    /// high-water mark (the buffers are the channels' own).
+    /// Synchronous and never waits. Cost: O(subscribers + readers) short buffer operations (per push subscriber one
+    /// short lock and a copy of the item); with readers attached, one short lock shared by all publishers.
+    /// Allocation-free once each buffer has grown to its high-water mark.
     /// </remarks>
-    public bool TryPublish(in T item)
+    public bool TryPublish(in T item) => Publish(in item, deferWake: false);
+
+    /// <summary><see cref="TryPublish"/> for an owner loop that calls <see cref="WakeSubscribers"/> whenever it runs out of work: a
+    /// sleeping push subscriber wakes when <see cref="DeliveryBuffer{T}.DeferredWakeItems"/> items wait or at that call.</summary>
+    /// <param name="item">The item.</param>
+    /// <returns>As <see cref="TryPublish"/>.</returns>
+    public bool TryPublishDeferred(in T item) => Publish(in item, deferWake: true);
+
+    /// <summary>Wakes each push subscriber asleep while items wait (see <see cref="TryPublishDeferred"/>). O(subscribers), thread-safe.</summary>
+    public void WakeSubscribers()
+    {
+        PushSubscriber[] subscribers = _subscribers;
+        for (int i = 0; i < subscribers.Length; i++)
+        {
+            subscribers[i].WakeIfPending();
+        }
+    }
+
+    private bool Publish(in T item, bool deferWake)
     {
         if (_completed)
         {
@@ -130,7 +150,7 @@ internal sealed partial class Publisher<T> : IObservable<T>
         PushSubscriber[] subscribers = _subscribers;
         for (int i = 0; i < subscribers.Length; i++)
         {
-            subscribers[i].Offer(item);
+            subscribers[i].Offer(item, deferWake);
         }
 
         return true;
@@ -164,7 +184,7 @@ internal sealed partial class Publisher<T> : IObservable<T>
     /// <param name="observer">The observer; called by its own delivery loop, never concurrently.</param>
     /// <returns>The subscription: counters, its delivery loop's <see cref="DeliverySubscription.Completion"/>, and Dispose.</returns>
     /// <exception cref="ArgumentNullException"><paramref name="observer"/> is null.</exception>
-    /// <remarks>Allocates the buffer and starts one task. Thread-safe.</remarks>
+    /// <remarks>Allocates the buffer and starts one background thread. Thread-safe.</remarks>
     public DeliverySubscription Subscribe(IObserver<T> observer)
     {
         ArgumentNullException.ThrowIfNull(observer);

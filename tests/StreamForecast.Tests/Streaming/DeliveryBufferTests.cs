@@ -1,0 +1,124 @@
+using StreamForecast.Streaming;
+
+namespace StreamForecast.Tests.Streaming;
+
+public sealed class DeliveryBufferTests
+{
+    [Fact]
+    public void Write_RingWrapsWhileGrowingToCapacity_KeepsOrderThenDropsOldest()
+    {
+        // Capacity 200 grows from 64 through 128 to 200; taking in batches of 50 between writes makes the ring wrap.
+        var buffer = new DeliveryBuffer<int>(200);
+        var taken = new List<int>();
+        var dropped = new List<int>();
+        int[] batch = new int[50];
+        int next = 0;
+        for (int round = 0; round < 20; round++)
+        {
+            for (int i = 0; i < 37 + (round * 11); i++)
+            {
+                if (buffer.Write(next++, out int d))
+                {
+                    dropped.Add(d);
+                }
+            }
+
+            int n = buffer.Take(batch);
+            taken.AddRange(batch[..n]);
+        }
+
+        int rest;
+        while ((rest = buffer.Take(batch)) > 0)
+        {
+            taken.AddRange(batch[..rest]);
+        }
+
+        // Every item is either taken or dropped, exactly once; each list keeps writing order; drops are the oldest
+        // waiting items, so every dropped item is older than every item taken after it was dropped.
+        Assert.Equal(Enumerable.Range(0, next), taken.Concat(dropped).Order());
+        Assert.Equal(taken.Order(), taken);
+        Assert.Equal(dropped.Order(), dropped);
+        Assert.NotEmpty(dropped);
+        Assert.True(buffer.Count == 0);
+    }
+
+    private static readonly TimeSpan s_guard = TimeSpan.FromSeconds(30);
+
+    [Fact]
+    public async Task WaitToRead_EmptyThenWritten_ReturnsTrueAndAfterCloseDrainsThenFalse()
+    {
+        var buffer = new DeliveryBuffer<int>(10);
+        Task<bool> wait = Task.Run(buffer.WaitToRead);
+        await AsleepAsync(buffer);
+        buffer.Write(1, out _);
+        Assert.True(await wait.WaitAsync(s_guard));
+
+        buffer.Write(2, out _);
+        buffer.Close(discard: false);
+        buffer.Write(3, out _); // ignored after close
+        Assert.True(buffer.WaitToRead());
+        int[] batch = new int[10];
+        Assert.Equal(2, buffer.Take(batch));
+        Assert.Equal([1, 2], batch[..2]);
+        Assert.False(buffer.WaitToRead());
+    }
+
+    [Fact]
+    public async Task Close_DiscardWhileReaderWaits_WakesReaderWithFalse()
+    {
+        var buffer = new DeliveryBuffer<string>(4);
+        Task<bool> wait = Task.Run(buffer.WaitToRead);
+        await AsleepAsync(buffer);
+        buffer.Close(discard: true);
+        Assert.False(await wait.WaitAsync(s_guard));
+
+        var other = new DeliveryBuffer<string>(4);
+        other.Write("a", out _);
+        other.Close(discard: true);
+        Assert.Equal(0, other.Count);
+        Assert.False(other.WaitToRead());
+    }
+
+    [Fact]
+    public async Task Write_DeferredWake_ReaderSleepsUntilWakeIfPendingOrARunOfItems()
+    {
+        var buffer = new DeliveryBuffer<int>(1000);
+        int[] batch = new int[256];
+
+        // Fewer deferred items than the run that wakes by itself: the reader sleeps until WakeIfPending.
+        Task<bool> wait = Task.Run(buffer.WaitToRead);
+        await AsleepAsync(buffer);
+        for (int i = 0; i < DeliveryBuffer<int>.DeferredWakeItems - 1; i++)
+        {
+            buffer.Write(i, out _, deferWake: true);
+        }
+
+        Assert.True(buffer.IsReaderWaiting); // only a wake-up clears it
+        buffer.WakeIfPending();
+        Assert.True(await wait.WaitAsync(s_guard));
+        Assert.Equal(DeliveryBuffer<int>.DeferredWakeItems - 1, buffer.Take(batch));
+
+        // A full run of deferred items wakes the reader without WakeIfPending; WakeIfPending on an empty ring does nothing.
+        wait = Task.Run(buffer.WaitToRead);
+        await AsleepAsync(buffer);
+        buffer.WakeIfPending();
+        Assert.True(buffer.IsReaderWaiting);
+        for (int i = 0; i < DeliveryBuffer<int>.DeferredWakeItems; i++)
+        {
+            buffer.Write(i, out _, deferWake: true);
+        }
+
+        Assert.True(await wait.WaitAsync(s_guard));
+        Assert.Equal(DeliveryBuffer<int>.DeferredWakeItems, buffer.Take(batch));
+    }
+
+    private static async Task AsleepAsync<T>(DeliveryBuffer<T> buffer)
+    {
+        // Waits (bounded by the guard) until the reader has found the ring empty and gone to sleep.
+        using var guard = new CancellationTokenSource(s_guard);
+        while (!buffer.IsReaderWaiting)
+        {
+            await Task.Delay(1, guard.Token);
+        }
+    }
+}
