@@ -47,18 +47,7 @@ public sealed class ExponentialSmoothing : Forecaster
 
     /// <summary>The current level ℓ(t), which is the forecast for every horizon.</summary>
     /// <exception cref="InvalidOperationException">The forecaster is not warm yet.</exception>
-    public double Level
-    {
-        get
-        {
-            if (!IsWarm)
-            {
-                ThrowHelper.ThrowNotWarm(_options.MethodName);
-            }
-
-            return _level;
-        }
-    }
+    public double Level => WhenWarm(_level);
 
     private protected override void UpdateCore(double actual)
     {

@@ -80,12 +80,24 @@ public abstract class Forecaster : IExportableState
     public double Forecast(int horizon = 1)
     {
         ThrowHelper.CheckHorizon(horizon);
+        ThrowIfCold();
+        return ForecastCore(horizon);
+    }
+
+    /// <summary>Throws <see cref="InvalidOperationException"/> naming the method when it is not warm yet.</summary>
+    private protected void ThrowIfCold()
+    {
         if (!IsWarm)
         {
             ThrowHelper.ThrowNotWarm(Options.MethodName);
         }
+    }
 
-        return ForecastCore(horizon);
+    /// <summary>Returns <paramref name="value"/> (a state component) once the forecaster is warm; throws before.</summary>
+    private protected double WhenWarm(double value)
+    {
+        ThrowIfCold();
+        return value;
     }
 
     /// <summary>Gets the forecast for <paramref name="horizon"/> periods ahead if the forecaster is warm.</summary>

@@ -64,33 +64,11 @@ public sealed class Holt : Forecaster
 
     /// <summary>The current level ℓ(t) (NIST S(t)).</summary>
     /// <exception cref="InvalidOperationException">The forecaster is not warm yet.</exception>
-    public double Level
-    {
-        get
-        {
-            if (!IsWarm)
-            {
-                ThrowHelper.ThrowNotWarm(_options.MethodName);
-            }
-
-            return _level;
-        }
-    }
+    public double Level => WhenWarm(_level);
 
     /// <summary>The current trend b(t) per period, before damping.</summary>
     /// <exception cref="InvalidOperationException">The forecaster is not warm yet.</exception>
-    public double Trend
-    {
-        get
-        {
-            if (!IsWarm)
-            {
-                ThrowHelper.ThrowNotWarm(_options.MethodName);
-            }
-
-            return _trend;
-        }
-    }
+    public double Trend => WhenWarm(_trend);
 
     private protected override void UpdateCore(double actual)
     {

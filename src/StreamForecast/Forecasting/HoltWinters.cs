@@ -322,14 +322,6 @@ public sealed partial class HoltWinters : Forecaster
         }
     }
 
-    private void ThrowIfCold()
-    {
-        if (!IsWarm)
-        {
-            ThrowHelper.ThrowNotWarm(_options.MethodName);
-        }
-    }
-
     [DoesNotReturn]
     private void ThrowRejected(double actual) => ThrowHelper.ThrowOutOfRange(nameof(actual), actual, _multiplicative
         ? "with this actual the level or a seasonal index would fall to zero or below (or overflow), which multiplicative seasonality cannot hold; the state is unchanged"
