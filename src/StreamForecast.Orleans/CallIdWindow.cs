@@ -71,13 +71,16 @@ internal sealed class CallIdWindow
     /// <exception cref="InvalidDataException">The stored form is inconsistent.</exception>
     public void Load(byte[] ring, int count, int next)
     {
+        // Not yet wrapped: records 0 .. count - 1, oldest first, and next == count. Wrapped: every record holds an id and
+        // the oldest is at next.
         int slots = ring.Length / RecordLength;
-        if (ring.Length % RecordLength != 0 || count < 0 || count > slots || next < 0 || (slots > 0 && next >= slots) || (count < slots && next != count))
+        bool wrapped = next != count;
+        if (ring.Length % RecordLength != 0 || count < 0 || count > slots || next < 0 || (wrapped && (count != slots || next >= slots)))
         {
             throw new InvalidDataException($"The stored call ids are damaged ({ring.Length} bytes, {count} ids, next {next}).");
         }
 
-        int oldest = count == slots ? next : 0;
+        int oldest = wrapped ? next : 0;
         for (int i = 0; i < count; i++)
         {
             ReadOnlySpan<byte> record = ring.AsSpan(((oldest + i) % slots) * RecordLength, RecordLength);

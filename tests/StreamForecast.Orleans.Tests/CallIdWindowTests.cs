@@ -72,7 +72,7 @@ public sealed class CallIdWindowTests
     [InlineData(25, 1, 0)] // not a whole number of records
     [InlineData(48, 3, 0)] // more ids than records
     [InlineData(48, 1, 0)] // not full, but the next record is not after the last id
-    [InlineData(48, 2, 2)] // full, next outside the ring
+    [InlineData(48, 2, 3)] // wrapped, next outside the ring
     [InlineData(48, -1, 0)]
     public void Load_InconsistentStoredForm_ThrowsInvalidData(int length, int count, int next)
     {
