@@ -11,8 +11,20 @@ internal sealed class BucketState<TKey>
     /// <summary>The bucket's series as an engine snapshot (codec name section, then one section of series); null before the first write.</summary>
     [Id(0)] public byte[]? Series { get; set; }
 
-    /// <summary>The most recent applied call ids with the sequence number each got, oldest first.</summary>
-    [Id(1)] public List<AppliedCall> Applied { get; set; } = [];
+    /// <summary>
+    /// The applied call ids as stored by earlier versions (a list of objects, rewritten whole on every write); read once
+    /// when a bucket stored that way is activated, then left null. Now kept in <see cref="CallIds"/>.
+    /// </summary>
+    [Id(1)] public List<AppliedCall>? Applied { get; set; }
+
+    /// <summary>The most recent applied call ids with the number each was applied as: a ring of 24-byte records (<see cref="CallIdWindow"/>); null before the first call.</summary>
+    [Id(9)] public byte[]? CallIds { get; set; }
+
+    /// <summary>How many records of <see cref="CallIds"/> hold ids.</summary>
+    [Id(10)] public int CallIdCount { get; set; }
+
+    /// <summary>The ring position of the next record of <see cref="CallIds"/> (the oldest once it is full).</summary>
+    [Id(11)] public int CallIdNext { get; set; }
 
     /// <summary>Calls applied so far.</summary>
     [Id(2)] public long Sequence { get; set; }
@@ -29,11 +41,14 @@ internal sealed class BucketState<TKey>
     /// <summary>Outputs numbered so far (a call that produced nothing gets no number).</summary>
     [Id(6)] public long Outputs { get; set; }
 
-    /// <summary>The newest output, sent again by the next activation in case the silo died before sending it.</summary>
+    /// <summary>
+    /// The newest output, sent again by the next activation in case the silo died before sending it; null when it had
+    /// no live subscriber to go to (nobody could miss it).
+    /// </summary>
     [Id(7)] public BucketOutput<TKey>? LastOutput { get; set; }
 }
 
-/// <summary>One applied call id.</summary>
+/// <summary>One applied call id, in the list form of earlier versions (<see cref="BucketState{TKey}.Applied"/>).</summary>
 [GenerateSerializer]
 [Alias("StreamForecast.Orleans.AppliedCall")]
 internal readonly record struct AppliedCall([property: Id(0)] Guid Id, [property: Id(1)] long Sequence);

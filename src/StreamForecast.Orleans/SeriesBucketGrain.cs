@@ -22,7 +22,7 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
     private readonly List<ForecastUpdate<TKey>> _forecasts = [];
     private readonly List<DriftAlert<TKey>> _alerts = [];
     private readonly List<SeriesFault<TKey>> _faults = [];
-    private readonly Dictionary<Guid, long> _applied = [];
+    private CallIdWindow _calls = null!;
     private SeriesSet<TKey> _table = null!;
     private int _bucket;
     private bool _broken;
@@ -58,10 +58,25 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
             ReadSeries(bytes);
         }
 
-        foreach (AppliedCall call in stored.Applied)
+        _calls = new CallIdWindow(_cluster.RememberedCommands);
+        foreach (AppliedCall call in stored.Applied ?? [])
         {
-            _applied[call.Id] = call.Sequence;
+            _calls.Add(call.Id, call.Sequence); // stored by an earlier version; written in the compact form from now on
         }
+
+        if (stored.CallIds is { } ids)
+        {
+            try
+            {
+                _calls.Load(ids, stored.CallIdCount, stored.CallIdNext);
+            }
+            catch (InvalidDataException ex)
+            {
+                throw new InvalidDataException($"Bucket {bucket}'s stored call ids cannot be loaded: " + ex.Message, ex);
+            }
+        }
+
+        StoreCallIds();
 
         _table.RestoreCounters(stored.Counters);
 
@@ -81,7 +96,7 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
     {
         ArgumentNullException.ThrowIfNull(batch);
         ThrowIfBroken();
-        if (!_applied.ContainsKey(callId))
+        if (!_calls.Contains(callId))
         {
             Validate(batch);
         }
@@ -98,7 +113,7 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
     public Task<CallReceipt> AcknowledgeAsync(Guid callId, TKey key)
     {
         ThrowIfBroken();
-        if (!_applied.ContainsKey(callId) && _map.BucketOf(key) != _bucket)
+        if (!_calls.Contains(callId) && _map.BucketOf(key) != _bucket)
         {
             throw new ArgumentException($"The key belongs to bucket {_map.BucketOf(key)}, not {_bucket}: every client and silo must use the same ForecastClusterOptions.BucketCount and key codec.", nameof(key));
         }
@@ -150,7 +165,7 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
     private async Task<CallReceipt> ApplyAsync<TArg>(Guid callId, TArg argument, Action<SeriesBucketGrain<TKey>, TArg> apply)
     {
         ThrowIfBroken();
-        if (_applied.TryGetValue(callId, out long appliedAs))
+        if (_calls.TryGet(callId, out long appliedAs))
         {
             _state.State.Repeats++;
             LogRepeat(_logger, _bucket, callId, appliedAs);
@@ -169,21 +184,8 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
             throw;
         }
 
-        BucketState<TKey> state = _state.State;
-        long sequence = state.Sequence + 1;
-        _applied[callId] = sequence;
-        state.Applied.Add(new AppliedCall(callId, sequence));
-        if (state.Applied.Count > _cluster.RememberedCommands)
-        {
-            int drop = state.Applied.Count - _cluster.RememberedCommands;
-            for (int i = 0; i < drop; i++)
-            {
-                _applied.Remove(state.Applied[i].Id);
-            }
-
-            state.Applied.RemoveRange(0, drop);
-        }
-
+        long sequence = _state.State.Sequence + 1;
+        _calls.Add(callId, sequence);
         await CommitAsync(sequence).ConfigureAwait(true);
 
         return new CallReceipt(_bucket, sequence, false, _table.GetCounters().Observations - observationsBefore);
@@ -213,7 +215,12 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
 
         BucketState<TKey> state = _state.State;
         state.Outputs++;
-        state.LastOutput = new BucketOutput<TKey>(_bucket, state.Outputs, sequence, [.. _forecasts], [.. _alerts], [.. _faults]);
+
+        // Stored only for re-sending after a silo dies, so only when someone listens: a subscriber that comes later
+        // starts counting after this number (SubscribeAsync's answer) and never asks for it.
+        state.LastOutput = HasLiveSubscriber()
+            ? new BucketOutput<TKey>(_bucket, state.Outputs, sequence, [.. _forecasts], [.. _alerts], [.. _faults])
+            : null;
         _forecasts.Clear();
         _alerts.Clear();
         _faults.Clear();
@@ -289,12 +296,37 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
         state.Sequence = sequence;
         state.Series = WriteSeries();
         state.Counters = _table.GetCounters();
+        StoreCallIds();
         bool hasOutput = TakeOutput(sequence);
         await StoreAsync().ConfigureAwait(true);
         if (hasOutput)
         {
             Publish();
         }
+    }
+
+    /// <summary>Points the state at the call-id window's stored form (the ring is updated in place, and replaced when it grows).</summary>
+    private void StoreCallIds()
+    {
+        BucketState<TKey> state = _state.State;
+        state.Applied = null;
+        state.CallIds = _calls.Count == 0 ? null : _calls.Ring;
+        state.CallIdCount = _calls.Count;
+        state.CallIdNext = _calls.Next;
+    }
+
+    private bool HasLiveSubscriber()
+    {
+        DateTimeOffset now = _options.TimeProvider.GetUtcNow();
+        foreach (BucketSubscriber<TKey> s in _state.State.Subscribers)
+        {
+            if (s.LeaseEnds > now)
+            {
+                return true;
+            }
+        }
+
+        return false;
     }
 
     private void Validate(Observation<TKey>[] batch)

@@ -41,10 +41,15 @@ namespace StreamForecast.Sqlite;
 /// tables sit beside <c>checkpoints</c>, it takes the same in-process writer gate, and this store ignores its tables.
 /// Two stores given the same stream name share that stream:
 /// <see cref="SaveAsync"/> is then last-writer-wins, and <see cref="TrySaveAsync"/> detects the other writer.</para>
-/// <para><b>Thread safety.</b> Thread-safe: within one instance saves run one at a time and loads run alongside them,
-/// each on its own connection; the saves of every instance on the same file in one process queue on one in-process
-/// gate (so they never sleep in SQLite's busy handler waiting for each other); across processes the file's locks keep
-/// transactions apart. Saving after <see cref="Dispose"/> throws <see cref="ObjectDisposedException"/>.</para>
+/// <para><b>Group commit.</b> The saves of every instance on the same file in one process queue on one in-process
+/// gate (so they never sleep in SQLite's busy handler waiting for each other), and the saves that wait while a
+/// transaction runs are written together, in queue order, in the next transaction: one synchronous commit for all of
+/// them instead of one each. Each save keeps its own meaning inside it (its conditional check sees the saves before it,
+/// a mismatch writes nothing of that save only, its stream is pruned to its own retention count) and completes only
+/// when the transaction has committed; a failure of the transaction fails every save in it, and none is stored.</para>
+/// <para><b>Thread safety.</b> Thread-safe: saves are written one at a time (see group commit) and loads run alongside
+/// them, each on its own connection; across processes the file's locks keep transactions apart. Saving after
+/// <see cref="Dispose"/> throws <see cref="ObjectDisposedException"/>.</para>
 /// </remarks>
 public sealed class SqliteCheckpointStore : IConditionalCheckpointStore, IAsyncDisposable, IDisposable
 {
@@ -56,7 +61,6 @@ public sealed class SqliteCheckpointStore : IConditionalCheckpointStore, IAsyncD
 
     private readonly SqliteCheckpointStoreOptions _options;
     private readonly SqliteFile _file;
-    private readonly SemaphoreSlim _gate;
     private int _disposed;
     private readonly string _locationPrefix;
     private readonly string _streamDescription;
@@ -71,7 +75,6 @@ public sealed class SqliteCheckpointStore : IConditionalCheckpointStore, IAsyncD
         DatabasePath = Path.GetFullPath(databasePath);
         _options = options ?? SqliteCheckpointStoreOptions.Default;
         _file = new SqliteFile(DatabasePath);
-        _gate = _file.WriterGate;
         string stream = _options.StreamName;
         _locationPrefix = stream.Length == 0 ? DatabasePath : $"{DatabasePath}[{stream}]";
         _streamDescription = stream.Length == 0 ? $"'{DatabasePath}'" : $"stream '{stream}' of '{DatabasePath}'";
@@ -89,7 +92,7 @@ public sealed class SqliteCheckpointStore : IConditionalCheckpointStore, IAsyncD
     /// </summary>
     /// <param name="snapshot">The snapshot's bytes.</param>
     /// <param name="inputPosition">The input position the snapshot accounts for, ≥ 0.</param>
-    /// <param name="cancellationToken">Cancels the save before the commit; the stored checkpoints are then unchanged.</param>
+    /// <param name="cancellationToken">Cancels the save while it waits for its transaction; the stored checkpoints are then unchanged. Once its transaction has started, the save completes with the transaction's outcome.</param>
     /// <returns>A task that completes once the transaction has committed.</returns>
     /// <exception cref="ArgumentOutOfRangeException"><paramref name="inputPosition"/> is negative.</exception>
     /// <exception cref="ArgumentException">The snapshot is empty or longer than <see cref="SqliteCheckpointStoreOptions.MaxSnapshotLength"/>.</exception>
@@ -97,8 +100,9 @@ public sealed class SqliteCheckpointStore : IConditionalCheckpointStore, IAsyncD
     /// <exception cref="SqliteException">SQLite failed (disk full, file locked by another writer for more than 30 seconds...); no checkpoint was added.</exception>
     /// <exception cref="ObjectDisposedException">The store has been disposed.</exception>
     /// <remarks>
-    /// Cost: one SHA-256 over the snapshot, one row insert, one delete, one synchronous commit. Saves to one file from
-    /// one process are serialised on an in-process gate; saves from other processes wait for the file's write lock.
+    /// Cost: one SHA-256 over the snapshot, one row insert, one delete, and a share of one synchronous commit: saves to
+    /// one file from one process that wait for each other are committed together (see the type's remarks); saves from
+    /// other processes wait for the file's write lock.
     /// </remarks>
     public async ValueTask SaveAsync(ReadOnlyMemory<byte> snapshot, long inputPosition, CancellationToken cancellationToken = default)
     {
@@ -119,7 +123,7 @@ public sealed class SqliteCheckpointStore : IConditionalCheckpointStore, IAsyncD
     /// returns), ≥ 0; or <see langword="null"/> to save only when the stream holds no valid checkpoint (no row at all,
     /// or only damaged rows, the case in which <see cref="LoadLatestAsync"/> throws).
     /// </param>
-    /// <param name="cancellationToken">Cancels the save before the commit; the stored checkpoints are then unchanged.</param>
+    /// <param name="cancellationToken">Cancels the save while it waits for its transaction; the stored checkpoints are then unchanged. Once its transaction has started, the save completes with the transaction's outcome.</param>
     /// <returns>
     /// <see langword="true"/> once the transaction has committed; <see langword="false"/> when the expectation did not
     /// match, in which case nothing was written or deleted.
@@ -225,55 +229,52 @@ public sealed class SqliteCheckpointStore : IConditionalCheckpointStore, IAsyncD
     private async ValueTask<bool> SaveCoreAsync(ReadOnlyMemory<byte> snapshot, long inputPosition, bool conditional, long? expectedLatestPosition, CancellationToken cancellationToken)
     {
         ObjectDisposedException.ThrowIf(Volatile.Read(ref _disposed) != 0, this);
-        byte[] hash = SHA256.HashData(snapshot.Span);
-        byte[] bytes = snapshot.ToArray();
-        await _gate.WaitAsync(cancellationToken).ConfigureAwait(false);
-        try
+        var save = new PendingSave(this, snapshot.ToArray(), SHA256.HashData(snapshot.Span), inputPosition, conditional, expectedLatestPosition);
+        return await _file.Commits.SaveAsync(save, _file, cancellationToken).ConfigureAwait(false);
+    }
+
+    /// <summary>
+    /// Writes one queued save inside a transaction of the file's commit queue (<see cref="SqliteCommitQueue"/>): the
+    /// conditional check, the insert and the pruning of this store's stream.
+    /// </summary>
+    /// <returns><see langword="false"/> when the expectation did not match; nothing was written for this save then.</returns>
+    internal async Task<bool> WriteAsync(SqliteConnection connection, SqliteTransaction transaction, PendingSave save)
+    {
+        if (save.Conditional)
         {
-            using SqliteConnection connection = await _file.OpenAsync(cancellationToken).ConfigureAwait(false);
-            using SqliteTransaction transaction = connection.BeginTransaction(deferred: false);
-            if (conditional)
+            long? latest = await NewestValidPositionAsync(connection, transaction, CancellationToken.None).ConfigureAwait(false);
+            if (latest != save.ExpectedLatestPosition)
             {
-                long? latest = await NewestValidPositionAsync(connection, transaction, cancellationToken).ConfigureAwait(false);
-                if (latest != expectedLatestPosition)
-                {
-                    return false; // disposing the transaction rolls it back; nothing was written
-                }
+                return false;
             }
-
-            using (SqliteCommand insert = connection.CreateCommand())
-            {
-                insert.Transaction = transaction;
-                insert.CommandText =
-                    "INSERT INTO checkpoints (stream, input_position, snapshot_length, snapshot_sha256, snapshot) VALUES ($stream, $position, $length, $hash, $snapshot)";
-                insert.Parameters.AddWithValue("$stream", _options.StreamName);
-                insert.Parameters.AddWithValue("$position", inputPosition);
-                insert.Parameters.AddWithValue("$length", (long)bytes.Length);
-                insert.Parameters.AddWithValue("$hash", hash);
-                insert.Parameters.AddWithValue("$snapshot", bytes);
-                await insert.ExecuteNonQueryAsync(cancellationToken).ConfigureAwait(false);
-            }
-
-            using (SqliteCommand prune = connection.CreateCommand())
-            {
-                prune.Transaction = transaction;
-                prune.CommandText = """
-                    DELETE FROM checkpoints WHERE stream = $stream AND sequence NOT IN
-                        (SELECT sequence FROM checkpoints WHERE stream = $stream ORDER BY sequence DESC LIMIT $keep)
-                    """;
-                prune.Parameters.AddWithValue("$stream", _options.StreamName);
-                prune.Parameters.AddWithValue("$keep", _options.RetainCount);
-                await prune.ExecuteNonQueryAsync(cancellationToken).ConfigureAwait(false);
-            }
-
-            cancellationToken.ThrowIfCancellationRequested();
-            await transaction.CommitAsync(CancellationToken.None).ConfigureAwait(false);
-            return true;
         }
-        finally
+
+        using (SqliteCommand insert = connection.CreateCommand())
         {
-            _gate.Release();
+            insert.Transaction = transaction;
+            insert.CommandText =
+                "INSERT INTO checkpoints (stream, input_position, snapshot_length, snapshot_sha256, snapshot) VALUES ($stream, $position, $length, $hash, $snapshot)";
+            insert.Parameters.AddWithValue("$stream", _options.StreamName);
+            insert.Parameters.AddWithValue("$position", save.InputPosition);
+            insert.Parameters.AddWithValue("$length", (long)save.Snapshot.Length);
+            insert.Parameters.AddWithValue("$hash", save.Hash);
+            insert.Parameters.AddWithValue("$snapshot", save.Snapshot);
+            await insert.ExecuteNonQueryAsync(CancellationToken.None).ConfigureAwait(false);
         }
+
+        using (SqliteCommand prune = connection.CreateCommand())
+        {
+            prune.Transaction = transaction;
+            prune.CommandText = """
+                DELETE FROM checkpoints WHERE stream = $stream AND sequence NOT IN
+                    (SELECT sequence FROM checkpoints WHERE stream = $stream ORDER BY sequence DESC LIMIT $keep)
+                """;
+            prune.Parameters.AddWithValue("$stream", _options.StreamName);
+            prune.Parameters.AddWithValue("$keep", _options.RetainCount);
+            await prune.ExecuteNonQueryAsync(CancellationToken.None).ConfigureAwait(false);
+        }
+
+        return true;
     }
 
     private async Task<long?> NewestValidPositionAsync(SqliteConnection connection, SqliteTransaction transaction, CancellationToken cancellationToken)

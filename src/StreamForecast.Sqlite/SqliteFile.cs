@@ -26,6 +26,10 @@ internal sealed class SqliteFile
     // between retries. Other processes still meet on the file lock. Never disposed: a file's gate lives as long as the process.
     private static readonly ConcurrentDictionary<string, SemaphoreSlim> s_fileGates = new(StringComparer.Ordinal);
 
+    // One commit queue per database file and process, for the same reason: checkpoint saves of every store on the file
+    // that wait for the gate are written together, in one transaction, by the next writer to take it.
+    private static readonly ConcurrentDictionary<string, SqliteCommitQueue> s_commitQueues = new(StringComparer.Ordinal);
+
     private readonly string _connectionString;
     private volatile bool _schemaReady;
 
@@ -35,6 +39,7 @@ internal sealed class SqliteFile
     {
         DatabasePath = databasePath;
         WriterGate = s_fileGates.GetOrAdd(databasePath, static _ => new SemaphoreSlim(1, 1));
+        Commits = s_commitQueues.GetOrAdd(databasePath, static (_, gate) => new SqliteCommitQueue(gate), WriterGate);
 
         // No pooling: an unpooled connection releases the file when closed. DefaultTimeout bounds Microsoft.Data.Sqlite's
         // own retries on SQLITE_BUSY, including the implicit BEGIN and COMMIT.
@@ -52,6 +57,9 @@ internal sealed class SqliteFile
 
     /// <summary>The in-process gate every writer of this file takes around its write transaction.</summary>
     public SemaphoreSlim WriterGate { get; }
+
+    /// <summary>The group commit of checkpoint saves to this file (shared by every store on the path in this process).</summary>
+    public SqliteCommitQueue Commits { get; }
 
     /// <summary>Whether an exception is SQLite's "another connection holds the lock" after the busy timeout.</summary>
     public static bool IsLockTimeout(SqliteException ex) => ex.SqliteErrorCode is SqliteBusy or SqliteLocked;
