@@ -356,36 +356,6 @@ public sealed partial class SeriesSet<TKey>
         }
     }
 
-    private void EvictQuiet()
-    {
-        if (_options.EvictAfterQuietPeriods is not { } quiet)
-        {
-            return;
-        }
-
-        foreach (SeriesState<TKey> s in _series.Values)
-        {
-            if (s.QuietPeriods >= quiet)
-            {
-                _evict.Add(s.Key);
-            }
-        }
-
-        foreach (TKey key in _evict)
-        {
-            if (_series.Remove(key, out SeriesState<TKey>? removed) && removed.Options.IdleTimeout is not null)
-            {
-                _idleSeries--;
-            }
-
-            _output.Counters.Evictions++;
-            _budget?.ReleaseSeries();
-        }
-
-        _evict.Clear();
-        _count = _series.Count;
-    }
-
     /// <summary>The caller's sink with the set's counters: what a series writes to.</summary>
     private sealed class Output : ISeriesOutput<TKey>
     {
