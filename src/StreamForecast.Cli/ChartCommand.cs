@@ -14,7 +14,7 @@ internal static class ChartCommand
         var output = new Option<string>("--out") { Description = "The PNG path; with several series, '-<n>' is added before the extension.", DefaultValueFactory = _ => "chart.png" };
         var command = new Command("chart", "Draw a PNG of actual vs one-step forecast with its 80% prediction interval and the alert transitions, for chosen series.");
         common.AddInputOptions(command);
-        foreach (Option option in new Option[] { series, common.Lateness, common.Method, common.Config, common.Rules, common.ReferenceMethod, common.Season, common.Horizon, common.Intervals, common.NonNegative, output })
+        foreach (Option option in new Option[] { series, common.Lateness, common.Method, common.Config, common.ForceCalendar, common.Rules, common.ReferenceMethod, common.Season, common.Horizon, common.Intervals, common.NonNegative, output })
         {
             command.Options.Add(option);
         }

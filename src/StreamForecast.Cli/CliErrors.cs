@@ -6,7 +6,7 @@ internal static class ExitCodes
     /// <summary>The command completed (skipped rows, if any, were counted and reported).</summary>
     public const int Ok = 0;
 
-    /// <summary>A usage mistake: an unknown command or option, a bad option value, or an unreadable method-configuration file.</summary>
+    /// <summary>A usage mistake: an unknown command or option, a bad option value, or an unreadable method-configuration file, or one tuned on another period calendar without <c>--force</c>.</summary>
     public const int Usage = 1;
 
     /// <summary>
@@ -21,7 +21,7 @@ internal static class ExitCodes
     public const int Internal = 3;
 
     public const string HelpText =
-        "Exit codes: 0 ok; 1 usage error (bad option, unreadable config file); 2 data error (missing file or column, " +
+        "Exit codes: 0 ok; 1 usage error (bad option, unreadable config file, or one tuned on another period calendar without --force); 2 data error (missing file or column, " +
         "malformed row with --on-bad-row stop, named by file, line and column; rows spanning more than --max-periods; no usable rows; " +
         "an existing methods file tune would replace without --force; " +
         "an event or period dropped by the engine with --on-bad-row stop); 3 unexpected internal failure.";

@@ -77,6 +77,11 @@ internal sealed class CommonOptions
 
     public Option<string?> Config { get; } = new("--config") { Description = "A method-configuration file written by 'tune'; its series run their tuned method." };
 
+    public Option<bool> ForceCalendar { get; } = new("--force")
+    {
+        Description = "Use the --config file even though it was tuned on another period calendar than --period and --zone give (refused without it, exit 1).",
+    };
+
     public Option<string[]> Rules { get; } = new("--rule")
     {
         Description = "Drift rule(s): cusum:h, trigg:limit, signal:limit (tracking signal). Append @reference to watch the reference " +

@@ -3,6 +3,7 @@ using System.Globalization;
 using Spectre.Console;
 using StreamForecast.Alerts;
 using StreamForecast.Forecasting;
+using StreamForecast.Periods;
 using StreamForecast.Streaming;
 
 namespace StreamForecast.Cli;
@@ -20,7 +21,7 @@ internal static class ReplayCommand
         };
         var command = new Command("replay", "Replay observations through the streaming engine; write forecasts and alert transitions to CSV and print a summary per series.");
         common.AddInputOptions(command);
-        foreach (Option option in new Option[] { common.Lateness, common.Method, common.Config, common.Rules, common.ReferenceMethod, common.Season, common.Horizon, common.Intervals, common.NonNegative, events, forecastsOut, alertsOut })
+        foreach (Option option in new Option[] { common.Lateness, common.Method, common.Config, common.ForceCalendar, common.Rules, common.ReferenceMethod, common.Season, common.Horizon, common.Intervals, common.NonNegative, events, forecastsOut, alertsOut })
         {
             command.Options.Add(option);
         }
@@ -68,12 +69,22 @@ internal static class ReplayCommand
     public static ReplaySettings SettingsOf(CommonOptions common, ParseResult parse)
     {
         string? config = parse.GetValue(common.Config);
-        IReadOnlyDictionary<string, ForecasterOptions> tuned = config is null
-            ? new Dictionary<string, ForecasterOptions>(StringComparer.Ordinal)
-            : MethodConfigFile.Load(config);
+        PeriodCalendar calendar = common.Calendar(parse);
+        IReadOnlyDictionary<string, ForecasterOptions> tuned = new Dictionary<string, ForecasterOptions>(StringComparer.Ordinal);
+        if (config is not null)
+        {
+            tuned = MethodConfigFile.Load(config, out string? tunedOn);
+            if (tunedOn is not null && !string.Equals(tunedOn, calendar.Name, StringComparison.Ordinal) && !parse.GetValue(common.ForceCalendar))
+            {
+                throw new UsageException(
+                    $"{config} was tuned on the period calendar {tunedOn}, but this run uses {calendar.Name} (--period and --zone); " +
+                    "its methods and parameters may not suit these periods. Tune again on these periods, give the same --period and --zone, or use --force.");
+            }
+        }
+
         DriftRuleOptions[] rules = common.RulesOf(parse);
         return new ReplaySettings(
-            common.Calendar(parse), common.LatenessOf(parse), common.MethodOf(parse), tuned, rules, common.SeasonOf(parse), common.HorizonOf(parse),
+            calendar, common.LatenessOf(parse), common.MethodOf(parse), tuned, rules, common.SeasonOf(parse), common.HorizonOf(parse),
             common.ReferenceOf(parse, rules), EmpiricalIntervals: common.IntervalsOf(parse), NonNegative: parse.GetValue(common.NonNegative));
     }
 
