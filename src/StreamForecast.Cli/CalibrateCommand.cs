@@ -17,6 +17,7 @@ internal static class CalibrateCommand
         var simulations = new Option<int>("--simulations") { Description = "Simulated streams per evaluation.", DefaultValueFactory = _ => CalibrationOptions.DefaultSimulations };
         var seed = new Option<int>("--seed") { Description = "The random seed (results are reproducible).", DefaultValueFactory = _ => 1 };
         var command = new Command("calibrate", "Set a drift rule's limit for one series and method so that false alarms come on average every --target periods; print the limit, the in-control run length and the delay to detect a step and a ramp.");
+        common.UseForCalibration();
         common.AddInputOptions(command);
         foreach (Option option in new Option[] { series, common.Method, common.Season, rule, target, simulations, seed })
         {
