@@ -42,7 +42,7 @@ internal static class ChartCommand
                 var forecasts = result.Forecasts.Where(f => f.Key == keys[i]).ToList();
                 var alerts = result.Alerts.Where(a => a.Key == keys[i]).ToList();
                 SeriesChart.Save(file, keys[i], forecasts, alerts);
-                AnsiConsole.MarkupLine("Wrote {0}: {1} ({2} periods, {3} alert transitions).", Markup.Escape(file), Markup.Escape(keys[i]), forecasts.Select(f => f.Period).Distinct().Count(), alerts.Count);
+                AnsiConsole.MarkupLine("Wrote {0}: {1} ({2}, {3}).", Markup.Escape(file), Markup.Escape(keys[i]), Output.Count(forecasts.Select(f => f.Period).Distinct().Count(), "period"), Output.Count(alerts.Count, "alert transition"));
             }
 
             Output.ReportDropped(read, result, layout.OnBadRow);

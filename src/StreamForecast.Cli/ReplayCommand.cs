@@ -44,13 +44,14 @@ internal static class ReplayCommand
             PrintSummary(result);
             EngineCounters c = result.Counters;
             AnsiConsole.MarkupLine(
-                "Engine: {0:N0} events, {1:N0} periods closed, {2:N0} duplicates, {3:N0} late restated, {4:N0} too late, {5:N0} rejected, {6:N0} period actuals refused, {7} alerts raised, {8} cleared.",
-                c.Observations, c.PeriodsClosed, c.Duplicates, c.Restated, c.Late, c.Rejected + c.Dropped, c.RejectedActuals, c.AlertsRaised, c.AlertsCleared);
+                "Engine: {0}, {1} closed, {2}, {3:N0} late restated, {4:N0} too late, {5:N0} rejected, {6} refused, {7} raised, {8:N0} cleared.",
+                Output.Count(c.Observations, "event"), Output.Count(c.PeriodsClosed, "period"), Output.Count(c.Duplicates, "duplicate"), c.Restated, c.Late,
+                c.Rejected + c.Dropped, Output.Count(c.RejectedActuals, "period actual"), Output.Count(c.AlertsRaised, "alert"), c.AlertsCleared);
             foreach (EventLift lift in result.Lift)
             {
                 AnsiConsole.MarkupLine(
-                    "Known events, {0}: {1:N0} periods, actual {2} against forecast {3}, lift {4} (actual ÷ forecast).",
-                    Markup.Escape(lift.Kind.Name), lift.Periods, Output.F(lift.ActualTotal), Output.F(lift.ForecastTotal), Output.F(lift.Ratio));
+                    "Known events, {0}: {1}, actual {2} against forecast {3}, lift {4} (actual ÷ forecast).",
+                    Markup.Escape(lift.Kind.Name), Output.Count(lift.Periods, "period"), Output.F(lift.ActualTotal), Output.F(lift.ForecastTotal), Output.F(lift.Ratio));
             }
 
             foreach (SeriesFault<string> fault in result.Faults.Take(5))
@@ -58,8 +59,8 @@ internal static class ReplayCommand
                 AnsiConsole.MarkupLine("[yellow]Series fault[/] {0}: {1}", Markup.Escape(fault.Key), Markup.Escape(fault.Message));
             }
 
-            AnsiConsole.MarkupLine("Wrote {0} ({1:N0} forecasts) and {2} ({3:N0} alert transitions).",
-                Markup.Escape(forecastsPath), result.Forecasts.Count, Markup.Escape(alertsPath), result.Alerts.Count);
+            AnsiConsole.MarkupLine("Wrote {0} ({1}) and {2} ({3}).",
+                Markup.Escape(forecastsPath), Output.Count(result.Forecasts.Count, "forecast"), Markup.Escape(alertsPath), Output.Count(result.Alerts.Count, "alert transition"));
             Output.ReportDropped(read, result, layout.OnBadRow);
             return ExitCodes.Ok;
         }));
@@ -105,7 +106,7 @@ internal static class ReplayCommand
 
     private static void WriteAlerts(string path, List<DriftAlert<string>> alerts)
     {
-        string[] header = ["key", "period_start", "rule", "transition", "episode", "direction", "severity", "signal", "level", "reason", "watched"];
+        string[] header = ["key", "period_start", "rule", "transition", "episode", "direction", "severity", "signal", "limit", "reason", "watched"];
         Output.WriteCsv(path, header, alerts.OrderBy(a => a.Key, StringComparer.Ordinal).ThenBy(a => a.Period), a =>
         [
             a.Key, a.PeriodStart.ToString("O", CultureInfo.InvariantCulture), a.RuleName, a.Transition.Kind.ToString(),

@@ -94,7 +94,7 @@ internal static class TuneCommand
 
     private static void Print(string key, TuningResult result, int top, int periods)
     {
-        var table = new Table().Title($"{Markup.Escape(key)}: {periods} periods, fitted on {result.FirstOrigin}, demand class {result.Demand.Class}");
+        var table = new Table().Title($"{Markup.Escape(key)}: {Output.Count(periods, "period")}, fitted on {result.FirstOrigin}, demand class {result.Demand.Class}");
         table.AddColumns("Rank", "Method", "Score", "MAD (h=1)", "RMSE (h=1)", "MASE (h=1)", "Bias (h=1)", "Covered, 80% normal (h=1)");
         int rank = 0;
         foreach (CandidateEvaluation candidate in result.Ranking.Take(top))

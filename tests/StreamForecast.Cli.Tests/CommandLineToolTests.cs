@@ -298,10 +298,10 @@ public sealed class CommandLineToolTests : IDisposable
 
         Assert.True(result.ExitCode == 0, result.ToString());
         Assert.Contains("Read 2 rows", result.Output, StringComparison.Ordinal);
-        Assert.Contains("Skipped 3 malformed row(s)", result.Output, StringComparison.Ordinal);
+        Assert.Contains("Skipped 3 malformed rows", result.Output, StringComparison.Ordinal);
         Assert.Contains("line 3, column 4 ('units')", result.Output, StringComparison.Ordinal);
         Assert.Contains("line 4, column 3 ('sold_at')", result.Output, StringComparison.Ordinal);
-        Assert.Contains("line 5: the row has 2 field(s)", result.Output, StringComparison.Ordinal);
+        Assert.Contains("line 5: the row has 2 fields", result.Output, StringComparison.Ordinal);
     }
 
     [Theory]
