@@ -135,6 +135,15 @@ internal sealed class CommonOptions
     private const string OnBadRowWithoutEngine =
         "stop (default): stop at the first malformed row, naming file, line and column (exit 2); skip: skip, count and report malformed rows.";
 
+    public Option<bool> FullPrecision { get; } = new("--full-precision")
+    {
+        Description = "Write numbers in the output CSV files in shortest round-trip form (every digit a double needs) instead of at most 6 significant digits and 12 decimals.",
+    };
+
+    /// <summary>How the output CSV files write times (in --zone) and numbers (--full-precision).</summary>
+    public CsvValueFormat CsvFormatOf(ParseResult parse) =>
+        new(ZoneOf(parse.GetValue(Zone)!), Calendar(parse).NominalLength, parse.GetValue(FullPrecision));
+
     public void AddInputOptions(Command command)
     {
         command.Arguments.Add(Input);

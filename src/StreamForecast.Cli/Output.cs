@@ -92,6 +92,4 @@ internal static class Output
             throw new UsageException($"{path}: cannot write ({e.Message}).");
         }
     }
-
-    public static string R(double value) => double.IsFinite(value) ? value.ToString("R", CultureInfo.InvariantCulture) : string.Empty;
 }

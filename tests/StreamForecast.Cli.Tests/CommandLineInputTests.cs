@@ -200,8 +200,8 @@ public sealed class CommandLineInputTests : IDisposable
         Assert.True(result.ExitCode == 0, result.ToString());
         string[] rows = [.. File.ReadLines(_tool.PathOf("forecasts.csv")).Skip(1)];
         Assert.Equal(48, rows.Length);
-        Assert.StartsWith("e/bun,2025-04-01T00:00:00.0000000+00:00,0,", rows[0], StringComparison.Ordinal);
-        Assert.StartsWith("e/bun,2025-04-02T23:00:00.0000000+00:00,47,", rows[^1], StringComparison.Ordinal);
+        Assert.StartsWith("e/bun,2025-04-01T00:00:00+00:00,0,", rows[0], StringComparison.Ordinal);
+        Assert.StartsWith("e/bun,2025-04-02T23:00:00+00:00,47,", rows[^1], StringComparison.Ordinal);
     }
 
     [Theory]
@@ -232,8 +232,8 @@ public sealed class CommandLineInputTests : IDisposable
 
         Assert.True(result.ExitCode == 0, result.ToString());
         string[] rows = [.. File.ReadLines(_tool.PathOf("forecasts.csv")).Skip(1)];
-        Assert.StartsWith("e/bun,2025-04-03T00:00:00.0000000+00:00,4,", rows[0], StringComparison.Ordinal);
-        Assert.StartsWith("e/bun,2025-04-04T00:00:00.0000000+00:00,5,", rows[1], StringComparison.Ordinal);
+        Assert.StartsWith("e/bun,2025-04-03T00:00:00+00:00,4,", rows[0], StringComparison.Ordinal);
+        Assert.StartsWith("e/bun,2025-04-04T00:00:00+00:00,5,", rows[1], StringComparison.Ordinal);
     }
 
     [Theory]
@@ -259,8 +259,8 @@ public sealed class CommandLineInputTests : IDisposable
 
         Assert.True(result.ExitCode == 0, result.ToString());
         string[] rows = [.. File.ReadLines(_tool.PathOf("forecasts.csv")).Skip(1)];
-        Assert.StartsWith("e/bun,2025-03-03T00:00:00.0000000+00:00,3.5,", rows[0], StringComparison.Ordinal);
-        Assert.StartsWith("e/bun,2025-03-04T00:00:00.0000000+00:00,-12.5,0,3.5,", rows[1], StringComparison.Ordinal);
+        Assert.StartsWith("e/bun,2025-03-03T00:00:00+00:00,3.5,", rows[0], StringComparison.Ordinal);
+        Assert.StartsWith("e/bun,2025-03-04T00:00:00+00:00,-12.5,0,3.5,", rows[1], StringComparison.Ordinal);
     }
 
     [Fact]

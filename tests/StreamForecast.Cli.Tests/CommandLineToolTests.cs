@@ -207,8 +207,8 @@ public sealed class CommandLineToolTests : IDisposable
         Assert.Contains(lateCount, result.Output, StringComparison.Ordinal);
         string[] rows = [.. File.ReadLines(_tool.PathOf("forecasts.csv")).Skip(1)];
         Assert.Equal(2, rows.Length);
-        Assert.StartsWith($"m1,2025-06-01T00:00:00.0000000+00:00,{firstHour},", rows[0], StringComparison.Ordinal);
-        Assert.StartsWith($"m1,2025-06-01T01:00:00.0000000+00:00,4,0,{firstHour},", rows[1], StringComparison.Ordinal); // naive: the previous hour
+        Assert.StartsWith($"m1,2025-06-01T00:00:00+00:00,{firstHour},", rows[0], StringComparison.Ordinal);
+        Assert.StartsWith($"m1,2025-06-01T01:00:00+00:00,4,0,{firstHour},", rows[1], StringComparison.Ordinal); // naive: the previous hour
     }
 
     [Fact]
