@@ -142,7 +142,7 @@ internal sealed class CommonOptions
 
     /// <summary>How the output CSV files write times (in --zone) and numbers (--full-precision).</summary>
     public CsvValueFormat CsvFormatOf(ParseResult parse) =>
-        new(ZoneOf(parse.GetValue(Zone)!), Calendar(parse).NominalLength, parse.GetValue(FullPrecision));
+        new(ZoneOf(parse.GetValue(Zone)!), parse.GetValue(FullPrecision));
 
     public void AddInputOptions(Command command)
     {

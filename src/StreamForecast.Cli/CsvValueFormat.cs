@@ -4,22 +4,18 @@ namespace StreamForecast.Cli;
 
 /// <summary>
 /// How times and numbers are written to the output CSV files. Times are ISO 8601 with the offset of <c>--zone</c> at that
-/// instant (fixed-interval periods included), to the second, with a fraction only when the periods are shorter than
-/// a second or not whole seconds. Numbers have at most 6 significant digits and 12 decimals, never an exponent, and
+/// instant (fixed-interval periods included), to the second: every calendar's periods start on a whole second (fixed
+/// intervals are whole seconds from 1 s), so a fraction would only ever show zeros. Numbers have at most 6 significant digits and 12 decimals, never an exponent, and
 /// keep every integer digit (1234567.8 is written 1234568); with <c>--full-precision</c> they are written in .NET's
 /// shortest round-trip form ("R"), so reading them back gives the very same doubles. Not finite: an empty field.
 /// </summary>
-internal sealed class CsvValueFormat(TimeZoneInfo zone, TimeSpan periodLength, bool fullPrecision)
+internal sealed class CsvValueFormat(TimeZoneInfo zone, bool fullPrecision)
 {
     public const int SignificantDigits = 6;
 
     public const int MaxDecimals = 12;
 
-    private readonly string _timeFormat = periodLength.Ticks % TimeSpan.TicksPerSecond == 0
-        ? "yyyy-MM-dd'T'HH:mm:sszzz"
-        : "yyyy-MM-dd'T'HH:mm:ss.FFFFFFFzzz";
-
-    public string Time(DateTimeOffset time) => TimeZoneInfo.ConvertTime(time, zone).ToString(_timeFormat, CultureInfo.InvariantCulture);
+    public string Time(DateTimeOffset time) => TimeZoneInfo.ConvertTime(time, zone).ToString("yyyy-MM-dd'T'HH:mm:sszzz", CultureInfo.InvariantCulture);
 
     public string Number(double value)
     {
