@@ -17,6 +17,7 @@ internal static class CalibrateCommand
         var simulations = new Option<int>("--simulations") { Description = "Simulated streams per evaluation.", DefaultValueFactory = _ => CalibrationOptions.DefaultSimulations };
         var seed = new Option<int>("--seed") { Description = "The random seed (results are reproducible).", DefaultValueFactory = _ => 1 };
         var command = new Command("calibrate", "Set a drift rule's limit for one series and method so that false alarms come on average every --target periods; print the limit, the in-control run length and the delay to detect a step and a ramp.");
+        common.UseForCalibration();
         common.AddInputOptions(command);
         foreach (Option option in new Option[] { series, common.Method, common.Season, rule, target, simulations, seed })
         {
@@ -52,7 +53,7 @@ internal static class CalibrateCommand
             }
             catch (ArgumentException e)
             {
-                throw new DataException($"Cannot calibrate on '{key}' ({history.Length} periods): {e.Message.Split(" (Parameter")[0]}");
+                throw new DataException($"Cannot calibrate on '{key}' ({Output.Count(history.Length, "period")}): {e.Message.Split(" (Parameter")[0]}");
             }
 
             var table = new Table().Title($"{Markup.Escape(key)}: {Markup.Escape(method.MethodName)}, {Markup.Escape(template.GetType().Name.Replace("Options", string.Empty, StringComparison.Ordinal))}");
@@ -61,7 +62,7 @@ internal static class CalibrateCommand
             table.AddRow("Target reached", c.TargetReached ? "yes" : "no");
             table.AddRow("Target periods between false alarms", Output.F(options.TargetRunLength, "0"));
             table.AddRow("In-control run length (fresh streams)", $"{Output.F(c.InControl.Mean, "0.0")} ± {Output.F(c.InControl.StandardError, "0.0")} (median {Output.F(c.InControl.Median, "0")}, {c.InControl.Censored} censored)");
-            table.AddRow($"Step of {Output.F(options.StepSize, "0.##")}σ: mean delay", $"{Output.F(c.Step.MeanDelay, "0.0")} periods ({c.Step.Detected}/{c.Step.Runs} detected, {c.Step.FalseAlarmsBeforeChange} false alarms before)");
+            table.AddRow($"Step of {Output.F(options.StepSize, "0.##")}σ: mean delay", $"{Output.F(c.Step.MeanDelay, "0.0")} periods ({c.Step.Detected}/{c.Step.Runs} detected, {Output.Count(c.Step.FalseAlarmsBeforeChange, "false alarm")} before)");
             table.AddRow($"Ramp of {Output.F(options.RampSlope, "0.##")}σ/period: mean delay", $"{Output.F(c.Ramp.MeanDelay, "0.0")} periods ({c.Ramp.Detected}/{c.Ramp.Runs} detected)");
             table.AddRow("Residuals", $"{c.ResidualCount} (σ {Output.F(c.ResidualStandardDeviation, "0.00")}, block length {c.BlockLength})");
             AnsiConsole.Write(table);

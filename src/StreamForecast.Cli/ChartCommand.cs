@@ -14,7 +14,7 @@ internal static class ChartCommand
         var output = new Option<string>("--out") { Description = "The PNG path; with several series, '-<n>' is added before the extension.", DefaultValueFactory = _ => "chart.png" };
         var command = new Command("chart", "Draw a PNG of actual vs one-step forecast with its 80% prediction interval and the alert transitions, for chosen series.");
         common.AddInputOptions(command);
-        foreach (Option option in new Option[] { series, common.Lateness, common.Method, common.Config, common.Rules, common.ReferenceMethod, common.Season, common.Horizon, common.Intervals, common.NonNegative, output })
+        foreach (Option option in new Option[] { series, common.Lateness, common.Method, common.Config, common.ForceCalendar, common.Rules, common.ReferenceMethod, common.Season, common.Horizon, common.Intervals, common.NonNegative, output })
         {
             command.Options.Add(option);
         }
@@ -42,7 +42,7 @@ internal static class ChartCommand
                 var forecasts = result.Forecasts.Where(f => f.Key == keys[i]).ToList();
                 var alerts = result.Alerts.Where(a => a.Key == keys[i]).ToList();
                 SeriesChart.Save(file, keys[i], forecasts, alerts);
-                AnsiConsole.MarkupLine("Wrote {0}: {1} ({2} periods, {3} alert transitions).", Markup.Escape(file), Markup.Escape(keys[i]), forecasts.Select(f => f.Period).Distinct().Count(), alerts.Count);
+                AnsiConsole.MarkupLine("Wrote {0}: {1} ({2}, {3}).", Markup.Escape(file), Markup.Escape(keys[i]), Output.Count(forecasts.Select(f => f.Period).Distinct().Count(), "period"), Output.Count(alerts.Count, "alert transition"));
             }
 
             Output.ReportDropped(read, result, layout.OnBadRow);

@@ -7,7 +7,11 @@ using StreamForecast.Tracking;
 
 namespace StreamForecast.Cli;
 
-/// <summary>The options several commands share: the input CSV's layout, the period calendar, the method and the rules.</summary>
+/// <summary>
+/// The options several commands share: the input CSV's layout, the period calendar, the method and the rules. Each command
+/// gets an instance of its own, so a command can word an option's help for what the option does there (descriptions name
+/// only options the command has; <c>UseFor*</c> set the wording of the commands that do not replay through the engine).
+/// </summary>
 internal sealed class CommonOptions
 {
     public Argument<string> Input { get; } = new("input") { Description = "The observations CSV (a header row, then one row per event)." };
@@ -77,6 +81,11 @@ internal sealed class CommonOptions
 
     public Option<string?> Config { get; } = new("--config") { Description = "A method-configuration file written by 'tune'; its series run their tuned method." };
 
+    public Option<bool> ForceCalendar { get; } = new("--force")
+    {
+        Description = "Use the --config file even though it was tuned on another period calendar than --period and --zone give (refused without it, exit 1).",
+    };
+
     public Option<string[]> Rules { get; } = new("--rule")
     {
         Description = "Drift rule(s): cusum:h, trigg:limit, signal:limit (tracking signal). Append @reference to watch the reference " +
@@ -95,7 +104,7 @@ internal sealed class CommonOptions
 
     public Option<int> Season { get; } = new("--season") { Description = "The season length in periods (e.g. 7 for days in a week); 1 = none.", DefaultValueFactory = _ => 1 };
 
-    public Option<int> Horizon { get; } = new("--horizon") { Description = "The furthest horizon forecast (and backtested).", DefaultValueFactory = _ => 1 };
+    public Option<int> Horizon { get; } = new("--horizon") { Description = "The furthest horizon forecast.", DefaultValueFactory = _ => 1 };
 
     public Option<string> Intervals { get; } = new("--intervals")
     {
@@ -107,6 +116,33 @@ internal sealed class CommonOptions
     {
         Description = "The series cannot go below zero (counts, sales): clip forecasts and interval bounds at 0; errors are scored against the clipped forecast.",
     };
+
+    /// <summary>Words the shared options for <c>tune</c>: no engine replay, no --config; the horizon is also backtested.</summary>
+    public void UseForTuning()
+    {
+        Method.Description = "The default method, the baseline every candidate is compared with: " + MethodSpec.Forms + ".";
+        Horizon.Description = "The furthest horizon forecast and backtested.";
+        OnBadRow.Description = OnBadRowWithoutEngine;
+    }
+
+    /// <summary>Words the shared options for <c>calibrate</c>: no engine replay, no --config.</summary>
+    public void UseForCalibration()
+    {
+        Method.Description = "The method whose errors the rule watches: " + MethodSpec.Forms + ".";
+        OnBadRow.Description = OnBadRowWithoutEngine;
+    }
+
+    private const string OnBadRowWithoutEngine =
+        "stop (default): stop at the first malformed row, naming file, line and column (exit 2); skip: skip, count and report malformed rows.";
+
+    public Option<bool> FullPrecision { get; } = new("--full-precision")
+    {
+        Description = "Write numbers in the output CSV files in shortest round-trip form (every digit a double needs) instead of at most 6 significant digits and 12 decimals.",
+    };
+
+    /// <summary>How the output CSV files write times (in --zone) and numbers (--full-precision).</summary>
+    public CsvValueFormat CsvFormatOf(ParseResult parse) =>
+        new(ZoneOf(parse.GetValue(Zone)!), parse.GetValue(FullPrecision));
 
     public void AddInputOptions(Command command)
     {

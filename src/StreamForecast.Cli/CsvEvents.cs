@@ -62,7 +62,7 @@ internal static class CsvEvents
 
                 if (csv.FieldCount < at.Max() + 1)
                 {
-                    throw new DataException($"{path}, line {line}: the row has {csv.FieldCount} field(s), expected at least {at.Max() + 1}.");
+                    throw new DataException($"{path}, line {line}: the row has {Output.Count(csv.FieldCount, "field")}, expected at least {at.Max() + 1}.");
                 }
 
                 events.Add(Row(csv, path, line, header, at, layout));

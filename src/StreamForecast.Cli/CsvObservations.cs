@@ -217,7 +217,7 @@ internal static class CsvObservations
         long line = csv.LineNumber;
         if (csv.FieldCount < columns.Needed)
         {
-            return $"{path}, line {line}: the row has {csv.FieldCount} field(s), expected at least {columns.Needed} (column {columns.Needed}, '{header[columns.Needed - 1]}', is missing).";
+            return $"{path}, line {line}: the row has {Output.Count(csv.FieldCount, "field")}, expected at least {columns.Needed} (column {columns.Needed}, '{header[columns.Needed - 1]}', is missing).";
         }
 
         string Where(int index) => $"{path}, line {line}, column {index + 1} ('{header[index]}')";

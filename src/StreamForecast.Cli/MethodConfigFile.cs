@@ -45,8 +45,11 @@ internal sealed class MethodConfigFile
         }
     }
 
-    /// <summary>Reads a file and returns the method of each key; throws <see cref="UsageException"/> for anything unreadable.</summary>
-    public static Dictionary<string, ForecasterOptions> Load(string path)
+    /// <summary>
+    /// Reads a file and returns the method of each key; throws <see cref="UsageException"/> for anything unreadable.
+    /// <paramref name="calendar"/> is the name of the period calendar the file was tuned on, or null when it records none.
+    /// </summary>
+    public static Dictionary<string, ForecasterOptions> Load(string path, out string? calendar)
     {
         MethodConfigFile? file;
         try
@@ -72,6 +75,7 @@ internal sealed class MethodConfigFile
             throw new UsageException($"{path}: version {file.Version} is not supported; this tool reads version {CurrentVersion}.");
         }
 
+        calendar = string.IsNullOrEmpty(file.Calendar) ? null : file.Calendar;
         var methods = new Dictionary<string, ForecasterOptions>(StringComparer.Ordinal);
         foreach (SeriesEntry entry in file.Series)
         {

@@ -8,15 +8,19 @@ namespace StreamForecast.Cli;
 /// <summary>Console and file output shared by the commands.</summary>
 internal static class Output
 {
+    /// <summary>A count with its noun in the singular or plural as the count needs ("1 alert", "2 alerts", "1,024 rows").</summary>
+    public static string Count(long count, string singular, string? plural = null) =>
+        string.Create(CultureInfo.InvariantCulture, $"{count:N0} {(count == 1 ? singular : plural ?? singular + "s")}");
+
     public static string F(double value, string format = "0.00") =>
         double.IsFinite(value) ? value.ToString(format, CultureInfo.InvariantCulture) : "n/a";
 
     public static void ReportSkipped(CsvReadResult read)
     {
-        AnsiConsole.MarkupLine("Read {0:N0} rows.", read.Rows.Count);
+        AnsiConsole.MarkupLine("Read {0}.", Count(read.Rows.Count, "row"));
         if (read.Skipped > 0)
         {
-            AnsiConsole.MarkupLine("[yellow]Skipped {0:N0} malformed row(s)[/]; the first:", read.Skipped);
+            AnsiConsole.MarkupLine("[yellow]Skipped {0}[/]; the first:", Count(read.Skipped, "malformed row"));
             foreach (string example in read.SkippedExamples)
             {
                 AnsiConsole.MarkupLine("  [yellow]{0}[/]", Markup.Escape(example));
@@ -40,8 +44,8 @@ internal static class Output
         long refused = c.Rejected + c.Dropped;
         long engine = c.Late + refused + c.RejectedActuals;
         AnsiConsole.MarkupLine(
-            "Rejected in total: {0:N0} ({1:N0} malformed row(s) skipped when reading; {2:N0} event(s) too late, {3:N0} refused by the engine; {4:N0} period actual(s) refused by the method).",
-            read.Skipped + engine, read.Skipped, c.Late, refused, c.RejectedActuals);
+            "Rejected in total: {0:N0} ({1} skipped when reading; {2} too late, {3:N0} refused by the engine; {4} refused by the method).",
+            read.Skipped + engine, Count(read.Skipped, "malformed row"), Count(c.Late, "event"), refused, Count(c.RejectedActuals, "period actual"));
         foreach (SeriesFault<string> fault in result.Faults)
         {
             if (fault.Kind == SeriesFaultKind.InternalError)
@@ -54,8 +58,8 @@ internal static class Output
         {
             string first = result.Faults.Count > 0 ? $" First: {result.Faults[0].Key}: {result.Faults[0].Message.Split('\n')[0]}" : string.Empty;
             throw new DataException(
-                string.Create(CultureInfo.InvariantCulture, $"{read.Path}: the engine dropped {engine:N0} event(s) or period(s) ({c.Late:N0} event(s) too late for --lateness, {refused:N0} refused, ") +
-                string.Create(CultureInfo.InvariantCulture, $"{c.RejectedActuals:N0} period actual(s) refused by the method); the output files were written without them.{first} ") +
+                string.Create(CultureInfo.InvariantCulture, $"{read.Path}: the engine dropped {Count(engine, "event or period", "events or periods")} ({Count(c.Late, "event")} too late for --lateness, {refused:N0} refused, ") +
+                string.Create(CultureInfo.InvariantCulture, $"{Count(c.RejectedActuals, "period actual")} refused by the method); the output files were written without them.{first} ") +
                 "Use --on-bad-row skip to accept such a run with the drops counted.");
         }
     }
@@ -88,6 +92,4 @@ internal static class Output
             throw new UsageException($"{path}: cannot write ({e.Message}).");
         }
     }
-
-    public static string R(double value) => double.IsFinite(value) ? value.ToString("R", CultureInfo.InvariantCulture) : string.Empty;
 }

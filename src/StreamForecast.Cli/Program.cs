@@ -8,12 +8,11 @@ if (Console.IsOutputRedirected)
     AnsiConsole.Profile.Width = 200; // a pipe or a log has no width of its own
 }
 
-var common = new CommonOptions();
 var root = new RootCommand("streamforecast-cli: replay, tune, calibrate and chart StreamForecast series from CSV files. Forecasts and alerts are advisory. " + ExitCodes.HelpText)
 {
-    ReplayCommand.Create(common),
-    TuneCommand.Create(common),
-    CalibrateCommand.Create(common),
-    ChartCommand.Create(common),
+    ReplayCommand.Create(new CommonOptions()),
+    TuneCommand.Create(new CommonOptions()),
+    CalibrateCommand.Create(new CommonOptions()),
+    ChartCommand.Create(new CommonOptions()),
 };
 return await root.Parse(args).InvokeAsync();

@@ -3,6 +3,7 @@ using System.Globalization;
 using Spectre.Console;
 using StreamForecast.Alerts;
 using StreamForecast.Forecasting;
+using StreamForecast.Periods;
 using StreamForecast.Streaming;
 
 namespace StreamForecast.Cli;
@@ -19,8 +20,9 @@ internal static class ReplayCommand
             Description = "A CSV of known events (columns kind,start,end,scope; scope is all, group:NAME or series:KEY; same delimiter and time format as the input): their periods are marked, not scored and kept out of the drift rules and the model.",
         };
         var command = new Command("replay", "Replay observations through the streaming engine; write forecasts and alert transitions to CSV and print a summary per series.");
+        common.Zone.Description = "The IANA time zone of day/week periods, of timestamps without an offset, and of the times written to the output files (ISO 8601 with this zone's offset).";
         common.AddInputOptions(command);
-        foreach (Option option in new Option[] { common.Lateness, common.Method, common.Config, common.Rules, common.ReferenceMethod, common.Season, common.Horizon, common.Intervals, common.NonNegative, events, forecastsOut, alertsOut })
+        foreach (Option option in new Option[] { common.Lateness, common.Method, common.Config, common.ForceCalendar, common.Rules, common.ReferenceMethod, common.Season, common.Horizon, common.Intervals, common.NonNegative, events, forecastsOut, alertsOut, common.FullPrecision })
         {
             command.Options.Add(option);
         }
@@ -38,18 +40,20 @@ internal static class ReplayCommand
 
             string forecastsPath = parse.GetValue(forecastsOut)!;
             string alertsPath = parse.GetValue(alertsOut)!;
-            WriteForecasts(forecastsPath, result.Forecasts);
-            WriteAlerts(alertsPath, result.Alerts);
-            PrintSummary(result);
+            CsvValueFormat format = common.CsvFormatOf(parse);
+            WriteForecasts(forecastsPath, result.Forecasts, format);
+            WriteAlerts(alertsPath, result.Alerts, format);
+            PrintSummary(result, format);
             EngineCounters c = result.Counters;
             AnsiConsole.MarkupLine(
-                "Engine: {0:N0} events, {1:N0} periods closed, {2:N0} duplicates, {3:N0} late restated, {4:N0} too late, {5:N0} rejected, {6:N0} period actuals refused, {7} alerts raised, {8} cleared.",
-                c.Observations, c.PeriodsClosed, c.Duplicates, c.Restated, c.Late, c.Rejected + c.Dropped, c.RejectedActuals, c.AlertsRaised, c.AlertsCleared);
+                "Engine: {0}, {1} closed, {2}, {3:N0} late restated, {4:N0} too late, {5:N0} rejected, {6} refused, {7} raised, {8:N0} cleared.",
+                Output.Count(c.Observations, "event"), Output.Count(c.PeriodsClosed, "period"), Output.Count(c.Duplicates, "duplicate"), c.Restated, c.Late,
+                c.Rejected + c.Dropped, Output.Count(c.RejectedActuals, "period actual"), Output.Count(c.AlertsRaised, "alert"), c.AlertsCleared);
             foreach (EventLift lift in result.Lift)
             {
                 AnsiConsole.MarkupLine(
-                    "Known events, {0}: {1:N0} periods, actual {2} against forecast {3}, lift {4} (actual ÷ forecast).",
-                    Markup.Escape(lift.Kind.Name), lift.Periods, Output.F(lift.ActualTotal), Output.F(lift.ForecastTotal), Output.F(lift.Ratio));
+                    "Known events, {0}: {1}, actual {2} against forecast {3}, lift {4} (actual ÷ forecast).",
+                    Markup.Escape(lift.Kind.Name), Output.Count(lift.Periods, "period"), Output.F(lift.ActualTotal), Output.F(lift.ForecastTotal), Output.F(lift.Ratio));
             }
 
             foreach (SeriesFault<string> fault in result.Faults.Take(5))
@@ -57,8 +61,8 @@ internal static class ReplayCommand
                 AnsiConsole.MarkupLine("[yellow]Series fault[/] {0}: {1}", Markup.Escape(fault.Key), Markup.Escape(fault.Message));
             }
 
-            AnsiConsole.MarkupLine("Wrote {0} ({1:N0} forecasts) and {2} ({3:N0} alert transitions).",
-                Markup.Escape(forecastsPath), result.Forecasts.Count, Markup.Escape(alertsPath), result.Alerts.Count);
+            AnsiConsole.MarkupLine("Wrote {0} ({1}) and {2} ({3}).",
+                Markup.Escape(forecastsPath), Output.Count(result.Forecasts.Count, "forecast"), Markup.Escape(alertsPath), Output.Count(result.Alerts.Count, "alert transition"));
             Output.ReportDropped(read, result, layout.OnBadRow);
             return ExitCodes.Ok;
         }));
@@ -68,43 +72,53 @@ internal static class ReplayCommand
     public static ReplaySettings SettingsOf(CommonOptions common, ParseResult parse)
     {
         string? config = parse.GetValue(common.Config);
-        IReadOnlyDictionary<string, ForecasterOptions> tuned = config is null
-            ? new Dictionary<string, ForecasterOptions>(StringComparer.Ordinal)
-            : MethodConfigFile.Load(config);
+        PeriodCalendar calendar = common.Calendar(parse);
+        IReadOnlyDictionary<string, ForecasterOptions> tuned = new Dictionary<string, ForecasterOptions>(StringComparer.Ordinal);
+        if (config is not null)
+        {
+            tuned = MethodConfigFile.Load(config, out string? tunedOn);
+            if (tunedOn is not null && !string.Equals(tunedOn, calendar.Name, StringComparison.Ordinal) && !parse.GetValue(common.ForceCalendar))
+            {
+                throw new UsageException(
+                    $"{config} was tuned on the period calendar {tunedOn}, but this run uses {calendar.Name} (--period and --zone); " +
+                    "its methods and parameters may not suit these periods. Tune again on these periods, give the same --period and --zone, or use --force.");
+            }
+        }
+
         DriftRuleOptions[] rules = common.RulesOf(parse);
         return new ReplaySettings(
-            common.Calendar(parse), common.LatenessOf(parse), common.MethodOf(parse), tuned, rules, common.SeasonOf(parse), common.HorizonOf(parse),
+            calendar, common.LatenessOf(parse), common.MethodOf(parse), tuned, rules, common.SeasonOf(parse), common.HorizonOf(parse),
             common.ReferenceOf(parse, rules), EmpiricalIntervals: common.IntervalsOf(parse), NonNegative: parse.GetValue(common.NonNegative));
     }
 
-    private static void WriteForecasts(string path, List<ForecastUpdate<string>> forecasts)
+    private static void WriteForecasts(string path, List<ForecastUpdate<string>> forecasts, CsvValueFormat format)
     {
         string[] header = ["key", "period_start", "actual", "imputed", "forecast", "error", "next", "next_lower", "next_upper", "horizon", "at_horizon", "at_horizon_lower", "at_horizon_upper", "mad", "tracking_signal", "trigg_signal", "method", "restatement", "event", "next_interval_kind", "at_horizon_interval_kind", "interval_coverage"];
         Output.WriteCsv(path, header, forecasts.OrderBy(f => f.Key, StringComparer.Ordinal).ThenBy(f => f.Period), f =>
         [
-            f.Key, f.PeriodStart.ToString("O", CultureInfo.InvariantCulture), Output.R(f.Actual), f.IsImputed ? "1" : "0",
-            Output.R(f.ForecastForPeriod), Output.R(f.Error), Output.R(f.Next.Value), Output.R(f.Next.Lower), Output.R(f.Next.Upper),
-            f.AtHorizon.Horizon.ToString(CultureInfo.InvariantCulture), Output.R(f.AtHorizon.Value), Output.R(f.AtHorizon.Lower), Output.R(f.AtHorizon.Upper),
-            Output.R(f.Errors.Mad), Output.R(f.Errors.TrackingSignal), Output.R(f.Errors.TriggSignal), f.Method, f.IsRestatement ? "1" : "0", f.Event?.Name ?? string.Empty,
-            KindOf(f.Next), KindOf(f.AtHorizon), Output.R(f.Next.Coverage),
+            f.Key, format.Time(f.PeriodStart), format.Number(f.Actual), f.IsImputed ? "1" : "0",
+            format.Number(f.ForecastForPeriod), format.Number(f.Error), format.Number(f.Next.Value), format.Number(f.Next.Lower), format.Number(f.Next.Upper),
+            f.AtHorizon.Horizon.ToString(CultureInfo.InvariantCulture), format.Number(f.AtHorizon.Value), format.Number(f.AtHorizon.Lower), format.Number(f.AtHorizon.Upper),
+            format.Number(f.Errors.Mad), format.Number(f.Errors.TrackingSignal), format.Number(f.Errors.TriggSignal), f.Method, f.IsRestatement ? "1" : "0", f.Event?.Name ?? string.Empty,
+            KindOf(f.Next), KindOf(f.AtHorizon), format.Number(f.Next.Coverage),
         ]);
     }
 
     private static string KindOf(ForecastPoint point) => point.Kind == Tracking.IntervalKind.Empirical ? "empirical" : "normal";
 
-    private static void WriteAlerts(string path, List<DriftAlert<string>> alerts)
+    private static void WriteAlerts(string path, List<DriftAlert<string>> alerts, CsvValueFormat format)
     {
-        string[] header = ["key", "period_start", "rule", "transition", "episode", "direction", "severity", "signal", "level", "reason", "watched"];
+        string[] header = ["key", "period_start", "rule", "transition", "episode", "direction", "severity", "signal", "limit", "reason", "watched"];
         Output.WriteCsv(path, header, alerts.OrderBy(a => a.Key, StringComparer.Ordinal).ThenBy(a => a.Period), a =>
         [
-            a.Key, a.PeriodStart.ToString("O", CultureInfo.InvariantCulture), a.RuleName, a.Transition.Kind.ToString(),
+            a.Key, format.Time(a.PeriodStart), a.RuleName, a.Transition.Kind.ToString(),
             a.Transition.EpisodeId.ToString(CultureInfo.InvariantCulture), a.Transition.Direction.ToString(), a.Transition.Severity.ToString(),
-            Output.R(a.Transition.Signal), Output.R(a.Transition.Level), a.Transition.Reason.ToString(),
+            format.Number(a.Transition.Signal), format.Number(a.Transition.Level), a.Transition.Reason.ToString(),
             a.Watched == WatchedModel.Reference ? "reference" : "published",
         ]);
     }
 
-    private static void PrintSummary(ReplayResult result)
+    private static void PrintSummary(ReplayResult result, CsvValueFormat format)
     {
         var raised = result.Alerts.Where(a => a.Transition.Kind == DriftTransitionKind.Raised).GroupBy(a => a.Key, StringComparer.Ordinal)
             .ToDictionary(g => g.Key, g => g.Count(), StringComparer.Ordinal);
@@ -122,7 +136,7 @@ internal static class ReplayCommand
             allScored += scored;
             table.AddRow(
                 Markup.Escape(group.Key), Markup.Escape(last.Method), group.Select(f => f.Period).Distinct().Count().ToString("N0", CultureInfo.InvariantCulture),
-                last.PeriodStart.ToString("yyyy-MM-dd HH:mm", CultureInfo.InvariantCulture), Output.F(last.Actual), Output.F(last.Next.Value),
+                format.Time(last.PeriodStart)[..16].Replace('T', ' '), Output.F(last.Actual), Output.F(last.Next.Value),
                 $"{Output.F(last.Next.Lower)} – {Output.F(last.Next.Upper)}", Output.F(last.Errors.Mad), Output.F(last.Errors.TrackingSignal),
                 raised.GetValueOrDefault(group.Key).ToString(CultureInfo.InvariantCulture));
             coverage.AddRow(Markup.Escape(group.Key), KindOf(last.Next), CoverageText(inside, scored));

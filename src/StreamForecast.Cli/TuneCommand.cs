@@ -15,16 +15,24 @@ internal static class TuneCommand
         var top = new Option<int>("--top") { Description = "How many candidates of each ranking to print.", DefaultValueFactory = _ => 5 };
         var fraction = new Option<double>("--training-fraction") { Description = "The share of each history used to fit parameters; the rest is backtested.", DefaultValueFactory = _ => 0.5 };
         var fitStarts = new Option<bool>("--fit-starts") { Description = "Also fit Holt-Winters start values (level, trend, seasonal indices) with the weights; slower, and the backtest keeps whichever forecasts better." };
+        var force = new Option<bool>("--force") { Description = "Replace the --out file if it exists already (without it an existing file is refused, exit 2)." };
         var metric = new Option<RankingMetric>("--metric") { Description = "The ranking statistic: Rmse (default) or Mad.", DefaultValueFactory = _ => RankingMetric.Rmse };
-        var command = new Command("tune", "Fit and backtest candidate methods per series (rolling origin, out of sample); print each ranking and write the chosen methods to a configuration file that replay --config loads.");
+        var command = new Command("tune", "Fit and backtest candidate methods per series (rolling origin, out of sample); print each ranking and write the chosen methods to a configuration file for replay and chart.");
+        common.UseForTuning();
         common.AddInputOptions(command);
-        foreach (Option option in new Option[] { common.Method, common.Season, common.Horizon, fraction, metric, fitStarts, top, output })
+        foreach (Option option in new Option[] { common.Method, common.Season, common.Horizon, fraction, metric, fitStarts, top, output, force })
         {
             command.Options.Add(option);
         }
 
         command.SetAction((parse, cancellationToken) => Cli.Guard(() =>
         {
+            string path = parse.GetValue(output)!;
+            if (File.Exists(path) && !parse.GetValue(force))
+            {
+                throw new DataException($"{path} exists already; tune does not replace a method configuration unless --force is given (or choose another --out).");
+            }
+
             PeriodCalendar calendar = common.Calendar(parse);
             int season = common.SeasonOf(parse);
             ForecasterOptions defaultMethod = common.MethodOf(parse);
@@ -76,7 +84,6 @@ internal static class TuneCommand
                 });
             }
 
-            string path = parse.GetValue(output)!;
             file.Save(path);
             AnsiConsole.MarkupLine("Wrote {0}: {1} series, {2} tuned away from the default {3}.",
                 Markup.Escape(path), results.Count, results.Count(r => r.Value.ImprovesOnDefault), Markup.Escape(defaultMethod.MethodName));
@@ -87,7 +94,7 @@ internal static class TuneCommand
 
     private static void Print(string key, TuningResult result, int top, int periods)
     {
-        var table = new Table().Title($"{Markup.Escape(key)}: {periods} periods, fitted on {result.FirstOrigin}, demand class {result.Demand.Class}");
+        var table = new Table().Title($"{Markup.Escape(key)}: {Output.Count(periods, "period")}, fitted on {result.FirstOrigin}, demand class {result.Demand.Class}");
         table.AddColumns("Rank", "Method", "Score", "MAD (h=1)", "RMSE (h=1)", "MASE (h=1)", "Bias (h=1)", "Covered, 80% normal (h=1)");
         int rank = 0;
         foreach (CandidateEvaluation candidate in result.Ranking.Take(top))
