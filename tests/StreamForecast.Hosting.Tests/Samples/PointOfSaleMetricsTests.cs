@@ -1,3 +1,4 @@
+using System.Diagnostics.Metrics;
 using System.Net;
 using System.Net.Http.Json;
 using Microsoft.AspNetCore.Builder;
@@ -14,8 +15,10 @@ namespace StreamForecast.Hosting.Tests.Samples;
 /// <summary>The point-of-sale server's OpenTelemetry metrics, read back through OpenTelemetry's in-memory exporter.</summary>
 /// <remarks>
 /// Every engine in the process publishes instruments of the same names on a meter of the same name, and OpenTelemetry
-/// merges same-named instruments into one metric; so this class runs alone (no other test's engine is running), and
-/// the exported values are compared with this server's own engine counters.
+/// merges same-named instruments into one metric (an observable counter reports the last engine it asked). So this
+/// class runs alone, after the parallel tests, and each exported value is compared with the values of the engines
+/// alive in the process, read one by one with a <see cref="MeterListener"/>: with no other engine alive (the normal
+/// case) that is exactly this server's engine, whose values are also checked against its own counters.
 /// </remarks>
 [Collection(nameof(PointOfSaleMetricsTests))]
 public sealed class PointOfSaleMetricsTests
@@ -77,15 +80,45 @@ public sealed class PointOfSaleMetricsTests
         Assert.Equal(3, counters.Observations);
         Assert.Equal(1, counters.Duplicates);
         Assert.Equal(1, counters.PeriodsClosed);
-        Assert.Equal(counters.Observations, Sum(last["streamforecast.observations"]));
-        Assert.Equal(counters.Duplicates, Sum(last["streamforecast.duplicates"]));
-        Assert.Equal(counters.PeriodsClosed, Sum(last["streamforecast.periods_closed"]));
-        Assert.Equal(0, Sum(last["streamforecast.rejected"]));
-        Assert.Equal(1, Sum(last["streamforecast.active_series"]));
+        ForecastEngine<string> engine = app.Services.GetRequiredService<HostedForecastEngine<string>>().Engine;
+        foreach ((string name, long expected) in new (string, long)[]
+        {
+            ("streamforecast.observations", counters.Observations),
+            ("streamforecast.duplicates", counters.Duplicates),
+            ("streamforecast.periods_closed", counters.PeriodsClosed),
+            ("streamforecast.rejected", 0),
+            ("streamforecast.active_series", 1),
+        })
+        {
+            Dictionary<object, long> live = LiveValues(name);
+            Assert.Equal(expected, live[engine]);
+            Assert.Contains(Sum(last[name]), live.Values);
+        }
+
         Assert.Equal(MetricType.LongSum, last["streamforecast.observations"].MetricType);
         Assert.Equal(MetricType.LongSumNonMonotonic, last["streamforecast.active_series"].MetricType);
 
         await app.StopAsync();
+    }
+
+    // The current value of one instrument on every live engine, by engine (the meter's scope).
+    private static Dictionary<object, long> LiveValues(string instrumentName)
+    {
+        var values = new Dictionary<object, long>(ReferenceEqualityComparer.Instance);
+        using var listener = new MeterListener
+        {
+            InstrumentPublished = (instrument, l) =>
+            {
+                if (instrument.Meter.Name == ForecastEngine<string>.MeterName && instrument.Name == instrumentName && instrument.Meter.Scope is not null)
+                {
+                    l.EnableMeasurementEvents(instrument);
+                }
+            },
+        };
+        listener.SetMeasurementEventCallback<long>((instrument, value, _, _) => values[instrument.Meter.Scope!] = value);
+        listener.Start();
+        listener.RecordObservableInstruments();
+        return values;
     }
 
     private static long Sum(MetricSnapshot metric)
