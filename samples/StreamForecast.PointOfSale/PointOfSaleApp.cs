@@ -1,5 +1,8 @@
 using System.Text.Json;
+using Microsoft.AspNetCore.Diagnostics.HealthChecks;
 using Microsoft.AspNetCore.Http.HttpResults;
+using Microsoft.Extensions.Diagnostics.HealthChecks;
+using Microsoft.Extensions.Options;
 using StreamForecast.Alerts;
 using StreamForecast.Forecasting;
 using StreamForecast.Hosting;
@@ -27,7 +30,27 @@ public static class PointOfSaleApp
     /// <summary>The shops' time zone: a shop day is a local calendar day.</summary>
     public static readonly TimeZoneInfo ShopZone = TimeZoneInfo.FindSystemTimeZoneById("Europe/Dublin");
 
-    private static readonly JsonSerializerOptions s_json = new(JsonSerializerDefaults.Web);
+    /// <summary>The configuration key of the folder for the checkpoint file (<c>--data &lt;folder&gt;</c> sets it too).</summary>
+    public const string DataDirectoryKey = "PointOfSale:DataDirectory";
+
+    /// <summary>The checkpoint file's name inside the data folder.</summary>
+    public const string CheckpointFileName = "point-of-sale.db";
+
+    private const string CheckpointFileKey = "StreamForecast:Checkpoints:File";
+
+    private static readonly JsonSerializerOptions s_json = new(JsonSerializerDefaults.Web) { Converters = { new OffsetRequiredConverter() } };
+
+    /// <summary>
+    /// The data folder used when neither <c>--data</c> nor <c>StreamForecast:Checkpoints:File</c> is given: the user's
+    /// local application data folder (<c>~/.local/share</c> on Linux, <c>%LOCALAPPDATA%</c> on Windows), else the
+    /// temporary folder, under <c>StreamForecast/PointOfSale</c>; never the source tree or the build output.
+    /// </summary>
+    /// <returns>The folder (not created here).</returns>
+    public static string DefaultDataDirectory()
+    {
+        string root = Environment.GetFolderPath(Environment.SpecialFolder.LocalApplicationData, Environment.SpecialFolderOption.DoNotVerify);
+        return Path.Combine(string.IsNullOrEmpty(root) ? Path.GetTempPath() : root, "StreamForecast", "PointOfSale");
+    }
 
     /// <summary>Builds the application.</summary>
     /// <param name="args">Command-line arguments (configuration overrides such as <c>--StreamForecast:Checkpoints:File=...</c>).</param>
@@ -37,9 +60,25 @@ public static class PointOfSaleApp
     {
         WebApplicationBuilder builder = WebApplication.CreateBuilder(new WebApplicationOptions { Args = args, ContentRootPath = AppContext.BaseDirectory });
 
+        // Runtime data lives outside the source tree: --data <folder>, else StreamForecast:Checkpoints:File, else the
+        // user's local application data folder. The start log says where.
+        builder.Configuration.AddCommandLine(args, new Dictionary<string, string> { ["--data"] = DataDirectoryKey });
+        if (string.IsNullOrEmpty(builder.Configuration[CheckpointFileKey]) || !string.IsNullOrEmpty(builder.Configuration[DataDirectoryKey]))
+        {
+            string folder = builder.Configuration[DataDirectoryKey] is { Length: > 0 } given ? Path.GetFullPath(given) : DefaultDataDirectory();
+            builder.Configuration[CheckpointFileKey] = Path.Combine(folder, CheckpointFileName);
+        }
+
         // A backstop for every endpoint; each endpoint also enforces its own, smaller limit.
         builder.WebHost.ConfigureKestrel(k => k.Limits.MaxRequestBodySize = SaleRules.MaxBatchBytes);
         builder.Services.AddProblemDetails();
+        builder.Services.AddOpenApi();
+        builder.Services.AddHealthChecks().Add(new HealthCheckRegistration(
+            "engine",
+            sp => new EngineHealthCheck(sp.GetRequiredService<HostedForecastEngine<string>>(), sp.GetRequiredService<IOptions<StreamForecastOptions<string>>>().Value.QueueCapacity),
+            failureStatus: null,
+            tags: null));
+        SalesMetrics.Add(builder);
 
         // The engine first, so that it is started before and stopped after everything that posts to it.
         builder.Services.AddStreamForecast<string>(builder.Configuration.GetSection(StreamForecastServiceCollectionExtensions.DefaultSectionName), o =>
@@ -67,7 +106,10 @@ public static class PointOfSaleApp
         WebApplication app = builder.Build();
         app.UseExceptionHandler();
         app.UseStatusCodePages();
+        app.MapOpenApi();
+        app.MapHealthChecks("/health", new HealthCheckOptions { ResponseWriter = WriteHealthAsync });
         Map(app);
+        StartLog.DataLocation(app.Logger, builder.Configuration[CheckpointFileKey]!);
         return app;
     }
 
@@ -89,7 +131,15 @@ public static class PointOfSaleApp
 
             return await TakeAsync(engine, [observation], time, request.HttpContext.Response, ct)
                 ?? TypedResults.Accepted((string?)null, new BatchResult(1, []));
-        });
+        })
+        .WithSummary("Takes one sale.")
+        .WithDescription("202 Accepted once the sale is in the durable input log (it is forecast asynchronously); 400 with the reasons when it is refused (soldAt needs its UTC offset).")
+        .Accepts<SaleEvent>("application/json")
+        .Produces<BatchResult>(StatusCodes.Status202Accepted)
+        .ProducesValidationProblem()
+        .ProducesProblem(StatusCodes.Status413PayloadTooLarge)
+        .ProducesProblem(StatusCodes.Status415UnsupportedMediaType)
+        .ProducesProblem(StatusCodes.Status503ServiceUnavailable);
 
         app.MapPost("/sales/batch", async Task<IResult> (HttpRequest request, HostedForecastEngine<string> engine, TimeProvider time, CancellationToken ct) =>
         {
@@ -126,13 +176,29 @@ public static class PointOfSaleApp
                 }
             }
 
-            if (good.Count > 0 && await TakeAsync(engine, [.. good], time, request.HttpContext.Response, ct) is { } notTaken)
+            if (good.Count == 0)
+            {
+                return TypedResults.ValidationProblem(
+                    rejected.ToDictionary(r => $"sales[{r.Index}]", r => r.Reasons.ToArray()),
+                    title: "No sale of the batch was taken.");
+            }
+
+            if (await TakeAsync(engine, [.. good], time, request.HttpContext.Response, ct) is { } notTaken)
             {
                 return notTaken;
             }
 
-            return TypedResults.Ok(new BatchResult(good.Count, rejected));
-        });
+            // The same answer as a single sale: 202 once the sales are in the durable input log.
+            return TypedResults.Accepted((string?)null, new BatchResult(good.Count, rejected));
+        })
+        .WithSummary("Takes a batch of 1 to 500 sales.")
+        .WithDescription("202 Accepted when at least one sale was taken (logged durably, forecast asynchronously); the body counts them and lists each refused sale by index with its reasons. 400 when none was taken or the body is malformed (a soldAt without its UTC offset refuses the whole batch).")
+        .Accepts<SaleBatch>("application/json")
+        .Produces<BatchResult>(StatusCodes.Status202Accepted)
+        .ProducesValidationProblem()
+        .ProducesProblem(StatusCodes.Status413PayloadTooLarge)
+        .ProducesProblem(StatusCodes.Status415UnsupportedMediaType)
+        .ProducesProblem(StatusCodes.Status503ServiceUnavailable);
 
         app.MapGet("/shops/{shop}/forecasts", (string shop, SalesBoard board) => TypedResults.Ok(board.Forecasts(shop, null)));
 
@@ -237,10 +303,22 @@ public static class PointOfSaleApp
         {
             return (JsonSerializer.Deserialize<T>(buffer.AsSpan(0, read), s_json), null);
         }
+        catch (JsonException ex) when (ex.Data.Contains(OffsetRequiredConverter.MissingOffsetMark))
+        {
+            return (null, Problem(StatusCodes.Status400BadRequest, "A sale time has no UTC offset.", ex.Path is null ? ex.Message : $"{ex.Message} (at {ex.Path}; nothing of this request was taken)"));
+        }
         catch (JsonException ex)
         {
             return (null, Problem(StatusCodes.Status400BadRequest, "The body is not valid JSON for this endpoint.", ex.Message));
         }
+    }
+
+    // GET /health: the status (200 when Healthy or Degraded, 503 when Unhealthy), why, and the engine's counts.
+    private static Task WriteHealthAsync(HttpContext context, HealthReport report)
+    {
+        HealthReportEntry engine = report.Entries["engine"];
+        context.Response.ContentType = "application/json";
+        return context.Response.WriteAsJsonAsync(new EngineHealth(report.Status.ToString(), engine.Description, engine.Data));
     }
 
     private static ProblemHttpResult TooLarge(int limit) =>

@@ -3,7 +3,7 @@ namespace StreamForecast.Samples.PointOfSale;
 /// <summary>One sale as a till sends it. Every field is checked by <see cref="SaleRules"/>; none is trusted.</summary>
 /// <param name="Shop">The shop's code: 1 to 40 characters of a-z, 0-9 and '-'.</param>
 /// <param name="Item">The item's code, same rule.</param>
-/// <param name="SoldAt">When the sale happened, with its UTC offset.</param>
+/// <param name="SoldAt">When the sale happened: ISO 8601 with its UTC offset (<c>Z</c> or <c>+01:00</c>); a time without one is refused with 400.</param>
 /// <param name="Quantity">Units sold, 0 to 10,000 (a till may send 0 for a voided line).</param>
 /// <param name="SaleId">The till's id of the sale line, 1 to 80 characters; a resent sale with the same id counts once.</param>
 public sealed record SaleEvent(string? Shop, string? Item, DateTimeOffset? SoldAt, double? Quantity, string? SaleId);
@@ -68,3 +68,9 @@ public sealed record OpenAlert(string Shop, string Item, string Rule, long Episo
 public sealed record ServerStatus(
     int RestoredSeries, long CheckpointPosition, long ReplayedSales, long RefusedOnReplay, long LoggedSales,
     long Counted, long Duplicates, long Late, long Restated, long Rejected);
+
+/// <summary>The answer of <c>GET /health</c>: the engine's state and the counts behind it.</summary>
+/// <param name="Status">Healthy, Degraded (answered 200) or Unhealthy (answered 503).</param>
+/// <param name="Description">Why, in one sentence.</param>
+/// <param name="Engine">The engine's counts: series, queueDepth, counted, duplicates, late, rejected, droppedQueueFull, periodsClosed, alertsRaised, alertsCleared, loggedSales, restoredSeries (empty before the engine has started).</param>
+public sealed record EngineHealth(string Status, string? Description, IReadOnlyDictionary<string, object> Engine);

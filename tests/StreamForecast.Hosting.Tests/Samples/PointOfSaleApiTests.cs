@@ -135,14 +135,15 @@ public sealed class PointOfSaleApiTests : IAsyncLifetime
     }
 
     [Fact]
-    public async Task PostBatch_MixedSales_TakesTheGoodOnesAndReportsEachBadOneByIndex()
+    public async Task PostBatch_MixedSales_Returns202LikeASingleSaleAndReportsEachBadOneByIndex()
     {
         SaleBatch batch = new([Sale("a", 1), Sale("b", -1), Sale("c", 2) with { Item = "Rye Roll" }, Sale("d", 2), null!]);
 
         using HttpResponseMessage response = await Http.PostAsJsonAsync("/sales/batch", batch);
         BatchResult result = (await response.Content.ReadFromJsonAsync<BatchResult>())!;
 
-        Assert.Equal(HttpStatusCode.OK, response.StatusCode);
+        // The same success status as POST /sales: the sales are logged durably and forecast asynchronously.
+        Assert.Equal(HttpStatusCode.Accepted, response.StatusCode);
         Assert.Equal(2, result.Accepted);
         Assert.Equal([1, 2, 4], result.Rejected.Select(r => r.Index));
         Assert.Contains("out of range", result.Rejected[0].Reasons[0], StringComparison.Ordinal);
@@ -237,7 +238,7 @@ public sealed class PointOfSaleApiTests : IAsyncLifetime
 
         string[] lines = output.ToString().Split('\n', StringSplitOptions.TrimEntries | StringSplitOptions.RemoveEmptyEntries);
         Assert.Equal("posted 42 shop days of invented sales in 42 batches: 504 sales accepted, 0 rejected", lines[0]);
-        Assert.Equal("a batch with two bad sales: HTTP 200, 2 accepted, 2 rejected", lines[1]);
+        Assert.Equal("a batch with two bad sales: HTTP 202, 2 accepted, 2 rejected", lines[1]);
         Assert.StartsWith("sale 1: quantity -3 is out of range", lines[2], StringComparison.Ordinal);
         Assert.StartsWith("sale 2: shop 'Harbour Street'", lines[3], StringComparison.Ordinal);
         Assert.Matches(@"^a \d+ KiB batch: HTTP 413 The request body is too large\.$", lines[4]);
@@ -246,6 +247,110 @@ public sealed class PointOfSaleApiTests : IAsyncLifetime
         Assert.StartsWith("sourdough-loaf", lines[7], StringComparison.Ordinal);
         Assert.Equal("GET /alerts: 1 open", lines[8]);
         Assert.Matches(@"^mill-lane/cinnamon-bun: CUSUM.* episode 1, UnderForecast, (Warning|Critical), since 2025-10-\d\d$", lines[9]);
+    }
+
+    [Fact]
+    public async Task PostBatch_EverySaleRefused_Returns400ListingEachByIndex()
+    {
+        SaleBatch batch = new([Sale("a", -1), Sale("b", 2) with { Shop = "Mill Lane" }]);
+
+        using HttpResponseMessage response = await Http.PostAsJsonAsync("/sales/batch", batch);
+        var problem = await response.Content.ReadFromJsonAsync<ValidationProblemDetails>();
+
+        Assert.Equal(HttpStatusCode.BadRequest, response.StatusCode);
+        Assert.Equal("No sale of the batch was taken.", problem!.Title);
+        Assert.Equal(["sales[0]", "sales[1]"], problem.Errors.Keys.Order(StringComparer.Ordinal));
+        Assert.Equal(0, (await Http.GetFromJsonAsync<ServerStatus>("/status"))!.LoggedSales);
+    }
+
+    [Theory]
+    [InlineData("2025-10-20T09:00:00")]
+    [InlineData("2025-10-20T09:00")]
+    [InlineData("2025-10-20")]
+    public async Task PostSale_TimeWithoutOffset_Returns400SayingTheOffsetIsRequiredAndTakesNothing(string soldAt)
+    {
+        using var body = new StringContent($"{{\"shop\":\"mill-lane\",\"item\":\"rye-roll\",\"soldAt\":\"{soldAt}\",\"quantity\":2,\"saleId\":\"x\"}}", Encoding.UTF8, "application/json");
+        using HttpResponseMessage response = await Http.PostAsync("/sales", body);
+        var problem = await response.Content.ReadFromJsonAsync<ProblemDetails>();
+
+        Assert.Equal(HttpStatusCode.BadRequest, response.StatusCode);
+        Assert.Equal("A sale time has no UTC offset.", problem!.Title);
+        Assert.Contains($"soldAt '{soldAt}' has no UTC offset", problem.Detail, StringComparison.Ordinal);
+        Assert.Contains("$.soldAt", problem.Detail, StringComparison.Ordinal);
+        Assert.Equal(0, (await Http.GetFromJsonAsync<ServerStatus>("/status"))!.LoggedSales);
+    }
+
+    [Theory]
+    [InlineData("2025-10-20T09:00:00Z")]
+    [InlineData("2025-10-20T09:00:00+01:00")]
+    [InlineData("2025-10-20T09:00:00.250-01:00")]
+    public async Task PostSale_TimeWithOffset_Returns202(string soldAt)
+    {
+        using var body = new StringContent($"{{\"shop\":\"mill-lane\",\"item\":\"rye-roll\",\"soldAt\":\"{soldAt}\",\"quantity\":2,\"saleId\":\"x\"}}", Encoding.UTF8, "application/json");
+        using HttpResponseMessage response = await Http.PostAsync("/sales", body);
+
+        Assert.Equal(HttpStatusCode.Accepted, response.StatusCode);
+    }
+
+    [Fact]
+    public async Task PostBatch_OneTimeWithoutOffset_Returns400NamingTheSaleAndTakesNothing()
+    {
+        using var body = new StringContent(
+            "{\"sales\":[{\"shop\":\"mill-lane\",\"item\":\"rye-roll\",\"soldAt\":\"2025-10-20T09:00:00Z\",\"quantity\":2,\"saleId\":\"a\"}," +
+            "{\"shop\":\"mill-lane\",\"item\":\"rye-roll\",\"soldAt\":\"2025-10-20T09:05:00\",\"quantity\":1,\"saleId\":\"b\"}]}",
+            Encoding.UTF8,
+            "application/json");
+        using HttpResponseMessage response = await Http.PostAsync("/sales/batch", body);
+        var problem = await response.Content.ReadFromJsonAsync<ProblemDetails>();
+
+        Assert.Equal(HttpStatusCode.BadRequest, response.StatusCode);
+        Assert.Contains("$.sales[1].soldAt", problem!.Detail, StringComparison.Ordinal);
+        Assert.Equal(0, (await Http.GetFromJsonAsync<ServerStatus>("/status"))!.LoggedSales);
+    }
+
+    [Fact]
+    public async Task GetOpenApi_Document_DescribesTheSaleBodiesAndTheAcceptedAnswer()
+    {
+        using HttpResponseMessage response = await Http.GetAsync("/openapi/v1.json");
+        using JsonDocument json = JsonDocument.Parse(await response.Content.ReadAsStringAsync());
+        JsonElement paths = json.RootElement.GetProperty("paths");
+
+        Assert.Equal(HttpStatusCode.OK, response.StatusCode);
+        foreach (string path in new[] { "/sales", "/sales/batch" })
+        {
+            JsonElement post = paths.GetProperty(path).GetProperty("post");
+            Assert.True(post.GetProperty("responses").TryGetProperty("202", out _), path + " documents 202");
+            Assert.True(post.GetProperty("responses").TryGetProperty("400", out _), path + " documents 400");
+            Assert.True(post.GetProperty("requestBody").GetProperty("content").TryGetProperty("application/json", out _), path + " documents its JSON body");
+        }
+
+        foreach (string path in new[] { "/shops/{shop}/forecasts", "/shops/{shop}/items/{item}/forecast", "/alerts", "/status" })
+        {
+            Assert.True(paths.TryGetProperty(path, out _), path);
+        }
+
+        JsonElement sale = json.RootElement.GetProperty("components").GetProperty("schemas").GetProperty("SaleEvent").GetProperty("properties");
+        Assert.Equal(["item", "quantity", "saleId", "shop", "soldAt"], sale.EnumerateObject().Select(p => p.Name).Order(StringComparer.Ordinal));
+    }
+
+    [Fact]
+    public async Task GetHealth_RunningEngine_Returns200HealthyWithTheEngineCounts()
+    {
+        using (HttpResponseMessage posted = await Http.PostAsJsonAsync("/sales", Sale("till-1/1", 3)))
+        {
+            Assert.Equal(HttpStatusCode.Accepted, posted.StatusCode);
+        }
+
+        using HttpResponseMessage response = await Http.GetAsync("/health");
+        using JsonDocument json = JsonDocument.Parse(await response.Content.ReadAsStringAsync());
+
+        Assert.Equal(HttpStatusCode.OK, response.StatusCode);
+        Assert.Equal("Healthy", json.RootElement.GetProperty("status").GetString());
+        Assert.Equal("The forecast engine is running.", json.RootElement.GetProperty("description").GetString());
+        JsonElement engine = json.RootElement.GetProperty("engine");
+        Assert.Equal(1, engine.GetProperty("loggedSales").GetInt64());
+        Assert.Equal(0, engine.GetProperty("droppedQueueFull").GetInt64());
+        Assert.Equal(0, engine.GetProperty("restoredSeries").GetInt32());
     }
 
     private static SaleEvent Sale(string id, double quantity) =>
