@@ -26,7 +26,8 @@ root.SetAction(async (parse, cancellationToken) =>
     const string chartKey = BakeryScenario.ShiftKey; // the series whose demand shifts in the second year
     if (isSmoke)
     {
-        series = [.. series.Take(3), .. series.Where(s => s.Key == chartKey)];
+        // A few series, and the two with a planted story: the shift and the promotion.
+        series = [.. series.Take(3), .. series.Where(s => s.Key is chartKey or DemoSetup.PromotionKey)];
     }
 
     AnsiConsole.MarkupLine("[bold]StreamForecast demo[/]: Crumb Lane bakeries, {0} series of daily unit sales over {1} days (invented data).", series.Count, BakeryScenario.Days);
