@@ -21,6 +21,7 @@ internal static class ReplayCommand
         };
         var command = new Command("replay", "Replay observations through the streaming engine; write forecasts and alert transitions to CSV and print a summary per series.");
         common.Zone.Description = "The IANA time zone of day/week periods, of timestamps without an offset, and of the times written to the output files (ISO 8601 with this zone's offset).";
+        common.Horizon.Description = "The furthest horizon forecast; above 1, forecasts.csv gets the horizon and at_horizon* columns (at 1 they would repeat next*).";
         common.AddInputOptions(command);
         foreach (Option option in new Option[] { common.Lateness, common.Method, common.Config, common.ForceCalendar, common.Rules, common.ReferenceMethod, common.Season, common.Horizon, common.Intervals, common.NonNegative, events, forecastsOut, alertsOut, common.FullPrecision })
         {

@@ -53,6 +53,14 @@ internal static class SeriesChart
         }
 
         AddMarkers(plot, data);
+        plot.Axes.AutoScale();
+        if (data.ActualsNonNegative && data.BandBelowZero == 0)
+        {
+            // Nothing drawn is below zero (counts, a clipped interval): the y axis starts at 0 instead of a margin below it.
+            ScottPlot.AxisLimits limits = plot.Axes.GetLimits();
+            plot.Axes.SetLimitsY(Math.Max(limits.Bottom, -0.01 * limits.Top), limits.Top);
+        }
+
         SetTimeAxis(plot, data, periodLength);
         plot.Title(labels.Title);
         plot.XLabel(labels.XAxis);
