@@ -20,6 +20,12 @@ internal static class BakeryScenario
 {
     public const int Days = 2 * 364;
 
+    /// <summary>The series whose demand shifts upward, for good, in the second year.</summary>
+    public const string ShiftKey = "Station Square/cinnamon bun";
+
+    /// <summary>The first day of the lasting shift of <see cref="ShiftKey"/> (in the second year, so the replay shows it).</summary>
+    public const int ShiftStart = 500;
+
     /// <summary>The first day of the Mill Lane sourdough promotion (in the second year, so the replay shows it).</summary>
     public const int PromotionStart = 560;
 
@@ -46,7 +52,7 @@ internal static class BakeryScenario
                 for (int d = 0; d < Days; d++)
                 {
                     double baseLevel = level * size * (1 + (trend * d / 364.0));
-                    if (bakery == "Station Square" && item == "cinnamon bun" && d >= 500)
+                    if ($"{bakery}/{item}" == ShiftKey && d >= ShiftStart)
                     {
                         baseLevel *= 1.35; // the office next door opens: a sudden, lasting shift
                     }

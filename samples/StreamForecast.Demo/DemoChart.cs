@@ -1,11 +1,20 @@
+using System.Globalization;
 using StreamForecast.Alerts;
 using StreamForecast.Streaming;
 
 namespace StreamForecast.Demo;
 
-/// <summary>Draws one series' replay with ScottPlot: actual, the one-step forecast with its 80% interval, alert transitions.</summary>
+/// <summary>
+/// Draws one series' replay with ScottPlot: units sold, the one-day-ahead forecast with its 80% interval (clipped at 0:
+/// the demo's series are declared non-negative), the day the planted shift begins, and the alert transitions. Dates are
+/// ISO (a tick on the first of each month), in the bakeries' time zone. A marker's shape gives the alert's direction
+/// (▲ under-forecast: sales above the forecast; ▼ over-forecast), its fill the transition (filled raised, larger
+/// escalated, hollow cleared), its colour the rule; each legend entry names the rule.
+/// </summary>
 internal static class DemoChart
 {
+    private static readonly ScottPlot.Color[] s_ruleColors = [ScottPlot.Colors.Red, ScottPlot.Colors.DarkOrange, ScottPlot.Colors.Purple];
+
     public static void Save(string path, string title, IReadOnlyList<ForecastUpdate<string>> updates, IReadOnlyList<DriftAlert<string>> alerts)
     {
         var byPeriod = new SortedDictionary<long, ForecastUpdate<string>>();
@@ -24,7 +33,7 @@ internal static class DemoChart
         ForecastPoint? previous = null;
         foreach (var (period, u) in byPeriod)
         {
-            double x = u.PeriodStart.UtcDateTime.ToOADate();
+            double x = X(u.PeriodStart);
             xs.Add(x);
             actual.Add(u.Actual);
             at[period] = (x, u.Actual);
@@ -43,31 +52,59 @@ internal static class DemoChart
         var band = plot.Add.FillY(fx.ToArray(), lower.ToArray(), upper.ToArray());
         band.FillColor = ScottPlot.Colors.SteelBlue.WithAlpha(0.25);
         band.LineWidth = 0;
-        band.LegendText = "80% interval";
+        band.LegendText = "80% interval (clipped at 0)";
         var line = plot.Add.ScatterLine(fx.ToArray(), forecast.ToArray());
         line.Color = ScottPlot.Colors.SteelBlue;
         line.LegendText = "forecast (one day ahead)";
         var sold = plot.Add.ScatterLine(xs.ToArray(), actual.ToArray());
         sold.Color = ScottPlot.Colors.Black;
         sold.LegendText = "units sold";
-        Mark(plot, alerts, at, DriftTransitionKind.Raised, ScottPlot.MarkerShape.FilledTriangleUp, ScottPlot.Colors.Red, "alert raised");
-        Mark(plot, alerts, at, DriftTransitionKind.Escalated, ScottPlot.MarkerShape.FilledDiamond, ScottPlot.Colors.DarkRed, "alert escalated");
-        Mark(plot, alerts, at, DriftTransitionKind.Cleared, ScottPlot.MarkerShape.FilledCircle, ScottPlot.Colors.Green, "alert cleared");
-        plot.Axes.DateTimeTicksBottom();
+        if (byPeriod.Count > 0 && byPeriod.Values.First().Key == BakeryScenario.ShiftKey)
+        {
+            var shift = plot.Add.VerticalLine(X(DemoSetup.DayStart(BakeryScenario.ShiftStart)));
+            shift.Color = ScottPlot.Colors.Gray;
+            shift.LinePattern = ScottPlot.LinePattern.Dashed;
+            shift.LegendText = "the planted shift begins (an office opens next door)";
+        }
+
+        foreach (var group in alerts.Where(a => at.ContainsKey(a.Period)).GroupBy(a => (a.RuleIndex, a.RuleName, a.Transition.Direction, a.Transition.Kind)).OrderBy(g => g.Key.RuleIndex).ThenBy(g => g.Key.Kind))
+        {
+            var (rule, name, direction, kind) = group.Key;
+            double nudge = (direction == DriftDirection.OverForecast ? -1 : 1) * 3 * (1 + rule); // rules on one day stay apart
+            double[] mx = [.. group.Select(a => at[a.Period].X)];
+            double[] my = [.. group.Select(a => at[a.Period].Y + nudge)];
+            var markers = plot.Add.Markers(mx, my, Shape(direction, kind), kind == DriftTransitionKind.Escalated ? 15 : 11, s_ruleColors[rule % s_ruleColors.Length]);
+            string towards = direction == DriftDirection.OverForecast ? "over-forecast (sales below)" : "under-forecast (sales above)";
+            markers.LegendText = $"{kind.ToString().ToLowerInvariant()}, {towards}: {name.Split('(')[0]}";
+        }
+
+        var ticks = new ScottPlot.TickGenerators.NumericManual();
+        if (byPeriod.Count > 0)
+        {
+            DateTime first = Local(byPeriod.Values.First().PeriodStart), last = Local(byPeriod.Values.Last().PeriodStart);
+            for (var month = new DateTime(first.Year, first.Month, 1).AddMonths(first.Day == 1 ? 0 : 1); month <= last; month = month.AddMonths(1))
+            {
+                ticks.AddMajor(month.ToOADate(), month.ToString("yyyy-MM-dd", CultureInfo.InvariantCulture));
+            }
+        }
+
+        plot.Axes.Bottom.TickGenerator = ticks;
         plot.Title(title);
+        plot.XLabel($"day ({DemoSetup.Zone.Id})");
         plot.YLabel("units per day");
-        plot.ShowLegend(ScottPlot.Alignment.UpperLeft);
-        plot.SavePng(path, 1400, 600);
+        plot.ShowLegend(ScottPlot.Edge.Bottom);
+        plot.SavePng(path, 1400, 650);
     }
 
-    private static void Mark(
-        ScottPlot.Plot plot, IReadOnlyList<DriftAlert<string>> alerts, Dictionary<long, (double X, double Y)> at,
-        DriftTransitionKind kind, ScottPlot.MarkerShape shape, ScottPlot.Color color, string label)
+    private static DateTime Local(DateTimeOffset time) => TimeZoneInfo.ConvertTime(time, DemoSetup.Zone).DateTime;
+
+    private static double X(DateTimeOffset time) => Local(time).ToOADate();
+
+    private static ScottPlot.MarkerShape Shape(DriftDirection direction, DriftTransitionKind kind) => (direction == DriftDirection.OverForecast, kind == DriftTransitionKind.Cleared) switch
     {
-        var points = alerts.Where(a => a.Transition.Kind == kind && at.ContainsKey(a.Period)).Select(a => at[a.Period]).ToList();
-        if (points.Count > 0)
-        {
-            plot.Add.Markers(points.Select(p => p.X).ToArray(), points.Select(p => p.Y).ToArray(), shape, 10, color).LegendText = label;
-        }
-    }
+        (false, false) => ScottPlot.MarkerShape.FilledTriangleUp,
+        (false, true) => ScottPlot.MarkerShape.OpenTriangleUp,
+        (true, false) => ScottPlot.MarkerShape.FilledTriangleDown,
+        (true, true) => ScottPlot.MarkerShape.OpenTriangleDown,
+    };
 }

@@ -10,8 +10,8 @@ namespace StreamForecast.Demo;
 /// <summary>
 /// Replays the bakeries' sales as individual timestamped sale events through the streaming engine: each series runs
 /// the method tuned for it on the first year, shop days are local days in the bakeries' time zone, a few events arrive
-/// late or twice, and halfway through the engine is checkpointed, stopped and restored as after a restart. Drift-alert
-/// transitions are printed as the engine publishes them.
+/// late or twice, and halfway through the engine is checkpointed, stopped and restored as after a restart. The second
+/// year's drift-alert transitions are printed in date order with the demo's planted stories (<see cref="StoryTimeline"/>).
 /// </summary>
 internal static class EngineReplay
 {
@@ -40,8 +40,8 @@ internal static class EngineReplay
         {
             var (engine, position) = await ForecastEngine.RestoreAsync(store, options, SnapshotKeyCodecs.Utf8String);
             int half = events.Count / 2;
-            long alerts = 0;
-            using (engine.Alerts.Subscribe(new AlertPrinter(log, showFrom, () => Interlocked.Increment(ref alerts))))
+            var shown = new List<DriftAlert<string>>();
+            using (engine.Alerts.Subscribe(new KeyRecorder<DriftAlert<string>>(a => a.PeriodStart >= showFrom, shown)))
             using (engine.Forecasts.Subscribe(new KeyRecorder<ForecastUpdate<string>>(u => u.Key == chartKey && u.PeriodStart >= showFrom, chartUpdates)))
             using (engine.Alerts.Subscribe(new KeyRecorder<DriftAlert<string>>(a => a.Key == chartKey && a.PeriodStart >= showFrom, chartAlerts)))
             {
@@ -56,11 +56,12 @@ internal static class EngineReplay
 
             EngineCounters first = engine.GetCounters();
 
-            log.WriteLine($"-- checkpoint saved at event {half:N0} of {events.Count:N0}; engine stopped and restored from it --");
+            var checkpoint = (events[half - 1].Timestamp, string.Create(CultureInfo.InvariantCulture,
+                $"-- checkpoint saved at event {half:N0} of {events.Count:N0} ({events[half - 1].Timestamp:yyyy-MM-dd HH:mm}); engine stopped and restored from it --"));
             (engine, position) = await ForecastEngine.RestoreAsync(store, options, SnapshotKeyCodecs.Utf8String);
             var latest = new Dictionary<string, ForecastUpdate<string>>(StringComparer.Ordinal);
             IReadOnlyList<EventLift> lift;
-            using (engine.Alerts.Subscribe(new AlertPrinter(log, showFrom, () => Interlocked.Increment(ref alerts))))
+            using (engine.Alerts.Subscribe(new KeyRecorder<DriftAlert<string>>(a => a.PeriodStart >= showFrom, shown)))
             using (engine.Forecasts.Subscribe(new LatestForecast(latest)))
             using (engine.Forecasts.Subscribe(new KeyRecorder<ForecastUpdate<string>>(u => u.Key == chartKey && u.PeriodStart >= showFrom, chartUpdates)))
             using (engine.Alerts.Subscribe(new KeyRecorder<DriftAlert<string>>(a => a.Key == chartKey && a.PeriodStart >= showFrom, chartAlerts)))
@@ -75,6 +76,11 @@ internal static class EngineReplay
                 await engine.AdvanceAsync(new DateTimeOffset(end, s_zone.GetUtcOffset(end)));
                 lift = await engine.GetEventLiftAsync();
                 await engine.DisposeAsync();
+            }
+
+            lock (shown)
+            {
+                StoryTimeline.Print(log, [.. shown], checkpoint, series.Select(s => s.Key).ToHashSet(StringComparer.Ordinal), lift);
             }
 
             PrintLatest(latest);
@@ -106,7 +112,7 @@ internal static class EngineReplay
         {
             table.AddRow(
                 Markup.Escape(key),
-                Markup.Escape(u.Method),
+                Markup.Escape(DemoFormat.Method(u.Method)),
                 u.PeriodStart.ToString("yyyy-MM-dd", CultureInfo.InvariantCulture),
                 F(u.Actual),
                 F(u.Next.Value),
@@ -120,28 +126,6 @@ internal static class EngineReplay
     }
 
     private static string F(double value) => double.IsFinite(value) ? value.ToString("0.0", CultureInfo.InvariantCulture) : "n/a";
-
-    private sealed class AlertPrinter(TextWriter log, DateTimeOffset showFrom, Action counted) : IObserver<DriftAlert<string>>
-    {
-        public void OnCompleted()
-        {
-        }
-
-        public void OnError(Exception error) => log.WriteLine($"alert stream failed: {error.Message}");
-
-        public void OnNext(DriftAlert<string> alert)
-        {
-            if (alert.PeriodStart < showFrom)
-            {
-                return; // the first year only warms the series up
-            }
-
-            counted();
-            DriftTransition t = alert.Transition;
-            log.WriteLine(string.Create(CultureInfo.InvariantCulture,
-                $"{alert.PeriodStart:yyyy-MM-dd}  {t.Kind,-9} {alert.Key,-32} {alert.RuleName,-28} episode {t.EpisodeId} {t.Direction} {t.Severity} signal {t.Signal:0.00} (level {t.Level:0.00}) MAD {alert.Errors.Mad:0.00}"));
-        }
-    }
 
     private sealed class LatestForecast(Dictionary<string, ForecastUpdate<string>> latest) : IObserver<ForecastUpdate<string>>
     {

@@ -9,7 +9,7 @@ using StreamForecast.Streaming;
 // The main demo: an invented chain of three bakeries ("Crumb Lane"), two years of daily sales per item.
 // 1. Tune a method per series on the first year with SeriesTuner (fit on its first half, rolling-origin backtest on the rest).
 // 2. (see EngineReplay) Replay the second year as timestamped sale events through the streaming engine, each series
-//    running its tuned method, and show drift alerts.
+//    running its tuned method, and show drift alerts in date order with the planted stories (see StoryTimeline).
 // 3. (see DemoChart) Draw one series' replay — the Station Square cinnamon bun, whose demand shifts — as a PNG.
 var smoke = new Option<bool>("--smoke") { Description = "Run a shortened version (used by CI); the output has the same shape." };
 var seed = new Option<int>("--seed") { Description = "Seed for the invented data.", DefaultValueFactory = _ => 2026 };
@@ -23,10 +23,11 @@ root.SetAction(async (parse, cancellationToken) =>
 {
     bool isSmoke = parse.GetValue(smoke);
     IReadOnlyList<BakerySeries> series = BakeryScenario.Generate(parse.GetValue(seed));
-    const string chartKey = "Station Square/cinnamon bun"; // the series whose demand shifts in the second year
+    const string chartKey = BakeryScenario.ShiftKey; // the series whose demand shifts in the second year
     if (isSmoke)
     {
-        series = [.. series.Take(3), .. series.Where(s => s.Key == chartKey)];
+        // A few series, and the two with a planted story: the shift and the promotion.
+        series = [.. series.Take(3), .. series.Where(s => s.Key is chartKey or DemoSetup.PromotionKey)];
     }
 
     AnsiConsole.MarkupLine("[bold]StreamForecast demo[/]: Crumb Lane bakeries, {0} series of daily unit sales over {1} days (invented data).", series.Count, BakeryScenario.Days);
@@ -50,7 +51,7 @@ root.SetAction(async (parse, cancellationToken) =>
             Markup.Escape(known.Kind.Name), Markup.Escape(known.Key!), known.Start, known.End.AddDays(-1));
     }
 
-    AnsiConsole.MarkupLine("[bold]Streaming replay[/]: both years as individual sale events, each series on its tuned method (the first year warms it up); second-year drift-alert transitions as they are published:");
+    AnsiConsole.MarkupLine("[bold]Streaming replay[/]: both years as individual sale events, each series on its tuned method (the first year warms it up); second-year drift-alert transitions in date order, with the planted stories (>>) when they happen:");
     var replay = await EngineReplay.RunAsync(series, chosen, showFromDay: firstYear, Console.Out, chartKey);
     var counters = replay.Counters;
     AnsiConsole.MarkupLine(
@@ -65,7 +66,7 @@ root.SetAction(async (parse, cancellationToken) =>
     }
 
     string chartPath = Path.GetFullPath(parse.GetValue(chart)!);
-    DemoChart.Save(chartPath, $"{chartKey} ({chosen[chartKey].MethodName}): second year, one-step forecast with 80% interval", replay.ChartUpdates, replay.ChartAlerts);
+    DemoChart.Save(chartPath, $"{chartKey} ({DemoFormat.Method(chosen[chartKey].MethodName)}): second year, one-step forecast with 80% interval", replay.ChartUpdates, replay.ChartAlerts);
     AnsiConsole.MarkupLine("Chart of {0}: {1}", Markup.Escape(chartKey), Markup.Escape(chartPath));
     return 0;
 });
@@ -105,10 +106,10 @@ static void PrintTuned(IReadOnlyList<KeyValuePair<string, TuningResult>> tuned)
         table.AddRow(
             Markup.Escape(key),
             result.Demand.Class.ToString(),
-            Markup.Escape(result.Method.MethodName),
+            Markup.Escape(DemoFormat.Method(result.Method.MethodName)),
             F(result.Chosen.AtHorizon(1).Rmse),
             F(result.Chosen.AtHorizon(1).Mase),
-            Markup.Escape(runnerUp.MethodName),
+            Markup.Escape(DemoFormat.Method(runnerUp.MethodName)),
             F(runnerUp.AtHorizon(1).Rmse),
             F(result.Default.AtHorizon(1).Rmse));
     }

@@ -56,7 +56,7 @@ internal static class CalibrateCommand
                 throw new DataException($"Cannot calibrate on '{key}' ({Output.Count(history.Length, "period")}): {e.Message.Split(" (Parameter")[0]}");
             }
 
-            var table = new Table().Title($"{Markup.Escape(key)}: {Markup.Escape(method.MethodName)}, {Markup.Escape(template.GetType().Name.Replace("Options", string.Empty, StringComparison.Ordinal))}");
+            var table = Output.NewTable($"{Markup.Escape(key)}: {Markup.Escape(method.MethodName)}, {Markup.Escape(template.GetType().Name.Replace("Options", string.Empty, StringComparison.Ordinal))}");
             table.AddColumns("Quantity", "Value");
             table.AddRow("Limit", Output.F(c.Limit, "0.000"));
             table.AddRow("Target reached", c.TargetReached ? "yes" : "no");

@@ -12,9 +12,18 @@ internal static class ChartCommand
     {
         var series = new Option<string[]>("--series") { Description = "The series to draw (keys; composite parts joined with '/'); one PNG each.", Required = true, AllowMultipleArgumentsPerToken = true };
         var output = new Option<string>("--out") { Description = "The PNG path; with several series, '-<n>' is added before the extension.", DefaultValueFactory = _ => "chart.png" };
+        var from = new Option<string?>("--from")
+        {
+            Description = "Draw only periods starting at or after this date or time in --zone (e.g. 2025-05-12 or 2025-05-12T06:00); the whole series is still replayed.",
+        };
+        var to = new Option<string?>("--to")
+        {
+            Description = "Draw only periods starting up to this date (the whole day) or time in --zone; the whole series is still replayed.",
+        };
+        var last = new Option<int?>("--last") { Description = "Draw only the last N periods of each series (not with --from/--to); the whole series is still replayed." };
         var command = new Command("chart", "Draw a PNG of actual vs one-step forecast with its 80% prediction interval and the alert transitions, for chosen series.");
         common.AddInputOptions(command);
-        foreach (Option option in new Option[] { series, common.Lateness, common.Method, common.Config, common.ForceCalendar, common.Rules, common.ReferenceMethod, common.Season, common.Horizon, common.Intervals, common.NonNegative, output })
+        foreach (Option option in new Option[] { series, common.Lateness, common.Method, common.Config, common.ForceCalendar, common.Rules, common.ReferenceMethod, common.Season, common.Horizon, common.Intervals, common.NonNegative, from, to, last, output })
         {
             command.Options.Add(option);
         }
@@ -34,15 +43,41 @@ internal static class ChartCommand
                 throw new DataException($"No rows for series {string.Join(", ", missing.Select(k => $"'{k}'"))} in the input.");
             }
 
+            TimeZoneInfo zone = CommonOptions.ZoneOf(parse.GetValue(common.Zone)!);
+            ChartWindow window = ChartWindow.Parse(parse.GetValue(from), parse.GetValue(to), parse.GetValue(last), zone, settings.Calendar);
             ReplayResult result = await ProgressDisplay.RunAsync("Replaying", p => ReplayRunner.RunAsync(rows, settings, p, cancellationToken)).ConfigureAwait(false);
             string path = parse.GetValue(output)!;
+            string perPeriod = $"{parse.GetValue(common.Quantity)} per {PeriodNoun(settings.Calendar)}";
             for (int i = 0; i < keys.Length; i++)
             {
                 string file = keys.Length == 1 ? path : Path.ChangeExtension(path, null) + "-" + (i + 1).ToString(System.Globalization.CultureInfo.InvariantCulture) + (Path.GetExtension(path) is { Length: > 0 } ext ? ext : ".png");
                 var forecasts = result.Forecasts.Where(f => f.Key == keys[i]).ToList();
                 var alerts = result.Alerts.Where(a => a.Key == keys[i]).ToList();
-                SeriesChart.Save(file, keys[i], forecasts, alerts);
-                AnsiConsole.MarkupLine("Wrote {0}: {1} ({2}, {3}).", Markup.Escape(file), Markup.Escape(keys[i]), Output.Count(forecasts.Select(f => f.Period).Distinct().Count(), "period"), Output.Count(alerts.Count, "alert transition"));
+                ChartData data = ChartData.Build(forecasts, alerts, window, zone);
+                if (data.Points.Count == 0)
+                {
+                    throw new DataException($"No periods of '{keys[i]}' in the window ({window.Describe(zone)}); its {Output.Count(data.PeriodsInSeries, "period")} run from {Day(forecasts.Min(f => f.PeriodStart), zone)} to {Day(forecasts.Max(f => f.PeriodStart), zone)}.");
+                }
+
+                double nominal = forecasts.Count > 0 ? forecasts[0].Next.Coverage : double.NaN;
+                string interval = $"{(double.IsFinite(nominal) ? Output.F(100 * nominal, "0.#") : "80")}% interval{(settings.NonNegative ? " (clipped at 0, --non-negative)" : string.Empty)}";
+                string shown = data.Points.Count == data.PeriodsInSeries ? string.Empty : $", {Day(data.Points[0].Start)} to {Day(data.Points[^1].Start)}";
+                SeriesChart.Save(file, data, new SeriesChart.Labels(
+                    $"{keys[i]}: actual and one-step forecast{shown}", $"period start ({zone.Id})", perPeriod, interval, "forecast (one period ahead)", "actual"), settings.Calendar.NominalLength);
+                AnsiConsole.MarkupLine(
+                    "Wrote {0}: {1} ({2}, {3}).",
+                    Markup.Escape(file), Markup.Escape(keys[i]),
+                    data.Points.Count == data.PeriodsInSeries ? Output.Count(data.PeriodsInSeries, "period") : string.Create(System.Globalization.CultureInfo.InvariantCulture, $"{data.Points.Count:N0} of {Output.Count(data.PeriodsInSeries, "period")}{Markup.Escape(shown)}"),
+                    Output.Count(data.Markers.Count, "alert transition"));
+                if (!settings.NonNegative && data.ActualsNonNegative && data.BandBelowZero > 0)
+                {
+                    AnsiConsole.MarkupLine("  The interval reaches below 0 in {0} though no actual is negative; --non-negative clips forecasts and intervals at 0.", Output.Count(data.BandBelowZero, "period"));
+                }
+
+                if (window.IsAll && data.PeriodsInSeries > LongSeries)
+                {
+                    AnsiConsole.MarkupLine("  {0} in one chart are hard to read; --last N or --from/--to draws a window of them.", Output.Count(data.PeriodsInSeries, "period"));
+                }
             }
 
             Output.ReportDropped(read, result, layout.OnBadRow);
@@ -50,93 +85,28 @@ internal static class ChartCommand
         }));
         return command;
     }
-}
 
-/// <summary>Draws one series' replay as a PNG with ScottPlot.</summary>
-internal static class SeriesChart
-{
-    public static void Save(string path, string title, IReadOnlyList<ForecastUpdate<string>> updates, IReadOnlyList<DriftAlert<string>> alerts)
+    /// <summary>Above this many periods the chart command suggests a window.</summary>
+    internal const int LongSeries = 400;
+
+    private static string Day(DateTimeOffset time, TimeZoneInfo zone) => Day(TimeZoneInfo.ConvertTime(time, zone).DateTime);
+
+    private static string Day(DateTime local) => TimeTicks.Label(local);
+
+    /// <summary>The period in words for the y axis: day, week, hour, 15 min.</summary>
+    internal static string PeriodNoun(StreamForecast.Periods.PeriodCalendar calendar)
     {
-        // The last published update of each period (a restatement replaces the first).
-        var byPeriod = new SortedDictionary<long, ForecastUpdate<string>>();
-        foreach (ForecastUpdate<string> u in updates)
+        TimeSpan length = calendar.NominalLength;
+        return calendar.Kind switch
         {
-            byPeriod[u.Period] = u;
-        }
-
-        var xs = new List<double>();
-        var actual = new List<double>();
-        var fx = new List<double>();
-        var forecast = new List<double>();
-        var lower = new List<double>();
-        var upper = new List<double>();
-        var actualAt = new Dictionary<long, (double X, double Y)>();
-        ForecastPoint? previous = null;
-        foreach (var (period, u) in byPeriod)
-        {
-            double x = u.PeriodStart.UtcDateTime.ToOADate();
-            if (!u.IsImputed || double.IsFinite(u.Actual))
-            {
-                xs.Add(x);
-                actual.Add(u.Actual);
-                actualAt[period] = (x, u.Actual);
-            }
-
-            // The interval for this period is the one published with the previous period's "next" forecast.
-            if (previous is { IsValid: true } p && double.IsFinite(p.Lower) && double.IsFinite(p.Upper))
-            {
-                fx.Add(x);
-                forecast.Add(p.Value);
-                lower.Add(p.Lower);
-                upper.Add(p.Upper);
-            }
-
-            previous = u.Next;
-        }
-
-        var plot = new ScottPlot.Plot();
-        if (fx.Count > 0)
-        {
-            var band = plot.Add.FillY(fx.ToArray(), lower.ToArray(), upper.ToArray());
-            band.FillColor = ScottPlot.Colors.SteelBlue.WithAlpha(0.25);
-            band.LegendText = "80% interval";
-            band.LineWidth = 0;
-            var line = plot.Add.ScatterLine(fx.ToArray(), forecast.ToArray());
-            line.Color = ScottPlot.Colors.SteelBlue;
-            line.LegendText = "forecast (one step)";
-        }
-
-        var actuals = plot.Add.ScatterLine(xs.ToArray(), actual.ToArray());
-        actuals.Color = ScottPlot.Colors.Black;
-        actuals.LegendText = "actual";
-        AddMarkers(plot, alerts, actualAt, DriftTransitionKind.Raised, ScottPlot.MarkerShape.FilledTriangleUp, ScottPlot.Colors.Red, "alert raised");
-        AddMarkers(plot, alerts, actualAt, DriftTransitionKind.Escalated, ScottPlot.MarkerShape.FilledDiamond, ScottPlot.Colors.DarkRed, "alert escalated");
-        AddMarkers(plot, alerts, actualAt, DriftTransitionKind.Cleared, ScottPlot.MarkerShape.FilledCircle, ScottPlot.Colors.Green, "alert cleared");
-        plot.Axes.DateTimeTicksBottom();
-        plot.Title(title);
-        plot.YLabel("quantity per period");
-        plot.ShowLegend(ScottPlot.Alignment.UpperLeft);
-        try
-        {
-            plot.SavePng(path, 1400, 600);
-        }
-        catch (Exception e) when (e is IOException or UnauthorizedAccessException)
-        {
-            throw new UsageException($"{path}: cannot write the chart ({e.Message}).");
-        }
-    }
-
-    private static void AddMarkers(
-        ScottPlot.Plot plot, IReadOnlyList<DriftAlert<string>> alerts, Dictionary<long, (double X, double Y)> actualAt,
-        DriftTransitionKind kind, ScottPlot.MarkerShape shape, ScottPlot.Color color, string label)
-    {
-        var points = alerts.Where(a => a.Transition.Kind == kind && actualAt.ContainsKey(a.Period)).Select(a => actualAt[a.Period]).ToList();
-        if (points.Count == 0)
-        {
-            return;
-        }
-
-        var markers = plot.Add.Markers(points.Select(p => p.X).ToArray(), points.Select(p => p.Y).ToArray(), shape, 10, color);
-        markers.LegendText = label;
+            StreamForecast.Periods.PeriodKind.Daily => "day",
+            StreamForecast.Periods.PeriodKind.IsoWeekly => "week",
+            _ when length == TimeSpan.FromDays(1) => "day (UTC)",
+            _ when length == TimeSpan.FromHours(1) => "hour",
+            _ when length == TimeSpan.FromMinutes(1) => "minute",
+            _ when length.Ticks % TimeSpan.TicksPerHour == 0 => string.Create(System.Globalization.CultureInfo.InvariantCulture, $"{length.TotalHours:0} h"),
+            _ when length.Ticks % TimeSpan.TicksPerMinute == 0 => string.Create(System.Globalization.CultureInfo.InvariantCulture, $"{length.TotalMinutes:0} min"),
+            _ => string.Create(System.Globalization.CultureInfo.InvariantCulture, $"{length.TotalSeconds:0} s"),
+        };
     }
 }

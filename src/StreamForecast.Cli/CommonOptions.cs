@@ -359,7 +359,7 @@ internal sealed class CommonOptions
         _ => text,
     };
 
-    private static TimeZoneInfo ZoneOf(string id)
+    public static TimeZoneInfo ZoneOf(string id)
     {
         try
         {

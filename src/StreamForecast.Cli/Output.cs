@@ -12,6 +12,24 @@ internal static class Output
     public static string Count(long count, string singular, string? plural = null) =>
         string.Create(CultureInfo.InvariantCulture, $"{count:N0} {(count == 1 ? singular : plural ?? singular + "s")}");
 
+    /// <summary>
+    /// Whether the console is too narrow for the wide summary tables (below 120 columns, such as an 80-column terminal, or
+    /// COLUMNS=80 when the output is redirected): the commands then split or shorten their tables.
+    /// </summary>
+    public static bool IsNarrow => AnsiConsole.Profile.Width < 120;
+
+    /// <summary>A summary table: rounded borders on a wide console, a minimal border without outer edges on a narrow one.</summary>
+    public static Table NewTable(string title)
+    {
+        var table = new Table().Title(title);
+        if (IsNarrow)
+        {
+            table.Border(TableBorder.Minimal);
+        }
+
+        return table;
+    }
+
     public static string F(double value, string format = "0.00") =>
         double.IsFinite(value) ? value.ToString(format, CultureInfo.InvariantCulture) : "n/a";
 

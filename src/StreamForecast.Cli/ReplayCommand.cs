@@ -21,6 +21,7 @@ internal static class ReplayCommand
         };
         var command = new Command("replay", "Replay observations through the streaming engine; write forecasts and alert transitions to CSV and print a summary per series.");
         common.Zone.Description = "The IANA time zone of day/week periods, of timestamps without an offset, and of the times written to the output files (ISO 8601 with this zone's offset).";
+        common.Horizon.Description = "The furthest horizon forecast; above 1, forecasts.csv gets the horizon and at_horizon* columns (at 1 they would repeat next*).";
         common.AddInputOptions(command);
         foreach (Option option in new Option[] { common.Lateness, common.Method, common.Config, common.ForceCalendar, common.Rules, common.ReferenceMethod, common.Season, common.Horizon, common.Intervals, common.NonNegative, events, forecastsOut, alertsOut, common.FullPrecision })
         {
@@ -41,7 +42,7 @@ internal static class ReplayCommand
             string forecastsPath = parse.GetValue(forecastsOut)!;
             string alertsPath = parse.GetValue(alertsOut)!;
             CsvValueFormat format = common.CsvFormatOf(parse);
-            WriteForecasts(forecastsPath, result.Forecasts, format);
+            WriteForecasts(forecastsPath, result.Forecasts, format, settings.Horizon);
             WriteAlerts(alertsPath, result.Alerts, format);
             PrintSummary(result, format);
             EngineCounters c = result.Counters;
@@ -91,17 +92,65 @@ internal static class ReplayCommand
             common.ReferenceOf(parse, rules), EmpiricalIntervals: common.IntervalsOf(parse), NonNegative: parse.GetValue(common.NonNegative));
     }
 
-    private static void WriteForecasts(string path, List<ForecastUpdate<string>> forecasts, CsvValueFormat format)
+    /// <summary>
+    /// Writes forecasts.csv. The <c>horizon</c> and <c>at_horizon*</c> columns are written only when a horizon beyond 1 was
+    /// asked for (at horizon 1 they would repeat <c>next*</c>). <c>in_interval</c> is 1 when the period's actual fell inside
+    /// the next-period interval published the period before, 0 outside, empty when there was none to score against.
+    /// </summary>
+    private static void WriteForecasts(string path, List<ForecastUpdate<string>> forecasts, CsvValueFormat format, int horizon)
     {
-        string[] header = ["key", "period_start", "actual", "imputed", "forecast", "error", "next", "next_lower", "next_upper", "horizon", "at_horizon", "at_horizon_lower", "at_horizon_upper", "mad", "tracking_signal", "trigg_signal", "method", "restatement", "event", "next_interval_kind", "at_horizon_interval_kind", "interval_coverage"];
-        Output.WriteCsv(path, header, forecasts.OrderBy(f => f.Key, StringComparer.Ordinal).ThenBy(f => f.Period), f =>
+        bool atHorizon = horizon > 1;
+        string[] header =
+        [
+            "key", "period_start", "actual", "imputed", "forecast", "error", "next", "next_lower", "next_upper",
+            .. atHorizon ? (string[])["horizon", "at_horizon", "at_horizon_lower", "at_horizon_upper"] : [],
+            "mad", "tracking_signal", "trigg_signal", "method", "restatement", "event", "next_interval_kind",
+            .. atHorizon ? (string[])["at_horizon_interval_kind"] : [],
+            "interval_coverage", "in_interval",
+        ];
+        var ordered = forecasts.OrderBy(f => f.Key, StringComparer.Ordinal).ThenBy(f => f.Period).ToList();
+        var inside = InsideFlags(ordered);
+        int row = 0;
+        Output.WriteCsv(path, header, ordered, f =>
         [
             f.Key, format.Time(f.PeriodStart), format.Number(f.Actual), f.IsImputed ? "1" : "0",
             format.Number(f.ForecastForPeriod), format.Number(f.Error), format.Number(f.Next.Value), format.Number(f.Next.Lower), format.Number(f.Next.Upper),
-            f.AtHorizon.Horizon.ToString(CultureInfo.InvariantCulture), format.Number(f.AtHorizon.Value), format.Number(f.AtHorizon.Lower), format.Number(f.AtHorizon.Upper),
+            .. atHorizon ? (string[])[f.AtHorizon.Horizon.ToString(CultureInfo.InvariantCulture), format.Number(f.AtHorizon.Value), format.Number(f.AtHorizon.Lower), format.Number(f.AtHorizon.Upper)] : [],
             format.Number(f.Errors.Mad), format.Number(f.Errors.TrackingSignal), format.Number(f.Errors.TriggSignal), f.Method, f.IsRestatement ? "1" : "0", f.Event?.Name ?? string.Empty,
-            KindOf(f.Next), KindOf(f.AtHorizon), format.Number(f.Next.Coverage),
+            KindOf(f.Next),
+            .. atHorizon ? (string[])[KindOf(f.AtHorizon)] : [],
+            format.Number(f.Next.Coverage), inside[row++],
         ]);
+    }
+
+    /// <summary>
+    /// Per row of <paramref name="ordered"/> (by key, then period): "1" or "0" for whether the actual lay inside the
+    /// next-period interval of the latest update of the period before (so a restated period is scored against what was
+    /// published before it), or "" when that interval does not exist or is not finite.
+    /// </summary>
+    private static string[] InsideFlags(List<ForecastUpdate<string>> ordered)
+    {
+        var flags = new string[ordered.Count];
+        for (int i = 0; i < ordered.Count; i++)
+        {
+            ForecastUpdate<string> u = ordered[i];
+            flags[i] = string.Empty;
+            for (int j = i - 1; j >= 0 && ordered[j].Key == u.Key && ordered[j].Period >= u.Period - 1; j--)
+            {
+                if (ordered[j].Period == u.Period - 1)
+                {
+                    ForecastPoint p = ordered[j].Next;
+                    if (double.IsFinite(p.Lower) && double.IsFinite(p.Upper) && double.IsFinite(u.Actual))
+                    {
+                        flags[i] = u.Actual >= p.Lower && u.Actual <= p.Upper ? "1" : "0";
+                    }
+
+                    break; // the latest update of the period before: the rows are in period order, restatements after
+                }
+            }
+        }
+
+        return flags;
     }
 
     private static string KindOf(ForecastPoint point) => point.Kind == Tracking.IntervalKind.Empirical ? "empirical" : "normal";
@@ -123,9 +172,22 @@ internal static class ReplayCommand
         var raised = result.Alerts.Where(a => a.Transition.Kind == DriftTransitionKind.Raised).GroupBy(a => a.Key, StringComparer.Ordinal)
             .ToDictionary(g => g.Key, g => g.Count(), StringComparer.Ordinal);
         double nominal = result.Forecasts.Count > 0 ? result.Forecasts[0].Next.Coverage : double.NaN;
-        var table = new Table().Title($"Series after the last period ({Output.F(100 * nominal, "0.#")}% interval); forecasts and alerts are advisory");
-        table.AddColumns("Series", "Method", "Periods", "Last period", "Actual", "Next", "Interval", "MAD", "Tracking signal", "Alerts raised");
-        var coverage = new Table().Title("Next-period interval coverage: each actual against the interval published the period before");
+        // At 80 columns ten columns collapse into slivers: a narrow console gets the same cells as two tables.
+        bool narrow = Output.IsNarrow;
+        string title = $"Series after the last period ({Output.F(100 * nominal, "0.#")}% interval); forecasts and alerts are advisory";
+        var table = Output.NewTable(title);
+        var errors = Output.NewTable("Method, error statistics and alerts per series");
+        if (narrow)
+        {
+            table.AddColumns("Series", "Periods", "Last period", "Actual", "Next", "Interval");
+            errors.AddColumns("Series", "Method", "MAD", "Tracking signal", "Alerts raised");
+        }
+        else
+        {
+            table.AddColumns("Series", "Method", "Periods", "Last period", "Actual", "Next", "Interval", "MAD", "Tracking signal", "Alerts raised");
+        }
+
+        var coverage = Output.NewTable("Next-period interval coverage: each actual against the interval published the period before");
         coverage.AddColumns("Series", "Interval kind now", "Actuals inside");
         long allInside = 0, allScored = 0;
         foreach (var group in result.Forecasts.GroupBy(f => f.Key, StringComparer.Ordinal).OrderBy(g => g.Key, StringComparer.Ordinal))
@@ -134,15 +196,30 @@ internal static class ReplayCommand
             (long inside, long scored) = Covered(group);
             allInside += inside;
             allScored += scored;
-            table.AddRow(
-                Markup.Escape(group.Key), Markup.Escape(last.Method), group.Select(f => f.Period).Distinct().Count().ToString("N0", CultureInfo.InvariantCulture),
-                format.Time(last.PeriodStart)[..16].Replace('T', ' '), Output.F(last.Actual), Output.F(last.Next.Value),
-                $"{Output.F(last.Next.Lower)} – {Output.F(last.Next.Upper)}", Output.F(last.Errors.Mad), Output.F(last.Errors.TrackingSignal),
-                raised.GetValueOrDefault(group.Key).ToString(CultureInfo.InvariantCulture));
-            coverage.AddRow(Markup.Escape(group.Key), KindOf(last.Next), CoverageText(inside, scored));
+            string key = Markup.Escape(group.Key), method = Markup.Escape(last.Method);
+            string periods = group.Select(f => f.Period).Distinct().Count().ToString("N0", CultureInfo.InvariantCulture);
+            string lastPeriod = format.Time(last.PeriodStart)[..16].Replace('T', ' ');
+            string interval = $"{Output.F(last.Next.Lower)} – {Output.F(last.Next.Upper)}";
+            string alerts = raised.GetValueOrDefault(group.Key).ToString(CultureInfo.InvariantCulture);
+            if (narrow)
+            {
+                table.AddRow(key, periods, lastPeriod, Output.F(last.Actual), Output.F(last.Next.Value), interval);
+                errors.AddRow(key, method, Output.F(last.Errors.Mad), Output.F(last.Errors.TrackingSignal), alerts);
+            }
+            else
+            {
+                table.AddRow(key, method, periods, lastPeriod, Output.F(last.Actual), Output.F(last.Next.Value), interval, Output.F(last.Errors.Mad), Output.F(last.Errors.TrackingSignal), alerts);
+            }
+
+            coverage.AddRow(key, KindOf(last.Next), CoverageText(inside, scored));
         }
 
         AnsiConsole.Write(table);
+        if (narrow)
+        {
+            AnsiConsole.Write(errors);
+        }
+
         AnsiConsole.Write(coverage);
         AnsiConsole.MarkupLine("Next-period intervals: {0} actuals inside the interval published the period before (nominal {1}%).",
             CoverageText(allInside, allScored), Output.F(100 * nominal, "0.#"));

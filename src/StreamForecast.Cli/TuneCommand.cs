@@ -94,8 +94,17 @@ internal static class TuneCommand
 
     private static void Print(string key, TuningResult result, int top, int periods)
     {
-        var table = new Table().Title($"{Markup.Escape(key)}: {Output.Count(periods, "period")}, fitted on {result.FirstOrigin}, demand class {result.Demand.Class}");
-        table.AddColumns("Rank", "Method", "Score", "MAD (h=1)", "RMSE (h=1)", "MASE (h=1)", "Bias (h=1)", "Covered, 80% normal (h=1)");
+        string title = $"{Markup.Escape(key)}: {Output.Count(periods, "period")}, fitted on {result.FirstOrigin}, demand class {result.Demand.Class}";
+        var table = Output.NewTable(Output.IsNarrow ? title + "; one step ahead (h=1), covered by an 80% normal interval" : title);
+        if (Output.IsNarrow)
+        {
+            table.AddColumns("Rank", "Method", "Score", "MAD", "RMSE", "MASE", "Bias", "Covered");
+        }
+        else
+        {
+            table.AddColumns("Rank", "Method", "Score", "MAD (h=1)", "RMSE (h=1)", "MASE (h=1)", "Bias (h=1)", "Covered, 80% normal (h=1)");
+        }
+
         int rank = 0;
         foreach (CandidateEvaluation candidate in result.Ranking.Take(top))
         {

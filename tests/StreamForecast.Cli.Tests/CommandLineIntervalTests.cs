@@ -16,7 +16,7 @@ public sealed class CommandLineIntervalTests : IDisposable
         _tool.Write("sales.csv", ToolRunner.SalesCsv(days: 60));
         // A method label without a comma keeps the plain Split(',') below valid.
 
-        ToolResult result = _tool.Run(["replay", "sales.csv", .. s_keyColumns, "--method", "ses:0.5", "--intervals", "empirical", "--non-negative"]);
+        ToolResult result = _tool.Run(["replay", "sales.csv", .. s_keyColumns, "--method", "ses:0.5", "--intervals", "empirical", "--non-negative", "--horizon", "2"]);
 
         Assert.True(result.ExitCode == 0, result.ToString());
         Assert.Contains("Next-period intervals:", result.Output, StringComparison.Ordinal);

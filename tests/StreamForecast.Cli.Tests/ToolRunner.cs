@@ -47,7 +47,10 @@ public sealed class ToolRunner : IDisposable
         return path;
     }
 
-    public ToolResult Run(params string[] args)
+    public ToolResult Run(params string[] args) => RunWith(new Dictionary<string, string>(), args);
+
+    /// <summary>Runs the tool with extra environment variables (such as COLUMNS=80).</summary>
+    public ToolResult RunWith(IReadOnlyDictionary<string, string> environment, params string[] args)
     {
         var start = new ProcessStartInfo("dotnet")
         {
@@ -58,6 +61,12 @@ public sealed class ToolRunner : IDisposable
             StandardOutputEncoding = Encoding.UTF8,
             StandardErrorEncoding = Encoding.UTF8,
         };
+        start.Environment.Remove("COLUMNS"); // the tool's width when redirected: 200 unless a test sets it
+        foreach (var (name, value) in environment)
+        {
+            start.Environment[name] = value;
+        }
+
         start.ArgumentList.Add(ToolPath);
         foreach (string arg in args)
         {
