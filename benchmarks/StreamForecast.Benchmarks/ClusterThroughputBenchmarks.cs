@@ -2,6 +2,7 @@ using BenchmarkDotNet.Attributes;
 using Orleans.TestingHost;
 using StreamForecast.Orleans;
 using StreamForecast.Orleans.PostgreSql;
+using StreamForecast.PostgreSql.Tests;
 using StreamForecast.Streaming;
 
 namespace StreamForecast.Benchmarks;
@@ -33,7 +34,7 @@ public class ClusterThroughputBenchmarks
     private InProcessTestCluster? _silos;
     private ForecastClusterClient<string>? _client;
     private string _directory = "";
-    private ThrowawayPostgreSqlServer? _postgres;
+    private ThrowawayPostgreSql? _postgres;
 
     /// <summary>Observations per post: 1,000 (about 42 per bucket call) or 4,000 (about 167); a bucket stores once per call.</summary>
     [ParamsSource(nameof(Batches))]
@@ -66,7 +67,7 @@ public class ClusterThroughputBenchmarks
     [GlobalSetup(Target = nameof(ThreeSiloClusterPostgreSql))]
     public void SetupClusterPostgreSql()
     {
-        _postgres = ThrowawayPostgreSqlServer.Start(maxPoolSize: 30);
+        _postgres = ThrowawayPostgreSql.StartAsync("sf-bench-pg-").GetAwaiter().GetResult();
         try
         {
             StartCluster(Storage.PostgreSql);
@@ -106,7 +107,7 @@ public class ClusterThroughputBenchmarks
                     silo.AddSqliteCheckpointGrainStorage(path);
                     break;
                 case Storage.PostgreSql:
-                    silo.AddPostgreSqlCheckpointGrainStorage(_postgres!.ConnectionString);
+                    silo.AddPostgreSqlCheckpointGrainStorage(_postgres!.ConnectionString(maxPoolSize: 30));
                     break;
                 default:
                     silo.AddMemoryGrainStorage(ForecastClusterOptions.StorageName);
@@ -135,7 +136,7 @@ public class ClusterThroughputBenchmarks
             Directory.Delete(_directory, recursive: true);
         }
 
-        _postgres?.Dispose();
+        _postgres?.DisposeAsync().AsTask().GetAwaiter().GetResult();
         _postgres = null;
     }
 

@@ -4,6 +4,7 @@ using System.Security.Cryptography;
 using System.Text;
 using Npgsql;
 using NpgsqlTypes;
+using StreamForecast.Shared;
 using StreamForecast.Streaming;
 
 namespace StreamForecast.PostgreSql;
@@ -107,7 +108,6 @@ public sealed partial class PostgreSqlCheckpointStore : IConditionalCheckpointSt
     public PostgreSqlCheckpointStoreOptions Options => _options;
 
     /// <inheritdoc/>
-    /// <exception cref="ArgumentOutOfRangeException"><paramref name="inputPosition"/> is negative.</exception>
     /// <exception cref="ArgumentException">The snapshot is empty or longer than <see cref="PostgreSqlCheckpointStoreOptions.MaxSnapshotLength"/>.</exception>
     /// <exception cref="InvalidDataException">The schema is not a checkpoint schema this version can use.</exception>
     /// <exception cref="NpgsqlException">The server could not be reached or refused the statements (no privilege, disk full...); no checkpoint was added.</exception>
@@ -119,14 +119,12 @@ public sealed partial class PostgreSqlCheckpointStore : IConditionalCheckpointSt
     /// </remarks>
     public async ValueTask SaveAsync(ReadOnlyMemory<byte> snapshot, long inputPosition, CancellationToken cancellationToken = default)
     {
-        ArgumentOutOfRangeException.ThrowIfNegative(inputPosition);
-        ValidateSnapshot(snapshot);
+        CheckpointSaveArguments.Check(snapshot, inputPosition, null, _options.MaxSnapshotLength, "PostgreSqlCheckpointStoreOptions.MaxSnapshotLength");
         bool saved = await SaveCoreAsync(snapshot, inputPosition, conditional: false, expectedLatestPosition: null, cancellationToken).ConfigureAwait(false);
         System.Diagnostics.Debug.Assert(saved, "An unconditional save always stores its checkpoint.");
     }
 
     /// <inheritdoc/>
-    /// <exception cref="ArgumentOutOfRangeException"><paramref name="inputPosition"/> or <paramref name="expectedLatestPosition"/> is negative.</exception>
     /// <exception cref="ArgumentException">The snapshot is empty or longer than <see cref="PostgreSqlCheckpointStoreOptions.MaxSnapshotLength"/>.</exception>
     /// <exception cref="InvalidDataException">The schema is not a checkpoint schema this version can use.</exception>
     /// <exception cref="NpgsqlException">The server could not be reached or refused the statements; no checkpoint was added.</exception>
@@ -142,13 +140,7 @@ public sealed partial class PostgreSqlCheckpointStore : IConditionalCheckpointSt
     /// </remarks>
     public async ValueTask<bool> TrySaveAsync(ReadOnlyMemory<byte> snapshot, long inputPosition, long? expectedLatestPosition, CancellationToken cancellationToken = default)
     {
-        ArgumentOutOfRangeException.ThrowIfNegative(inputPosition);
-        if (expectedLatestPosition is long expected)
-        {
-            ArgumentOutOfRangeException.ThrowIfNegative(expected, nameof(expectedLatestPosition));
-        }
-
-        ValidateSnapshot(snapshot);
+        CheckpointSaveArguments.Check(snapshot, inputPosition, expectedLatestPosition, _options.MaxSnapshotLength, "PostgreSqlCheckpointStoreOptions.MaxSnapshotLength");
         return await SaveCoreAsync(snapshot, inputPosition, conditional: true, expectedLatestPosition, cancellationToken).ConfigureAwait(false);
     }
 
@@ -230,16 +222,6 @@ public sealed partial class PostgreSqlCheckpointStore : IConditionalCheckpointSt
     {
         ArgumentException.ThrowIfNullOrWhiteSpace(connectionString);
         return NpgsqlDataSource.Create(connectionString);
-    }
-
-    private void ValidateSnapshot(ReadOnlyMemory<byte> snapshot)
-    {
-        if (snapshot.IsEmpty || snapshot.Length > _options.MaxSnapshotLength)
-        {
-            throw new ArgumentException(
-                string.Create(CultureInfo.InvariantCulture, $"The snapshot is {snapshot.Length} bytes; a checkpoint holds 1 to {_options.MaxSnapshotLength} bytes (PostgreSqlCheckpointStoreOptions.MaxSnapshotLength)."),
-                nameof(snapshot));
-        }
     }
 
     private async ValueTask<bool> SaveCoreAsync(ReadOnlyMemory<byte> snapshot, long inputPosition, bool conditional, long? expectedLatestPosition, CancellationToken cancellationToken)

@@ -1,5 +1,8 @@
 using StreamForecast.Alerts;
+using StreamForecast.Forecasting;
+using StreamForecast.Periods;
 using StreamForecast.Selection.Internal;
+using StreamForecast.Streaming;
 using StreamForecast.Tracking;
 
 namespace StreamForecast.Selection;
@@ -13,6 +16,10 @@ namespace StreamForecast.Selection;
 /// <see cref="FirstOrigin"/> to n − 1, and at each origin forecasts y(t+h) for h = 1 … <see cref="Horizon"/> (as far as
 /// the history reaches). Horizon h is therefore scored over the n − <see cref="FirstOrigin"/> − h + 1 origins that have an
 /// actual h periods later.</para>
+/// <para><b>Gaps.</b> A NaN in a history marks a period with no observation; <see cref="Gaps"/> decides what it means,
+/// exactly as <see cref="SeriesOptions.Gaps"/> does for the engine (every candidate runs the engine's own per-period step,
+/// <see cref="SeriesStep{TKey}"/>). Origins and horizons then count the periods the step published a forecast for: a
+/// period skipped as <see cref="GapPolicy.Missing"/> is neither an origin nor a target.</para>
 /// <para>Immutable and safe to share across threads. Validated at construction.</para>
 /// </remarks>
 public sealed record BacktestOptions
@@ -57,6 +64,10 @@ public sealed record BacktestOptions
     /// Whether forecasts and interval bounds are clipped at zero before scoring, as
     /// <see cref="Streaming.SeriesOptions.NonNegative"/> (default false).
     /// </param>
+    /// <param name="gaps">
+    /// What a NaN (a period with no observation) in a history means, as <see cref="SeriesOptions.Gaps"/>; default
+    /// <see cref="GapPolicy.Zero"/>, the engine's default. Irrelevant for histories without NaN.
+    /// </param>
     /// <exception cref="ArgumentOutOfRangeException">A number is outside its stated range.</exception>
     public BacktestOptions(
         int firstOrigin,
@@ -68,7 +79,8 @@ public sealed record BacktestOptions
         int? maxDegreeOfParallelism = null,
         double intervalMultiplier = NormalMultiplier.Coverage80,
         EmpiricalIntervalOptions? empiricalIntervals = null,
-        bool nonNegative = false)
+        bool nonNegative = false,
+        GapPolicy gaps = GapPolicy.Zero)
     {
         if (firstOrigin < 1)
         {
@@ -100,6 +112,11 @@ public sealed record BacktestOptions
             SelectionThrowHelper.ThrowOutOfRange(nameof(intervalMultiplier), intervalMultiplier, "the interval multiplier z must be above 0 and at most 10 (1.2816 for 80%, 1.96 for 95%)");
         }
 
+        if (gaps is not (GapPolicy.Zero or GapPolicy.Missing or GapPolicy.CarryForward))
+        {
+            SelectionThrowHelper.ThrowOutOfRange(nameof(gaps), gaps, "the gap policy must be Zero, Missing or CarryForward");
+        }
+
         SelectionThrowHelper.ResolveParallelism(maxDegreeOfParallelism, nameof(maxDegreeOfParallelism));
         FirstOrigin = firstOrigin;
         Horizon = horizon;
@@ -111,8 +128,15 @@ public sealed record BacktestOptions
         IntervalMultiplier = intervalMultiplier;
         EmpiricalIntervals = empiricalIntervals;
         NonNegative = nonNegative;
-        Intervals = new IntervalSettings(intervalMultiplier, empiricalIntervals, horizon, nonNegative);
+        Gaps = gaps;
+        IntervalCoverage = SeriesFor(new NaiveOptions()).IntervalCoverage;
+
+        // The MASE scale runs the same step (so gaps are resolved as for the candidates) with a tracker of season m.
+        NaiveScaleSeries = new SeriesOptions(new NaiveOptions(), s_periods, gaps: gaps, tracking: new ErrorTrackerOptions(seasonLength: seasonLength));
     }
+
+    /// <summary>The calendar the backtest's steps number their periods in (1, 2, … for the history's values).</summary>
+    private static readonly PeriodCalendar s_periods = PeriodCalendar.FixedInterval(TimeSpan.FromDays(1));
 
     /// <summary>The normal multiplier z of the scored intervals (unused with empirical intervals but for their warm-up).</summary>
     public double IntervalMultiplier { get; }
@@ -124,10 +148,13 @@ public sealed record BacktestOptions
     public bool NonNegative { get; }
 
     /// <summary>The nominal coverage of the scored intervals (see <see cref="Streaming.SeriesOptions.IntervalCoverage"/>).</summary>
-    public double IntervalCoverage => Intervals.Coverage;
+    public double IntervalCoverage { get; }
 
-    /// <summary>The interval settings, resolved once.</summary>
-    internal IntervalSettings Intervals { get; }
+    /// <summary>What a NaN (a period with no observation) in a history means.</summary>
+    public GapPolicy Gaps { get; }
+
+    /// <summary>The series options of the step that computes the MASE scale of a history.</summary>
+    internal SeriesOptions NaiveScaleSeries { get; }
 
     /// <summary>The number of actuals seen at the first origin.</summary>
     public int FirstOrigin { get; }
@@ -149,4 +176,11 @@ public sealed record BacktestOptions
 
     /// <summary>The most keys evaluated at once; null for one worker per core.</summary>
     public int? MaxDegreeOfParallelism { get; }
+
+    /// <summary>The series options the engine would run <paramref name="method"/> with under these settings (no drift rules).</summary>
+    /// <param name="method">The candidate method.</param>
+    /// <returns>Fresh options; O(1).</returns>
+    internal SeriesOptions SeriesFor(ForecasterOptions method) =>
+        new(method, s_periods, gaps: Gaps, tracking: Tracking, horizon: Horizon, intervalMultiplier: IntervalMultiplier,
+            empiricalIntervals: EmpiricalIntervals, nonNegative: NonNegative);
 }

@@ -8,62 +8,77 @@ using StreamForecast.Tracking;
 namespace StreamForecast.Selection;
 
 /// <summary>
-/// Rolling-origin backtests of candidate forecasting methods over a series' history, running the library's own
-/// operators (<see cref="TrackedForecaster"/>, <see cref="Forecaster"/>, <see cref="ErrorTracker"/>): the numbers are
-/// the ones the same methods would have produced live.
+/// Rolling-origin backtests of candidate forecasting methods over a series' history, running the engine's own per-period
+/// step (<see cref="SeriesStep{TKey}"/>: gap policy, method, error tracking, intervals): the forecasts scored are the ones
+/// the engine would have published for the same period totals.
 /// </summary>
 /// <remarks>
-/// <para><b>Method.</b> For each candidate one forecaster is stepped through the history once, exactly as live: after
-/// actual t it is the forecaster "fed y₁ … y_t", and for every origin t ≥ <see cref="BacktestOptions.FirstOrigin"/> its
-/// forecasts for h = 1 … H are read and held until the actual of period t + h arrives, which is then scored by the
-/// horizon's <see cref="ErrorTracker"/> (a forecast is always scored against the period it was made for). The one-step
-/// forecasts also pass through a <see cref="TrackedForecaster"/> so that the tracking-signal behaviour is the live one.
-/// Nothing is re-fitted per origin: a method's parameters are fixed by its options and its state only ever moves
-/// forward, which is what re-feeding a fresh forecaster at each origin would give, at O(n·H) instead of O(n²·H).</para>
-/// <para><b>Intervals.</b> Each held forecast keeps the interval the live step would publish with it (normal from the
-/// one-step tracker's σ, or empirical from the horizon's own window of scored errors, as <see cref="BacktestOptions"/>
-/// says); <see cref="HorizonAccuracy.Coverage"/> is the fraction of scored actuals inside their interval: out of sample,
-/// since every interval is fixed at its origin.</para>
-/// <para><b>Cost.</b> O(n·H) per candidate (plus the forecaster's own update cost), with O(H²) numbers held; empirical
-/// intervals add O(n·H·w) for windows of w errors and 16·H·w bytes.
-/// <see cref="RunMany{TKey}"/> runs keys in parallel on up to <see cref="BacktestOptions.MaxDegreeOfParallelism"/>
-/// workers; candidates of one key run in order on one worker.</para>
-/// <para><b>Bad input.</b> A history with a NaN or infinite value is rejected with
-/// <see cref="ArgumentOutOfRangeException"/>. An actual that a candidate's method rejects (for example a negative
-/// demand for Croston's method) ends that candidate's run: it is reported with <see cref="CandidateEvaluation.Failure"/>
-/// and ranked last, and the other candidates are unaffected.</para>
+/// <para><b>Method.</b> For each candidate one step runs through the history once, exactly as the engine: after period t
+/// its model is the one "fed y₁ … y_t" (as the gap policy resolved them), and for every origin t ≥
+/// <see cref="BacktestOptions.FirstOrigin"/> its forecasts for h = 1 … H (<see cref="SeriesStep{TKey}.GetForecast"/>: the
+/// engine's <see cref="ForecastUpdate{TKey}.Next"/> for h = 1 and <see cref="ForecastUpdate{TKey}.AtHorizon"/> for h = H)
+/// are held until the actual they were made for arrives, which is then scored by the horizon's <see cref="ErrorTracker"/>
+/// (a forecast is always scored against the period it was made for). Nothing is re-fitted per origin: a method's
+/// parameters are fixed by its options and its state only ever moves forward, which is what re-feeding a fresh
+/// forecaster at each origin would give, at O(n·H) instead of O(n²·H).</para>
+/// <para><b>Gaps.</b> NaN in a history marks a period with no observation, resolved by <see cref="BacktestOptions.Gaps"/>
+/// as the engine resolves it: a zero that is scored, a period skipped (neither an origin nor a target; horizons count
+/// the periods the step published), or the last actual carried into the model without being scored (an origin, not a
+/// target).</para>
+/// <para><b>Intervals and signals.</b> Each held forecast keeps the interval the engine publishes with it (normal from the
+/// one-step tracker's σ, or empirical from the horizon's window of errors, as <see cref="BacktestOptions"/> says);
+/// <see cref="HorizonAccuracy.Coverage"/> is the fraction of scored actuals inside their interval, each interval fixed at
+/// its origin. As in the engine, the one-step error tracker scores every period from the first one the method is warm
+/// for, the warm-up before the first origin included, so σ, the empirical windows and the tracking signals of
+/// <see cref="CandidateEvaluation.Signals"/> carry those in-sample errors too; the per-horizon accuracy counts only the
+/// forecasts made at origins.</para>
+/// <para><b>Cost.</b> The step's cost per period (the method's update plus O(1)) and O(H) per origin, with O(H²) numbers
+/// held; empirical intervals add O(n·H·w) for windows of w errors and 16·H·w bytes; one more step over the history
+/// computes the MASE scale. <see cref="RunMany{TKey}"/> runs keys in parallel on up to
+/// <see cref="BacktestOptions.MaxDegreeOfParallelism"/> workers; candidates of one key run in order on one worker.</para>
+/// <para><b>Bad input.</b> A history with an infinite value or one outside <see cref="NumericDomain"/> is rejected with
+/// <see cref="ArgumentOutOfRangeException"/> before anything runs. An actual that a candidate's method rejects (for
+/// example a negative demand for Croston's method; the engine reports it as a <see cref="SeriesFaultKind.ActualRejected"/>
+/// fault) ends that candidate's run: it is reported with <see cref="CandidateEvaluation.Failure"/> and ranked last, and the
+/// other candidates are unaffected.</para>
 /// <para><b>Thread safety.</b> All members are static and thread-safe; inputs are only read.</para>
 /// </remarks>
 public static class Backtester
 {
     /// <summary>Backtests one candidate on one history.</summary>
-    /// <param name="series">The history y₁ … yₙ, oldest first; every value finite.</param>
+    /// <param name="series">
+    /// The history y₁ … yₙ, oldest first; NaN marks a period with no observation (a gap, see <see cref="BacktestOptions.Gaps"/>),
+    /// every other value inside <see cref="NumericDomain"/>.
+    /// </param>
     /// <param name="candidate">The method to evaluate.</param>
     /// <param name="options">The backtest settings.</param>
     /// <returns>The evaluation (its <see cref="CandidateEvaluation.CandidateIndex"/> is 0).</returns>
     /// <exception cref="ArgumentNullException"><paramref name="candidate"/> or <paramref name="options"/> is null.</exception>
-    /// <exception cref="ArgumentOutOfRangeException">A value of <paramref name="series"/> is NaN or infinite.</exception>
+    /// <exception cref="ArgumentOutOfRangeException">A value of <paramref name="series"/> is infinite or outside <see cref="NumericDomain"/>; nothing was run.</exception>
     public static CandidateEvaluation Evaluate(ReadOnlySpan<double> series, ForecasterOptions candidate, BacktestOptions options)
     {
         ArgumentNullException.ThrowIfNull(candidate);
         ArgumentNullException.ThrowIfNull(options);
-        SelectionThrowHelper.CheckFinite(series, nameof(series));
-        return EvaluateChecked(series, 0, candidate, options, NaiveScaleOf(series, options.SeasonLength));
+        CheckTotals(series, nameof(series), "value");
+        return CandidateRun.Evaluate(series, 0, candidate, options, NaiveScaleOf(series, options));
     }
 
     /// <summary>Backtests a list of candidates on one history and ranks them.</summary>
-    /// <param name="series">The history y₁ … yₙ, oldest first; every value finite.</param>
+    /// <param name="series">
+    /// The history y₁ … yₙ, oldest first; NaN marks a period with no observation (a gap, see <see cref="BacktestOptions.Gaps"/>),
+    /// every other value inside <see cref="NumericDomain"/>.
+    /// </param>
     /// <param name="candidates">The methods to evaluate, at least one; the order breaks ties in the ranking.</param>
     /// <param name="options">The backtest settings.</param>
     /// <returns>The report with every evaluation and the ranking.</returns>
     /// <exception cref="ArgumentNullException"><paramref name="candidates"/>, one of them, or <paramref name="options"/> is null.</exception>
     /// <exception cref="ArgumentException"><paramref name="candidates"/> is empty.</exception>
-    /// <exception cref="ArgumentOutOfRangeException">A value of <paramref name="series"/> is NaN or infinite.</exception>
+    /// <exception cref="ArgumentOutOfRangeException">A value of <paramref name="series"/> is infinite or outside <see cref="NumericDomain"/>; nothing was run.</exception>
     public static BacktestReport Run(ReadOnlySpan<double> series, IReadOnlyList<ForecasterOptions> candidates, BacktestOptions options)
     {
         CheckCandidates(candidates);
         ArgumentNullException.ThrowIfNull(options);
-        SelectionThrowHelper.CheckFinite(series, nameof(series));
+        CheckTotals(series, nameof(series), "value");
         return RunChecked(series, candidates, options);
     }
 
@@ -72,14 +87,14 @@ public static class Backtester
     /// order the keys were given.
     /// </summary>
     /// <typeparam name="TKey">The series key.</typeparam>
-    /// <param name="histories">The histories by key; each history oldest first, every value finite.</param>
+    /// <param name="histories">The histories by key; each history oldest first, NaN for a gap, every other value inside <see cref="NumericDomain"/>.</param>
     /// <param name="candidates">The methods to evaluate, at least one.</param>
     /// <param name="options">The backtest settings, including the degree of parallelism.</param>
     /// <param name="cancellationToken">Stops the run between keys.</param>
     /// <returns>One report per key, in input order; identical whatever the degree of parallelism or scheduling.</returns>
     /// <exception cref="ArgumentNullException">An argument, a history or a candidate is null.</exception>
     /// <exception cref="ArgumentException"><paramref name="candidates"/> is empty.</exception>
-    /// <exception cref="ArgumentOutOfRangeException">A history has a NaN or infinite value (the message names its position); nothing is run.</exception>
+    /// <exception cref="ArgumentOutOfRangeException">A history has an infinite value or one outside <see cref="NumericDomain"/> (the message names its position); nothing is run.</exception>
     /// <exception cref="OperationCanceledException"><paramref name="cancellationToken"/> was cancelled.</exception>
     public static ImmutableArray<KeyValuePair<TKey, BacktestReport>> RunMany<TKey>(
         IReadOnlyList<KeyValuePair<TKey, double[]>> histories,
@@ -90,7 +105,7 @@ public static class Backtester
         ArgumentNullException.ThrowIfNull(histories);
         CheckCandidates(candidates);
         ArgumentNullException.ThrowIfNull(options);
-        CheckHistories(histories, nameof(histories));
+        CheckHistories(histories, nameof(histories), gapsAllowed: true);
         var frozen = candidates.ToImmutableArray();
         int degree = SelectionThrowHelper.ResolveParallelism(options.MaxDegreeOfParallelism, nameof(options));
         BacktestReport[] reports = KeyedParallel.Run(histories, pair => RunChecked(pair.Value, frozen, options), degree, cancellationToken);
@@ -103,7 +118,6 @@ public static class Backtester
         return builder.MoveToImmutable();
     }
 
-    /// <summary>Checks every history of a keyed list: not null, every value finite.</summary>
     /// <summary>
     /// Runs the engine's own per-period step (<see cref="SeriesStep{TKey}"/>) over a history of period totals and sends
     /// every output to <paramref name="sink"/>: the forecast updates, drift-alert transitions and faults the keyed
@@ -150,15 +164,7 @@ public static class Backtester
     {
         ArgumentNullException.ThrowIfNull(options);
         ArgumentNullException.ThrowIfNull(sink);
-        for (int t = 0; t < periodTotals.Length; t++)
-        {
-            double total = periodTotals[t];
-            if (!double.IsNaN(total) && !NumericDomain.Contains(total))
-            {
-                SelectionThrowHelper.ThrowOutOfRange(nameof(periodTotals), total, string.Create(CultureInfo.InvariantCulture,
-                    $"total {t} (counting from 0) must be NaN for a gap or a finite number of magnitude at most 1e15 (NumericDomain.MaxMagnitude)"));
-            }
-        }
+        CheckTotals(periodTotals, nameof(periodTotals), "total");
 
         var step = new SeriesStep<TKey>(key, options, events);
         for (int t = 0; t < periodTotals.Length; t++)
@@ -171,7 +177,11 @@ public static class Backtester
         return step;
     }
 
-    internal static void CheckHistories<TKey>(IReadOnlyList<KeyValuePair<TKey, double[]>> histories, string paramName)
+    /// <summary>
+    /// Checks every history of a keyed list: not null, and every value finite (the tuner) or, with
+    /// <paramref name="gapsAllowed"/>, NaN for a gap or inside <see cref="NumericDomain"/> (the backtest).
+    /// </summary>
+    internal static void CheckHistories<TKey>(IReadOnlyList<KeyValuePair<TKey, double[]>> histories, string paramName, bool gapsAllowed = false)
     {
         for (int i = 0; i < histories.Count; i++)
         {
@@ -183,10 +193,13 @@ public static class Backtester
 
             for (int t = 0; t < history.Length; t++)
             {
-                if (!double.IsFinite(history[t]))
+                if (gapsAllowed ? !IsTotal(history[t]) : !double.IsFinite(history[t]))
                 {
+                    string allowed = gapsAllowed
+                        ? "must be NaN for a gap or a finite number of magnitude at most 1e15 (NumericDomain.MaxMagnitude)"
+                        : "is not finite; every actual must be a finite number";
                     SelectionThrowHelper.ThrowOutOfRange(paramName, history[t], string.Create(CultureInfo.InvariantCulture,
-                        $"value {t} of the history of key {i} (counting from 0), {histories[i].Key}, is not finite; every actual must be a finite number"));
+                        $"value {t} of the history of key {i} (counting from 0), {histories[i].Key}, {allowed}"));
                 }
             }
         }
@@ -195,26 +208,47 @@ public static class Backtester
     /// <summary>Runs a checked history through checked candidates.</summary>
     internal static BacktestReport RunChecked(ReadOnlySpan<double> series, IReadOnlyList<ForecasterOptions> candidates, BacktestOptions options)
     {
-        double scale = NaiveScaleOf(series, options.SeasonLength);
+        double scale = NaiveScaleOf(series, options);
         var evaluations = ImmutableArray.CreateBuilder<CandidateEvaluation>(candidates.Count);
         for (int i = 0; i < candidates.Count; i++)
         {
-            evaluations.Add(EvaluateChecked(series, i, candidates[i], options, scale));
+            evaluations.Add(CandidateRun.Evaluate(series, i, candidates[i], options, scale));
         }
 
         return new BacktestReport(options, series.Length, scale, evaluations.MoveToImmutable());
     }
 
-    /// <summary>The in-sample seasonal-naive MAE over the whole history, computed by the library's error tracker.</summary>
-    internal static double NaiveScaleOf(ReadOnlySpan<double> series, int seasonLength)
+    /// <summary>
+    /// The in-sample seasonal-naive MAE over the whole history, computed by the error tracker of the engine's step (so a
+    /// gap counts as the gap policy resolves it: a zero, nothing, or the last actual repeated).
+    /// </summary>
+    internal static double NaiveScaleOf(ReadOnlySpan<double> series, BacktestOptions options)
     {
-        ErrorTracker naive = new ErrorTrackerOptions(seasonLength: seasonLength).CreateTracker();
-        foreach (double y in series)
+        var step = new SeriesStep<int>(0, options.NaiveScaleSeries);
+        for (int t = 0; t < series.Length; t++)
         {
-            naive.RecordUnscored(y);
+            double total = series[t];
+            bool has = !double.IsNaN(total);
+            step.Close(t + 1, has, has ? total : 0, NoOutputs.Instance);
         }
 
-        return naive.NaiveScale;
+        return step.Model.Tracker.NaiveScale;
+    }
+
+    /// <summary>Whether a value is a period total the step takes: NaN (a gap) or inside <see cref="NumericDomain"/>.</summary>
+    private static bool IsTotal(double value) => double.IsNaN(value) || NumericDomain.Contains(value);
+
+    /// <summary>Checks a history of period totals before anything runs; <paramref name="noun"/> names a value in the message.</summary>
+    private static void CheckTotals(ReadOnlySpan<double> totals, string paramName, string noun)
+    {
+        for (int t = 0; t < totals.Length; t++)
+        {
+            if (!IsTotal(totals[t]))
+            {
+                SelectionThrowHelper.ThrowOutOfRange(paramName, totals[t], string.Create(CultureInfo.InvariantCulture,
+                    $"{noun} {t} (counting from 0) must be NaN for a gap or a finite number of magnitude at most 1e15 (NumericDomain.MaxMagnitude)"));
+            }
+        }
     }
 
     private static void CheckCandidates(IReadOnlyList<ForecasterOptions> candidates)
@@ -234,139 +268,21 @@ public static class Backtester
         }
     }
 
-    private static CandidateEvaluation EvaluateChecked(ReadOnlySpan<double> series, int index, ForecasterOptions candidate, BacktestOptions options, double naiveScale)
+    /// <summary>A sink for a step whose outputs are not needed (the MASE scale's).</summary>
+    private sealed class NoOutputs : ISeriesSink<int>
     {
-        int n = series.Length;
-        int horizon = options.Horizon;
-        int firstOrigin = options.FirstOrigin;
-        IntervalSettings intervals = options.Intervals;
-        EmpiricalIntervalOptions? empirical = intervals.Empirical;
-        var model = new TrackedForecaster(candidate, options.Tracking, new IntervalSettings(intervals.Multiplier, null, 1, intervals.NonNegative));
-        var trackers = new ErrorTracker[horizon];
-        var windows = empirical is null ? null : new ErrorQuantileWindow[horizon];
-        for (int h = 0; h < horizon; h++)
+        public static readonly NoOutputs Instance = new();
+
+        public void Forecast(in ForecastUpdate<int> update)
         {
-            trackers[h] = ErrorTrackerOptions.Default.CreateTracker();
-            if (windows is not null)
-            {
-                windows[h] = new ErrorQuantileWindow(empirical!.Window);
-            }
         }
 
-        // pending[(origin mod H)·H + h − 1] holds the forecast made at the origin for h periods ahead (NaN: not warm), and
-        // lowers/uppers its interval as it would have been published (NaN bounds: no σ yet), empiricalAt whether it was empirical.
-        var pending = new double[horizon * horizon];
-        var lowers = new double[horizon * horizon];
-        var uppers = new double[horizon * horizon];
-        var empiricalAt = new bool[horizon * horizon];
-        var unscored = new long[horizon];
-        var withInterval = new long[horizon];
-        var inside = new long[horizon];
-        var empiricalCount = new long[horizon];
-        long signalPeriods = 0;
-        double maxTracking = double.NaN;
-        double maxTrigg = double.NaN;
-        string? failure = null;
-        try
+        public void Alert(in DriftAlert<int> alert)
         {
-            for (int s = 1; s <= n; s++)
-            {
-                double actual = series[s - 1];
-
-                // Score every held forecast made for period s, at origins s − h ≥ firstOrigin.
-                for (int h = 1; h <= horizon && s - h >= firstOrigin; h++)
-                {
-                    int at = (((s - h) % horizon) * horizon) + h - 1;
-                    double forecast = pending[at];
-                    if (double.IsNaN(forecast))
-                    {
-                        unscored[h - 1]++;
-                        continue;
-                    }
-
-                    trackers[h - 1].Record(actual, forecast);
-                    windows?[h - 1].Add(trackers[h - 1].LastError);
-                    if (!double.IsNaN(lowers[at]))
-                    {
-                        withInterval[h - 1]++;
-                        inside[h - 1] += actual >= lowers[at] && actual <= uppers[at] ? 1 : 0;
-                        empiricalCount[h - 1] += empiricalAt[at] ? 1 : 0;
-                    }
-                }
-
-                // Step the live pair: periods up to the first origin are warm-up only and are not scored.
-                PeriodScore step = s <= firstOrigin ? model.UpdateUnscored(actual) : model.Update(actual);
-                if (step.IsScored)
-                {
-                    signalPeriods++;
-                    if (signalPeriods > options.SignalWarmUpPeriods)
-                    {
-                        maxTracking = MaxOf(maxTracking, Math.Abs(model.Tracker.TrackingSignal));
-                        maxTrigg = MaxOf(maxTrigg, Math.Abs(model.Tracker.TriggSignal));
-                    }
-                }
-
-                // Origin s: hold the forecasts for s + 1 … s + H that the history can score, with their intervals.
-                if (s >= firstOrigin && s < n)
-                {
-                    int slot = (s % horizon) * horizon;
-                    int reach = Math.Min(horizon, n - s);
-                    for (int h = 1; h <= reach; h++)
-                    {
-                        Hold(model, h, intervals, windows?[h - 1], slot + h - 1, pending, lowers, uppers, empiricalAt);
-                    }
-                }
-            }
-        }
-        catch (ArgumentOutOfRangeException ex)
-        {
-            failure = ex.Message;
         }
 
-        var horizons = ImmutableArray.CreateBuilder<HorizonAccuracy>(horizon);
-        double scoreSum = 0;
-        for (int h = 0; h < horizon; h++)
+        public void Fault(in SeriesFault<int> fault)
         {
-            ErrorTracker t = trackers[h];
-            double mase = t.Count > 0 && naiveScale > 0 ? t.Mad / naiveScale : double.NaN;
-            double coverage = withInterval[h] > 0 ? (double)inside[h] / withInterval[h] : double.NaN;
-            horizons.Add(new HorizonAccuracy(h + 1, t.Count, unscored[h], t.Mad, t.Rmse, t.Bias, t.Mape, t.ZeroActualCount, t.Wape, mase,
-                withInterval[h], coverage, empiricalCount[h]));
-            scoreSum += options.Metric == RankingMetric.Mad ? t.Mad : t.Rmse;
         }
-
-        double score = failure is null ? scoreSum / horizon : double.NaN;
-        var signals = new OneStepSignals(model.Tracker.Count, model.Tracker.TrackingSignal, maxTracking, maxTrigg);
-        return new CandidateEvaluation(index, candidate, horizons.MoveToImmutable(), signals, score, failure);
     }
-
-    /// <summary>
-    /// Holds the forecast made now for <paramref name="h"/> periods ahead with the interval the live step would publish:
-    /// the normal one from the one-step tracker, or the empirical one once the horizon's window holds enough errors.
-    /// </summary>
-    private static void Hold(TrackedForecaster model, int h, IntervalSettings intervals, ErrorQuantileWindow? window, int at, double[] pending, double[] lowers, double[] uppers, bool[] empiricalAt)
-    {
-        if (!model.TryForecast(h, intervals.Multiplier, out double forecast, out PredictionInterval interval))
-        {
-            pending[at] = double.NaN;
-            return;
-        }
-
-        bool isEmpirical = window is not null && window.Count >= intervals.Empirical!.MinimumErrors;
-        if (isEmpirical)
-        {
-            interval = window!.IntervalAround(forecast, intervals.Empirical!);
-            if (intervals.NonNegative)
-            {
-                interval = new PredictionInterval(Math.Max(0, interval.Lower), Math.Max(0, interval.Upper));
-            }
-        }
-
-        pending[at] = forecast;
-        lowers[at] = interval.Lower;
-        uppers[at] = interval.Upper;
-        empiricalAt[at] = isEmpirical;
-    }
-
-    private static double MaxOf(double current, double value) => double.IsNaN(current) || value > current ? value : current;
 }

@@ -2,6 +2,7 @@ using System.Globalization;
 using System.Security.Cryptography;
 using System.Text;
 using Microsoft.Data.Sqlite;
+using StreamForecast.Shared;
 using StreamForecast.Streaming;
 
 namespace StreamForecast.Sqlite;
@@ -86,57 +87,35 @@ public sealed class SqliteCheckpointStore : IConditionalCheckpointStore, IAsyncD
     /// <summary>The store's settings.</summary>
     public SqliteCheckpointStoreOptions Options => _options;
 
-    /// <summary>
-    /// Saves a checkpoint as a new row of the store's stream and deletes all but the stream's newest
-    /// <see cref="SqliteCheckpointStoreOptions.RetainCount"/> rows, in one transaction.
-    /// </summary>
-    /// <param name="snapshot">The snapshot's bytes.</param>
-    /// <param name="inputPosition">The input position the snapshot accounts for, ≥ 0.</param>
-    /// <param name="cancellationToken">Cancels the save while it waits for its transaction; the stored checkpoints are then unchanged. Once its transaction has started, the save completes with the transaction's outcome.</param>
-    /// <returns>A task that completes once the transaction has committed.</returns>
-    /// <exception cref="ArgumentOutOfRangeException"><paramref name="inputPosition"/> is negative.</exception>
+    /// <inheritdoc/>
     /// <exception cref="ArgumentException">The snapshot is empty or longer than <see cref="SqliteCheckpointStoreOptions.MaxSnapshotLength"/>.</exception>
     /// <exception cref="InvalidDataException">The file is not a checkpoint database this version can use.</exception>
     /// <exception cref="SqliteException">SQLite failed (disk full, file locked by another writer for more than 30 seconds...); no checkpoint was added.</exception>
     /// <exception cref="ObjectDisposedException">The store has been disposed.</exception>
     /// <remarks>
-    /// Cost: one SHA-256 over the snapshot, one row insert, one delete, and a share of one synchronous commit: saves to
+    /// <para>The checkpoint becomes a new row of the store's stream, and all but the stream's newest
+    /// <see cref="SqliteCheckpointStoreOptions.RetainCount"/> rows are deleted, in one transaction. Cancellation works
+    /// while the save waits for its transaction; once the transaction has started, the save completes with its outcome.</para>
+    /// <para>Cost: one SHA-256 over the snapshot, one row insert, one delete, and a share of one synchronous commit: saves to
     /// one file from one process that wait for each other are committed together (see the type's remarks); saves from
-    /// other processes wait for the file's write lock.
+    /// other processes wait for the file's write lock.</para>
     /// </remarks>
     public async ValueTask SaveAsync(ReadOnlyMemory<byte> snapshot, long inputPosition, CancellationToken cancellationToken = default)
     {
-        ArgumentOutOfRangeException.ThrowIfNegative(inputPosition);
-        ValidateSnapshot(snapshot);
+        CheckpointSaveArguments.Check(snapshot, inputPosition, null, _options.MaxSnapshotLength, "SqliteCheckpointStoreOptions.MaxSnapshotLength");
         bool saved = await SaveCoreAsync(snapshot, inputPosition, conditional: false, expectedLatestPosition: null, cancellationToken).ConfigureAwait(false);
         System.Diagnostics.Debug.Assert(saved, "An unconditional save always stores its checkpoint.");
     }
 
-    /// <summary>
-    /// Saves a checkpoint as <see cref="SaveAsync"/> does, but only if the stream's newest valid checkpoint accounts for
-    /// <paramref name="expectedLatestPosition"/>; the comparison, the insert and the pruning are one transaction.
-    /// </summary>
-    /// <param name="snapshot">The snapshot's bytes.</param>
-    /// <param name="inputPosition">The input position the snapshot accounts for, ≥ 0.</param>
-    /// <param name="expectedLatestPosition">
-    /// The input position of the stream's newest checkpoint that passes validation (the one <see cref="LoadLatestAsync"/>
-    /// returns), ≥ 0; or <see langword="null"/> to save only when the stream holds no valid checkpoint (no row at all,
-    /// or only damaged rows, the case in which <see cref="LoadLatestAsync"/> throws).
-    /// </param>
-    /// <param name="cancellationToken">Cancels the save while it waits for its transaction; the stored checkpoints are then unchanged. Once its transaction has started, the save completes with the transaction's outcome.</param>
-    /// <returns>
-    /// <see langword="true"/> once the transaction has committed; <see langword="false"/> when the expectation did not
-    /// match, in which case nothing was written or deleted.
-    /// </returns>
-    /// <exception cref="ArgumentOutOfRangeException"><paramref name="inputPosition"/> or <paramref name="expectedLatestPosition"/> is negative.</exception>
+    /// <inheritdoc/>
     /// <exception cref="ArgumentException">The snapshot is empty or longer than <see cref="SqliteCheckpointStoreOptions.MaxSnapshotLength"/>.</exception>
     /// <exception cref="InvalidDataException">The file is not a checkpoint database this version can use.</exception>
     /// <exception cref="SqliteException">SQLite failed (disk full, file locked by another writer for more than 30 seconds...); no checkpoint was added.</exception>
     /// <exception cref="ObjectDisposedException">The store has been disposed.</exception>
     /// <remarks>
-    /// <para><b>Newest.</b> Damaged rows are skipped exactly as <see cref="LoadLatestAsync"/> skips them, so a position
-    /// just loaded is always a matching expectation: when the newest row is damaged and the load fell back to an older
-    /// checkpoint, the older checkpoint's position matches and the damaged row's position does not.</para>
+    /// <para>The comparison, the insert and the pruning are one transaction; cancellation works as for <see cref="SaveAsync"/>.
+    /// When the newest row is damaged and a load fell back to an older checkpoint, the older checkpoint's position
+    /// matches and the damaged row's position does not.</para>
     /// <para>Cost: that of <see cref="SaveAsync"/>, plus reading and hashing the stream's newest stored snapshot (and
     /// older ones only while the newer are damaged) inside the write transaction.</para>
     /// <para><b>Thread safety.</b> Atomic with respect to every save to the file, from this instance, other instances
@@ -145,13 +124,7 @@ public sealed class SqliteCheckpointStore : IConditionalCheckpointStore, IAsyncD
     /// </remarks>
     public async ValueTask<bool> TrySaveAsync(ReadOnlyMemory<byte> snapshot, long inputPosition, long? expectedLatestPosition, CancellationToken cancellationToken = default)
     {
-        ArgumentOutOfRangeException.ThrowIfNegative(inputPosition);
-        if (expectedLatestPosition is long expected)
-        {
-            ArgumentOutOfRangeException.ThrowIfNegative(expected, nameof(expectedLatestPosition));
-        }
-
-        ValidateSnapshot(snapshot);
+        CheckpointSaveArguments.Check(snapshot, inputPosition, expectedLatestPosition, _options.MaxSnapshotLength, "SqliteCheckpointStoreOptions.MaxSnapshotLength");
         return await SaveCoreAsync(snapshot, inputPosition, conditional: true, expectedLatestPosition, cancellationToken).ConfigureAwait(false);
     }
 
@@ -214,16 +187,6 @@ public sealed class SqliteCheckpointStore : IConditionalCheckpointStore, IAsyncD
     {
         Dispose();
         return ValueTask.CompletedTask;
-    }
-
-    private void ValidateSnapshot(ReadOnlyMemory<byte> snapshot)
-    {
-        if (snapshot.IsEmpty || snapshot.Length > _options.MaxSnapshotLength)
-        {
-            throw new ArgumentException(
-                string.Create(CultureInfo.InvariantCulture, $"The snapshot is {snapshot.Length} bytes; a checkpoint holds 1 to {_options.MaxSnapshotLength} bytes (SqliteCheckpointStoreOptions.MaxSnapshotLength)."),
-                nameof(snapshot));
-        }
     }
 
     private async ValueTask<bool> SaveCoreAsync(ReadOnlyMemory<byte> snapshot, long inputPosition, bool conditional, long? expectedLatestPosition, CancellationToken cancellationToken)

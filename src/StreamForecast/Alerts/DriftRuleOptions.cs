@@ -207,6 +207,10 @@ public abstract record DriftRuleOptions
     /// <summary>These options with new raise, clear and escalation levels, every other setting unchanged.</summary>
     private protected abstract DriftRuleOptions WithLevels(double raise, double clear, double escalation);
 
+    /// <summary>The <see cref="RuleName"/> of a two-sided limit on <paramref name="signal"/>: <c>Signal(±raise; clear c; critical e)</c>.</summary>
+    private protected string LimitRuleName(string signal) =>
+        $"{signal}(±{Format(RaiseLevel)}; clear {Format(ClearLevel)}; critical {Format(EscalationLevel)})";
+
     /// <summary>Formats a level for <see cref="RuleName"/>.</summary>
     private protected static string Format(double value) =>
         double.IsPositiveInfinity(value) ? "none" : value.ToString("G6", CultureInfo.InvariantCulture);

@@ -49,8 +49,7 @@ public sealed record TrackingSignalRuleOptions : DriftRuleOptions
     public override DriftRuleKind Kind => DriftRuleKind.TrackingSignal;
 
     /// <inheritdoc/>
-    public override string RuleName =>
-        $"TrackingSignal(±{Format(RaiseLevel)}; clear {Format(ClearLevel)}; critical {Format(EscalationLevel)})";
+    public override string RuleName => LimitRuleName("TrackingSignal");
 
     private protected override DriftRuleOptions WithLevels(double raise, double clear, double escalation) =>
         new TrackingSignalRuleOptions(raise, clear, escalation, WarmUpPeriods, PeriodsToRaise, PeriodsToClear);

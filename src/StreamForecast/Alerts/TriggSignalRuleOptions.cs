@@ -27,10 +27,10 @@ public sealed record TriggSignalRuleOptions : DriftRuleOptions
     /// The |T| at which an episode becomes Critical, between the limit and 1, or +∞ to never escalate. Default (null):
     /// (1 + limit)/2, about 0.755 for the default limit (library default; |T| cannot exceed 1).
     /// </param>
-    /// <param name="warmUpPeriods">Periods evaluated before any alert, 0 to 1,000,000. Default 8.</param>
-    /// <param name="periodsToRaise">Consecutive periods at or beyond the limit (or the escalation level) to raise (or escalate), 1 to 10,000. Default 1.</param>
-    /// <param name="periodsToClear">Consecutive periods at or below the clear level to clear, 1 to 10,000. Default 2.</param>
-    /// <exception cref="ArgumentOutOfRangeException">A level or count is out of range, or the levels are out of order.</exception>
+    /// <param name="warmUpPeriods"><inheritdoc cref="TrackingSignalRuleOptions(double, double?, double?, int, int, int)" path="/param[@name='warmUpPeriods']/node()"/></param>
+    /// <param name="periodsToRaise"><inheritdoc cref="TrackingSignalRuleOptions(double, double?, double?, int, int, int)" path="/param[@name='periodsToRaise']/node()"/></param>
+    /// <param name="periodsToClear"><inheritdoc cref="TrackingSignalRuleOptions(double, double?, double?, int, int, int)" path="/param[@name='periodsToClear']/node()"/></param>
+    /// <exception cref="ArgumentOutOfRangeException"><inheritdoc cref="TrackingSignalRuleOptions(double, double?, double?, int, int, int)" path="/exception/node()"/></exception>
     public TriggSignalRuleOptions(
         double limit = DefaultLimit,
         double? clearLevel = null,
@@ -50,8 +50,7 @@ public sealed record TriggSignalRuleOptions : DriftRuleOptions
     public override DriftRuleKind Kind => DriftRuleKind.TriggSignal;
 
     /// <inheritdoc/>
-    public override string RuleName =>
-        $"TriggSignal(±{Format(RaiseLevel)}; clear {Format(ClearLevel)}; critical {Format(EscalationLevel)})";
+    public override string RuleName => LimitRuleName("TriggSignal");
 
     /// <inheritdoc/>
     public override double MaxRaiseLevel => 1.0;

@@ -1,6 +1,5 @@
 using FsCheck;
 using FsCheck.Fluent;
-using Microsoft.Extensions.Time.Testing;
 using StreamForecast.Alerts;
 using StreamForecast.Forecasting;
 using StreamForecast.Periods;
@@ -83,28 +82,10 @@ public sealed class BacktestReplayTests
 
     private static bool Same(SeriesOptions series, double[] history)
     {
-        var start = new DateTimeOffset(2026, 1, 5, 0, 0, 0, TimeSpan.Zero);
-        long first = s_days.PeriodOf(start);
+        long first = s_days.PeriodOf(EngineHistory.Start);
         var sink = new ListSink();
         Backtester.Replay("bakery/rye", history, first, series, sink);
-
-        var engineOptions = new ForecastEngineOptions<string>(series, partitions: 1, timeProvider: new FakeTimeProvider(start.AddYears(1)),
-            maxEventTimeAhead: Timeout.InfiniteTimeSpan, publishing: new PublishingOptions(100_000, 100_000));
-        var engine = new ForecastEngine<string>(engineOptions);
-        var recorder = EngineRecorder<string>.Attach(engine);
-        Task.Run(async () =>
-        {
-            for (int t = 0; t < history.Length; t++)
-            {
-                if (!double.IsNaN(history[t]))
-                {
-                    await engine.PostAsync(new Observation<string>("bakery/rye", start.AddDays(t).AddHours(9), history[t]));
-                }
-            }
-
-            await engine.FlushAsync();
-            await engine.DisposeAsync();
-        }).GetAwaiter().GetResult();
+        EngineRecorder<string> recorder = EngineHistory.Run("bakery/rye", series, history).Recorder;
 
         Assert.Equal(recorder.Forecasts, sink.Forecasts);
         Assert.Equal(recorder.Alerts, sink.Alerts);
@@ -126,7 +107,7 @@ public sealed class BacktestReplayTests
 
     private static bool Same(SeriesOptions series, double[] history, (int Day, int Length, bool Keep)[] spans)
     {
-        var start = new DateTimeOffset(2026, 1, 5, 0, 0, 0, TimeSpan.Zero);
+        DateTimeOffset start = EngineHistory.Start;
         EventKind[] kinds = [EventKind.Promotion, EventKind.Closure, EventKind.Named("street fair")];
         var events = new EventCalendar<string>(
             spans.Select((s, i) => i % 2 == 0
@@ -136,26 +117,7 @@ public sealed class BacktestReplayTests
         long first = s_days.PeriodOf(start);
         var sink = new ListSink();
         SeriesStep<string> step = Backtester.Replay("bakery/rye", history, first, series, events, sink);
-
-        var engineOptions = new ForecastEngineOptions<string>(series, partitions: 1, timeProvider: new FakeTimeProvider(start.AddYears(1)),
-            maxEventTimeAhead: Timeout.InfiniteTimeSpan, publishing: new PublishingOptions(100_000, 100_000), events: events);
-        var engine = new ForecastEngine<string>(engineOptions);
-        var recorder = EngineRecorder<string>.Attach(engine);
-        IReadOnlyList<EventLift> lift = Task.Run(async () =>
-        {
-            for (int t = 0; t < history.Length; t++)
-            {
-                if (!double.IsNaN(history[t]))
-                {
-                    await engine.PostAsync(new Observation<string>("bakery/rye", start.AddDays(t).AddHours(9), history[t]));
-                }
-            }
-
-            await engine.FlushAsync();
-            IReadOnlyList<EventLift> sums = await engine.GetEventLiftAsync();
-            await engine.DisposeAsync();
-            return sums;
-        }).GetAwaiter().GetResult();
+        (EngineRecorder<string> recorder, IReadOnlyList<EventLift> lift) = EngineHistory.Run("bakery/rye", series, history, events);
 
         Assert.Equal(recorder.Forecasts, sink.Forecasts);
         Assert.Equal(recorder.Alerts, sink.Alerts);

@@ -237,11 +237,26 @@ public class BacktesterTests
     }
 
     [Fact]
-    public void Run_HistoryWithNaN_ThrowsNamingThePosition()
+    public void Run_HistoryWithInfinityOrBeyondTheDomain_ThrowsNamingThePosition()
     {
-        double[] series = [1, 2, double.NaN, 4];
-        var ex = Assert.Throws<ArgumentOutOfRangeException>(() => Backtester.Run(series, s_candidates, new BacktestOptions(1)));
+        double[] infinite = [1, 2, double.PositiveInfinity, 4];
+        var ex = Assert.Throws<ArgumentOutOfRangeException>(() => Backtester.Run(infinite, s_candidates, new BacktestOptions(1)));
         Assert.Contains("value 2", ex.Message, StringComparison.Ordinal);
+        double[] huge = [1, 2e15, 3];
+        ex = Assert.Throws<ArgumentOutOfRangeException>(() => Backtester.Evaluate(huge, s_candidates[0], new BacktestOptions(1)));
+        Assert.Contains("value 1", ex.Message, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void Run_HistoryWithNaN_TakesItAsAGapUnderTheGapPolicy()
+    {
+        // NaN is a period with no observation, as in the engine: with the default policy (Zero) it is a scored zero.
+        double[] withGap = [1, 2, double.NaN, 4];
+        double[] withZero = [1, 2, 0, 4];
+        CandidateEvaluation gap = Backtester.Evaluate(withGap, new NaiveOptions(), new BacktestOptions(1));
+        CandidateEvaluation zero = Backtester.Evaluate(withZero, new NaiveOptions(), new BacktestOptions(1));
+        Assert.Equal<HorizonAccuracy>(zero.Horizons, gap.Horizons);
+        Assert.Equal(3, gap.AtHorizon(1).Count);
     }
 
     [Fact]
@@ -251,6 +266,7 @@ public class BacktesterTests
         Assert.Throws<ArgumentOutOfRangeException>(() => new BacktestOptions(1, horizon: 0));
         Assert.Throws<ArgumentOutOfRangeException>(() => new BacktestOptions(1, seasonLength: 0));
         Assert.Throws<ArgumentOutOfRangeException>(() => new BacktestOptions(1, maxDegreeOfParallelism: 0));
+        Assert.Throws<ArgumentOutOfRangeException>(() => new BacktestOptions(1, gaps: (StreamForecast.Streaming.GapPolicy)7));
     }
 
     [Fact]

@@ -377,16 +377,4 @@ public sealed partial class SeriesStep<TKey>
                 return false;
         }
     }
-
-    /// <summary>The forecast <paramref name="horizon"/> periods ahead with its interval; NaN fields while the method is cold.</summary>
-    internal ForecastPoint Point(int horizon)
-    {
-        IntervalSettings intervals = _options.Intervals;
-        if (!_model.TryForecast(horizon, intervals, out double value, out PredictionInterval interval, out IntervalKind kind))
-        {
-            return new ForecastPoint(horizon, double.NaN, double.NaN, double.NaN, kind, intervals.Coverage);
-        }
-
-        return new ForecastPoint(horizon, value, interval.Lower, interval.Upper, kind, intervals.Coverage);
-    }
 }
