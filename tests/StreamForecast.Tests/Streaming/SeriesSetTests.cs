@@ -219,6 +219,23 @@ public sealed class SeriesSetTests
     }
 
     [Fact]
+    public void Restore_SetHoldsADeclaredEvent_ThrowsAndKeepsIt()
+    {
+        ForecastEngineOptions<string> options = Options(new FakeTimeProvider(Start.AddDays(1)));
+        using var bytes = new MemoryStream();
+        new SeriesSet<string>(options).Snapshot(bytes, SnapshotKeyCodecs.Utf8String, 0);
+        bytes.Position = 0;
+        var set = new SeriesSet<string>(options);
+        KnownEvent<string> closed = KnownEvent.ForAllSeries<string>(EventKind.Closure, Start, Start.AddMinutes(5));
+        set.DeclareEvent(closed, new ListSink());
+
+        Assert.Throws<InvalidOperationException>(() => set.Restore(bytes, SnapshotKeyCodecs.Utf8String));
+        using var after = new MemoryStream();
+        set.Snapshot(after, SnapshotKeyCodecs.Utf8String, 0);
+        Assert.Equal(SnapshotFormat.EventsVersion, BitConverter.ToUInt16(after.ToArray(), 4)); // the declaration is still held
+    }
+
+    [Fact]
     public void Restore_SetAlreadyHoldsSeries_Throws()
     {
         ForecastEngineOptions<string> options = Options(new FakeTimeProvider(Start.AddDays(1)));

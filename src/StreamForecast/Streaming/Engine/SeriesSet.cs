@@ -318,7 +318,7 @@ public sealed partial class SeriesSet<TKey>
     /// <param name="keyCodec">How keys were written.</param>
     /// <returns>The input position stored in the snapshot.</returns>
     /// <exception cref="ArgumentNullException">An argument is null.</exception>
-    /// <exception cref="InvalidOperationException">The set already holds series.</exception>
+    /// <exception cref="InvalidOperationException">The set already holds series or declared known events.</exception>
     /// <exception cref="InvalidDataException">The snapshot is damaged, of another version, or does not fit the options.</exception>
     /// <remarks>
     /// O(snapshot length); allocates each series. The known events declared at run time and the event lift come back
@@ -331,6 +331,12 @@ public sealed partial class SeriesSet<TKey>
         if (_series.Count > 0)
         {
             throw new InvalidOperationException("Restore loads series into an empty set only; this one holds " + _series.Count + " series.");
+        }
+
+        if (_declared.Count > 0)
+        {
+            // The snapshot's declarations replace the set's: refused rather than dropped silently.
+            throw new InvalidOperationException("Restore loads series into an empty set only; this one holds " + _declared.Count + " known events declared with DeclareEvent.");
         }
 
         (List<SeriesState<TKey>> series, long inputPosition, List<KnownEvent<TKey>> declared) = ForecastEngine.ReadSnapshotWithEvents(source, _options, keyCodec);
