@@ -208,6 +208,7 @@ public static class PointOfSaleApp
                 : TypedResults.Problem(statusCode: StatusCodes.Status404NotFound, title: "No forecast yet.", detail: $"No shop day of {shop}/{item} has closed yet."));
 
         app.MapGet("/alerts", (string? shop, SalesBoard board) => TypedResults.Ok(board.OpenAlerts(shop)));
+        app.MapGet("/events", (SalesBoard board) => TypedResults.Ok(board.Events()));
 
         app.MapGet("/status", async (HostedForecastEngine<string> engine, CancellationToken ct) =>
         {

@@ -142,6 +142,13 @@ namespace StreamForecast.Samples.PointOfSale
             {
                 output.WriteLine($"  {a.Shop}/{a.Item}: {a.Rule} episode {a.EpisodeId}, {a.Direction}, {a.Severity}, since {a.Since:yyyy-MM-dd}");
             }
+
+            // The declared promotion, in the shop's words: when it applied, how it sold, and that it was not taken for drift.
+            foreach (EventReport e in (await http.GetFromJsonAsync<List<EventReport>>("/events"))!)
+            {
+                output.WriteLine(string.Create(CultureInfo.InvariantCulture,
+                    $"declared {e.Kind} applied to {e.Shop} {e.Item} on {e.Days} days, {e.FirstDay:yyyy-MM-dd} to {e.LastDay:yyyy-MM-dd}: they sold {e.SoldVsForecast:0.0} times the forecast and are left out of the forecast-error figures; {(e.AlertsRaised == 0 ? "no drift alert was" : e.AlertsRaised == 1 ? "1 drift alert was" : e.AlertsRaised + " drift alerts were")} raised for this item during it or in the week after"));
+            }
         }
 
         private static async Task<string> Title(HttpResponseMessage response)

@@ -17,6 +17,8 @@ public sealed class SalesBoard(HostedForecastEngine<string> engine, TimeZoneInfo
     private readonly Lock _alertGate = new();
     private readonly Dictionary<(string Key, int Rule), OpenAlert> _open = [];
     private readonly HashSet<(string Key, int Rule)> _alertsSeen = [];
+    private readonly SortedDictionary<(string Key, string Kind, DateOnly Day), (double Sold, double Forecast)> _marked = [];
+    private readonly List<(string Key, DateOnly Day)> _raised = [];
     private IDisposable? _forecasts;
     private IDisposable? _alerts;
 
@@ -60,6 +62,26 @@ public sealed class SalesBoard(HostedForecastEngine<string> engine, TimeZoneInfo
         return list;
     }
 
+    /// <summary>The known events seen on closed days since the server started, by item and kind (see <see cref="EventReport"/>).</summary>
+    /// <returns>The reports, by shop, item and kind.</returns>
+    public List<EventReport> Events()
+    {
+        var list = new List<EventReport>();
+        lock (_alertGate)
+        {
+            foreach (var group in _marked.GroupBy(m => (m.Key.Key, m.Key.Kind)))
+            {
+                DateOnly first = group.First().Key.Day, last = group.Last().Key.Day;
+                double sold = group.Sum(m => m.Value.Sold), forecast = group.Where(m => !double.IsNaN(m.Value.Forecast)).Sum(m => m.Value.Forecast);
+                int raised = _raised.Count(r => r.Key == group.Key.Key && r.Day >= first && r.Day <= last.AddDays(7));
+                (string shop, string item) = Split(group.Key.Key);
+                list.Add(new EventReport(shop, item, group.Key.Kind, first, last, group.Count(), forecast > 0 ? Rounded(sold / forecast, 2) : null, raised));
+            }
+        }
+
+        return list;
+    }
+
     /// <inheritdoc/>
     public async Task StartAsync(CancellationToken cancellationToken)
     {
@@ -68,12 +90,23 @@ public sealed class SalesBoard(HostedForecastEngine<string> engine, TimeZoneInfo
         {
             (string shop, string item) = Split(u.Key);
             Keep(u.Key, new Entry(u.Period, View(shop, item, Day(u.PeriodStart), u.Actual, u.Next, u.Method, u.Errors)), updateWinsTie: true);
+            if (u.Event is { } kind)
+            {
+                lock (_alertGate)
+                {
+                    _marked[(u.Key, kind.Name, Day(u.PeriodStart))] = (u.Actual, u.ForecastForPeriod); // a restated day replaces its first figures
+                }
+            }
         }));
         _alerts = e.Alerts.Subscribe(new Sink<DriftAlert<string>>(a =>
         {
             lock (_alertGate)
             {
                 _alertsSeen.Add((a.Key, a.RuleIndex));
+                if (a.Transition.Kind == DriftTransitionKind.Raised)
+                {
+                    _raised.Add((a.Key, Day(a.PeriodStart)));
+                }
                 if (a.Transition.Kind == DriftTransitionKind.Cleared)
                 {
                     _open.Remove((a.Key, a.RuleIndex));

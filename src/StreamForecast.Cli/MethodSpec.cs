@@ -11,7 +11,8 @@ namespace StreamForecast.Cli;
 /// <list type="bullet">
 /// <item><description><c>naive</c>; <c>seasonal-naive:m</c> (seasonal naive, season length m)</description></item>
 /// <item><description><c>ma:n</c> (moving average of n periods); <c>wma:w1,w2,…</c> (weights, most recent period first)</description></item>
-/// <item><description><c>ses:alpha[,start]</c> with start <c>first</c> (default), <c>mean=k</c> or <c>level=x</c></description></item>
+/// <item><description><c>ses:alpha[,start]</c> with start <c>first</c> (default), <c>mean=k</c> or <c>given=l</c> (the level
+/// before the first actual; <c>level=l</c>, the spelling of earlier versions, is read too)</description></item>
 /// <item><description><c>holt:level,trend[,damping][,start]</c> with start <c>first2</c> (default), <c>diffs=d</c>, <c>trend=t</c> or <c>given=l;t</c></description></item>
 /// <item><description><c>hw:m,add|mul,level,trend,seasonal[,damping[,startSeasons]][,start]</c> (Holt-Winters) with start
 /// <c>means</c> (default: season means of the first seasons), <c>decomposition</c> (classical decomposition of the first
@@ -27,7 +28,7 @@ namespace StreamForecast.Cli;
 /// </remarks>
 internal static class MethodSpec
 {
-    public const string Forms = "naive | seasonal-naive:m | ma:n | wma:w1,w2,... | ses:alpha | holt:level,trend[,damping] | hw:m,add|mul,level,trend,seasonal[,damping[,startSeasons]][,means|decomposition|given=l;t;s1;...;sm] | hw2:m1,m2,add|mul,level,trend|none,cycle1,cycle2[,adjust] | croston:size | sba:size | tsb:probability,size | best:m1|m2|...[;weight=w,margin=x,switch=p,min=k]";
+    public const string Forms = "naive | seasonal-naive:m | ma:n | wma:w1,w2,... | ses:alpha[,first|mean=k|given=l] | holt:level,trend[,damping][,first2|diffs=d|trend=t|given=l;t] | hw:m,add|mul,level,trend,seasonal[,damping[,startSeasons]][,means|decomposition|given=l;t;s1;...;sm] | hw2:m1,m2,add|mul,level,trend|none,cycle1,cycle2[,adjust] | croston:size | sba:size | tsb:probability,size | best:m1|m2|...[;weight=w,margin=x,switch=p,min=k]";
 
     public static ForecasterOptions Parse(string text)
     {
@@ -207,8 +208,9 @@ internal static class MethodSpec
     {
         "first" => LevelStart.FirstActual,
         _ when text.StartsWith("mean=", StringComparison.Ordinal) => LevelStart.MeanOfFirst(Int(text[5..])),
-        _ when text.StartsWith("level=", StringComparison.Ordinal) => LevelStart.Given(Num(text[6..])),
-        _ => throw new UsageException($"'{text}' is not a level start; use first, mean=k or level=x."),
+        _ when text.StartsWith("given=", StringComparison.Ordinal) => LevelStart.Given(Num(text[6..])),
+        _ when text.StartsWith("level=", StringComparison.Ordinal) => LevelStart.Given(Num(text[6..])), // earlier versions' spelling
+        _ => throw new UsageException($"'{text}' is not a level start; use first, mean=k or given=l."),
     };
 
     private static HoltStart HoltStartOf(string text)
@@ -237,7 +239,7 @@ internal static class MethodSpec
     private static string LevelStartText(LevelStart start) => start.Kind switch
     {
         LevelStartKind.MeanOfFirst => $",mean={I(start.WarmUpLength)}",
-        LevelStartKind.Given => $",level={D(start.Level!.Value)}",
+        LevelStartKind.Given => $",given={D(start.Level!.Value)}",
         _ => string.Empty,
     };
 

@@ -171,6 +171,9 @@ internal struct ForecastUpdateSurrogate<TKey>
 
     /// <summary>Whether this restates an earlier update.</summary>
     [Id(11)] public bool IsRestatement;
+
+    /// <summary>The name of the known event's kind that marks the period; null when none does.</summary>
+    [Id(12)] public string? Event;
 }
 
 /// <summary>Converts <see cref="ForecastUpdate{TKey}"/> to and from its wire form.</summary>
@@ -180,13 +183,16 @@ internal sealed class ForecastUpdateConverter<TKey> : IConverter<ForecastUpdate<
 {
     /// <inheritdoc/>
     public ForecastUpdate<TKey> ConvertFromSurrogate(in ForecastUpdateSurrogate<TKey> s) =>
-        new(s.Key, s.Period, s.PeriodStart, s.Actual, s.IsImputed, s.ForecastForPeriod, s.Error, s.Next, s.AtHorizon, s.Errors, s.Method, s.IsRestatement);
+        new(s.Key, s.Period, s.PeriodStart, s.Actual, s.IsImputed, s.ForecastForPeriod, s.Error, s.Next, s.AtHorizon, s.Errors, s.Method, s.IsRestatement)
+        {
+            Event = s.Event is null ? null : EventKind.Named(s.Event),
+        };
 
     /// <inheritdoc/>
     public ForecastUpdateSurrogate<TKey> ConvertToSurrogate(in ForecastUpdate<TKey> v) => new()
     {
         Key = v.Key, Period = v.Period, PeriodStart = v.PeriodStart, Actual = v.Actual, IsImputed = v.IsImputed,
         ForecastForPeriod = v.ForecastForPeriod, Error = v.Error, Next = v.Next, AtHorizon = v.AtHorizon, Errors = v.Errors,
-        Method = v.Method, IsRestatement = v.IsRestatement,
+        Method = v.Method, IsRestatement = v.IsRestatement, Event = v.Event?.Name,
     };
 }

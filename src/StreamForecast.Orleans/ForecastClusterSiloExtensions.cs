@@ -22,13 +22,13 @@ public static class ForecastClusterSiloExtensions
     /// <see cref="ForecastEngineOptions{TKey}.MaxEventTimeAhead"/>, <see cref="ForecastEngineOptions{TKey}.MaxSeries"/> (per
     /// bucket), <see cref="ForecastEngineOptions{TKey}.EvictAfterQuietPeriods"/>, <see cref="ForecastEngineOptions{TKey}.IdleCheckInterval"/>
     /// and the time provider. Partitions, queue capacity, full mode and publishing options do not apply (a bucket is its
-    /// own single writer and the client publishes). <see cref="ForecastEngineOptions{TKey}.Events"/> must be null: known
-    /// events are not supported by the cluster yet.
+    /// own single writer and the client publishes). <see cref="ForecastEngineOptions{TKey}.Events"/> (the events known
+    /// before the run and the group function) applies as in the engine; events learnt during the run are declared with
+    /// <see cref="ForecastClusterClient{TKey}.DeclareEventAsync"/> and stored with each bucket's series.
     /// </param>
     /// <param name="keyCodec">How keys are stored and hashed to buckets.</param>
     /// <param name="clusterOptions">The cluster options; <see langword="null"/> for the defaults.</param>
     /// <returns>The silo builder.</returns>
-    /// <exception cref="ArgumentException"><paramref name="engineOptions"/> gives known events (not supported by the cluster yet).</exception>
     /// <remarks>Also register a grain storage named <see cref="ForecastClusterOptions.StorageName"/>, for example with <see cref="AddSqliteCheckpointGrainStorage"/>.</remarks>
     public static ISiloBuilder AddForecastBuckets<TKey>(this ISiloBuilder silo, ForecastEngineOptions<TKey> engineOptions, ISnapshotKeyCodec<TKey> keyCodec, ForecastClusterOptions? clusterOptions = null)
         where TKey : notnull
@@ -36,15 +36,6 @@ public static class ForecastClusterSiloExtensions
         ArgumentNullException.ThrowIfNull(silo);
         ArgumentNullException.ThrowIfNull(engineOptions);
         ArgumentNullException.ThrowIfNull(keyCodec);
-        if (engineOptions.Events is not null)
-        {
-            // Refused rather than ignored: a cluster that silently scored promotions and closures would raise the alerts
-            // the calendar was given to prevent.
-            throw new ArgumentException(
-                "Known events (ForecastEngineOptions.Events) are not supported by the cluster yet: the bucket grains neither mark event periods nor keep the event lift in their stored state. Run series with known events in an in-process ForecastEngine.",
-                nameof(engineOptions));
-        }
-
         silo.Services.AddSingleton(engineOptions);
         silo.Services.AddSingleton(keyCodec);
         silo.Services.TryAddSingleton(clusterOptions ?? new ForecastClusterOptions());

@@ -47,6 +47,30 @@ public interface ISeriesBucketGrain<TKey> : IGrainWithIntegerKey
     [Alias("Acknowledge")]
     Task<CallReceipt> AcknowledgeAsync(Guid callId, TKey key);
 
+    /// <summary>
+    /// Declares a known event in this bucket (see <see cref="IForecastEngine{TKey}.DeclareEventAsync"/>): its series the
+    /// event applies to are marked and restated as in an engine partition, and the event is stored with the bucket.
+    /// </summary>
+    /// <param name="callId">The call's id; reuse it when retrying.</param>
+    /// <param name="knownEvent">The event; a series event's key must belong to this bucket.</param>
+    /// <returns>What the call did in this bucket; all zero when the call id was already applied (a retry: the first application's counts went with its lost answer).</returns>
+    /// <exception cref="ArgumentException">The key belongs to another bucket, or a group event was declared while the silos' options give no group function; nothing was applied.</exception>
+    [Alias("DeclareEvent")]
+    Task<KnownEventReceipt> DeclareEventAsync(Guid callId, KnownEvent<TKey> knownEvent);
+
+    /// <summary>Withdraws a known event declared in this bucket (see <see cref="IForecastEngine{TKey}.WithdrawEventAsync"/>).</summary>
+    /// <param name="callId">The call's id; reuse it when retrying.</param>
+    /// <param name="knownEvent">The event, equal in every field to the declared one.</param>
+    /// <returns>What the call did in this bucket (all zero when the event was not declared, or the call id was already applied).</returns>
+    /// <exception cref="ArgumentException">The key belongs to another bucket; nothing was applied.</exception>
+    [Alias("WithdrawEvent")]
+    Task<KnownEventReceipt> WithdrawEventAsync(Guid callId, KnownEvent<TKey> knownEvent);
+
+    /// <summary>The lift observed per event kind in this bucket's series (see <see cref="SeriesSet{TKey}.GetEventLift"/>).</summary>
+    /// <returns>One entry per kind met, ordered by kind name.</returns>
+    [Alias("GetEventLift")]
+    Task<EventLift[]> GetEventLiftAsync();
+
     /// <summary>Sends this bucket's output to <paramref name="observer"/> until the lease runs out or it unsubscribes; calling again renews the lease.</summary>
     /// <param name="observer">A reference made with <c>IGrainFactory.CreateObjectReference</c>.</param>
     /// <param name="lease">How long the subscription lasts without renewal.</param>

@@ -146,6 +146,54 @@ public sealed class CommandLineToolTests : IDisposable
     }
 
     [Theory]
+    [InlineData("ses:0.2,given=30", "SES(0.2, level 30)")]
+    [InlineData("ses:0.2,level=30", "SES(0.2, level 30)")] // the spelling of earlier versions is still read
+    [InlineData("ses:0.2,mean=3", "SES(0.2, mean of 3)")]
+    [InlineData("holt:0.3,0.1,0.9,given=30;0.5", "Holt(0.3, 0.1, damping 0.9, level 30, trend 0.5)")]
+    public void Replay_SmoothingStartText_RunsThatStart(string method, string label)
+    {
+        _tool.Write("sales.csv", ToolRunner.SalesCsv(days: 21));
+
+        ToolResult result = _tool.Run(Args("replay", "sales.csv", "--method", method));
+
+        Assert.True(result.ExitCode == 0, result.ToString());
+        Assert.All(File.ReadLines(_tool.PathOf("forecasts.csv")).Skip(1), line => Assert.Contains(label, line, StringComparison.Ordinal));
+    }
+
+    [Fact]
+    public void Replay_ConfigWithGivenStarts_EachSeriesRunsItsStart()
+    {
+        _tool.Write("sales.csv", ToolRunner.SalesCsv(days: 21));
+        _tool.Write("methods.json", """
+            {"format": "streamforecast-methods", "version": 1, "series": [
+              {"key": "east/bun", "method": "ses:0.2,given=30"},
+              {"key": "west/bun", "method": "holt:0.3,0.1,given=30;0.5"}]}
+            """);
+
+        ToolResult result = _tool.Run(Args("replay", "sales.csv", "--config", "methods.json"));
+
+        Assert.True(result.ExitCode == 0, result.ToString());
+        string[] forecasts = [.. File.ReadLines(_tool.PathOf("forecasts.csv"))];
+        Assert.Contains(forecasts, line => line.StartsWith("east/bun,", StringComparison.Ordinal) && line.Contains("SES(0.2, level 30)", StringComparison.Ordinal));
+        Assert.Contains(forecasts, line => line.StartsWith("west/bun,", StringComparison.Ordinal) && line.Contains("Holt(0.3, 0.1, level 30, trend 0.5)", StringComparison.Ordinal));
+    }
+
+    [Theory]
+    [InlineData("ses:0.2,given=")]
+    [InlineData("ses:0.2,given=NaN")]
+    [InlineData("ses:0.2,given=1e16")]
+    [InlineData("holt:0.3,0.1,given=30")]
+    [InlineData("holt:0.3,0.1,given=30;1e16")]
+    public void Replay_BadSmoothingStartText_IsAUsageError(string method)
+    {
+        _tool.Write("sales.csv", ToolRunner.SalesCsv(days: 10));
+
+        ToolResult result = _tool.Run(Args("replay", "sales.csv", "--method", method));
+
+        Assert.Equal(1, result.ExitCode);
+    }
+
+    [Theory]
     [InlineData("hw:7,add,0.3,0.1,0.2,given=10;0;1")]
     [InlineData("hw:7,add,0.3,0.1,0.2,1,3,given=10;0;1;-1;0;0;0;0;0")]
     [InlineData("hw:7,mul,0.3,0.1,0.2,given=10;0;1;1;1;1;1;1;0")]

@@ -321,6 +321,22 @@ public sealed class ClusterFailoverTests : IAsyncLifetime
         Assert.Equal(0, status.Sequence);
     }
 
+    [Fact]
+    public async Task DeclareEventAsync_GroupEventWithoutGroupFunction_ThrowsAndNoBucketAppliesIt()
+    {
+        // The silos' engine options give no EventCalendar, so no bucket can tell which series are in a group.
+        await using ForecastClusterClient<string> client = await ForecastCluster.ConnectAsync(_cluster.Client, Cluster, SnapshotKeyCodecs.Utf8String);
+        var closure = KnownEvent.ForGroup<string>("site-1", EventKind.Closure, ClusterScenario.Start, ClusterScenario.Start.AddHours(2));
+        long[] before = await Task.WhenAll(Enumerable.Range(0, Cluster.BucketCount).Select(async b => (await client.Bucket(b).GetStatusAsync()).Sequence));
+
+        ArgumentException error = await Assert.ThrowsAnyAsync<ArgumentException>(() => client.DeclareEventAsync(closure));
+
+        Assert.Contains("group function", error.Message, StringComparison.Ordinal);
+        long[] after = await Task.WhenAll(Enumerable.Range(0, Cluster.BucketCount).Select(async b => (await client.Bucket(b).GetStatusAsync()).Sequence));
+        Assert.Equal(before, after);
+        Assert.Equal(0, client.Retries);
+    }
+
     private void SqliteCleanup()
     {
         Microsoft.Data.Sqlite.SqliteConnection.ClearAllPools();

@@ -40,4 +40,31 @@ public sealed class WireFormatTests
         Assert.Equal(observation, RoundTrip(observation));
         Assert.Equal(fault, RoundTrip(fault));
     }
+
+    [Fact]
+    public void KnownEventsLiftAndMarkedUpdate_RoundTrip_EqualOriginals()
+    {
+        var start = new DateTimeOffset(2026, 3, 2, 0, 0, 0, TimeSpan.FromHours(1));
+        KnownEvent<string>[] events =
+        [
+            KnownEvent.ForSeries("north/rye", EventKind.Promotion, start, start.AddDays(7)),
+            KnownEvent.ForGroup<string>("north", EventKind.Named("street market"), start, start.AddHours(5), keepOutOfModel: false),
+            KnownEvent.ForAllSeries<string>(EventKind.Closure, start.AddDays(1), start.AddDays(2)),
+        ];
+        var lift = new EventLift(EventKind.Named("street market"), 5, 120.5, 80.25);
+        var receipt = new KnownEventReceipt(3, 4, 5);
+        var update = new ForecastUpdate<string>(
+            "north/rye", 41, start, 17, false, 15.5, 1.5, new ForecastPoint(1, 16, 12.1, 19.9), new ForecastPoint(1, 16, 12.1, 19.9), default, "MA(4)", false)
+        { Event = EventKind.Named("street market") };
+
+        foreach (KnownEvent<string> e in events)
+        {
+            Assert.Equal(e, RoundTrip(e));
+        }
+
+        Assert.Equal(lift, RoundTrip(lift));
+        Assert.Equal(receipt, RoundTrip(receipt));
+        Assert.Equal(update, RoundTrip(update));
+        Assert.Equal("street market", RoundTrip(update).Event!.Name);
+    }
 }

@@ -25,6 +25,8 @@ public sealed class ExponentialSmoothing : Forecaster
     private readonly int _warmUpLength;
     private double _level;
     private CompensatedSum _startSum; // the first k actuals while MeanOfFirst is warming up; zero afterwards
+    private double _startLevel;       // the start level used (see StartValues)
+    private bool _startKnown;
 
     /// <summary>Creates an empty forecaster.</summary>
     /// <param name="options">Validated options.</param>
@@ -36,7 +38,7 @@ public sealed class ExponentialSmoothing : Forecaster
         _alpha = options.Alpha;
         _oneMinusAlpha = 1.0 - options.Alpha;
         _warmUpLength = options.Start.WarmUpLength;
-        _level = options.Start.Level ?? 0;
+        ResetCore();
     }
 
     /// <inheritdoc/>
@@ -48,6 +50,18 @@ public sealed class ExponentialSmoothing : Forecaster
     /// <summary>The current level ℓ(t), which is the forecast for every horizon.</summary>
     /// <exception cref="InvalidOperationException">The forecaster is not warm yet.</exception>
     public double Level => WhenWarm(_level);
+
+    /// <summary>
+    /// The start level this forecaster used: the given ℓ₀ (<see cref="LevelStart.Given"/>), the first actual
+    /// (<see cref="LevelStart.FirstActual"/>) or the mean of the first k (<see cref="LevelStart.MeanOfFirst"/>).
+    /// </summary>
+    /// <value>
+    /// <see langword="null"/> while a computed start still waits for its actuals, and after <see cref="Forecaster.ImportState"/>
+    /// of a state with a computed start (the state holds the current level, not the start it came from). A given start is
+    /// always known.
+    /// </value>
+    /// <remarks>Allocates the returned record; not for the per-update path.</remarks>
+    public LevelStartValues? StartValues => _startKnown ? new LevelStartValues(_options.Start.Kind, _warmUpLength, _startLevel) : null;
 
     private protected override void UpdateCore(double actual)
     {
@@ -76,6 +90,8 @@ public sealed class ExponentialSmoothing : Forecaster
         {
             _level = sum.Value / _warmUpLength;
             _startSum = default;
+            _startLevel = _level;
+            _startKnown = true;
         }
         else
         {
@@ -91,6 +107,8 @@ public sealed class ExponentialSmoothing : Forecaster
     {
         _level = _options.Start.Level ?? 0;
         _startSum = default;
+        _startLevel = _level;
+        _startKnown = _options.Start.Kind == LevelStartKind.Given;
     }
 
     // Layout: level, then the two parts of the warm-up sum.
@@ -131,6 +149,11 @@ public sealed class ExponentialSmoothing : Forecaster
     {
         _level = state[0];
         _startSum.LoadFrom(state[1..]);
+        if (_options.Start.Kind != LevelStartKind.Given)
+        {
+            // The state holds the current level only: the start a computed rule gave is no longer known.
+            _startKnown = false;
+        }
     }
 
     [DoesNotReturn]

@@ -38,6 +38,9 @@ public sealed class Holt : Forecaster
     private double _levelPerStartTrend;  // Q (warm-up only; zero afterwards)
     private double _trendPerStartTrend;  // U (warm-up only; zero afterwards)
     private double _firstActual;         // y₁ (warm-up only; zero afterwards)
+    private double _startLevel;          // the start values used (see StartValues)
+    private double _startTrend;
+    private bool _startKnown;
 
     /// <summary>Creates an empty forecaster.</summary>
     /// <param name="options">Validated options.</param>
@@ -70,6 +73,21 @@ public sealed class Holt : Forecaster
     /// <exception cref="InvalidOperationException">The forecaster is not warm yet.</exception>
     public double Trend => WhenWarm(_trend);
 
+    /// <summary>
+    /// The start values this forecaster used: ℓ₀ and b₀ before the first actual (FPP's y₁ and y₂ − y₁ for
+    /// <see cref="HoltStart.FirstTwoActuals"/>, the given values for <see cref="HoltStart.Given"/>), or NIST's S₁ = y₁ and b₁
+    /// after it (<see cref="HoltStart.MeanOfFirstDifferences"/>, <see cref="HoltStart.FirstActualAndTrend"/>).
+    /// </summary>
+    /// <value>
+    /// <see langword="null"/> while a computed start still waits for its actuals, and after <see cref="Forecaster.ImportState"/>
+    /// of a state with a computed start (the state holds the current level and trend, not the start they came from). A given
+    /// start is always known.
+    /// </value>
+    /// <remarks>Allocates the returned record; not for the per-update path.</remarks>
+    public HoltStartValues? StartValues => _startKnown
+        ? new HoltStartValues(_startKind, _startKind is HoltStartKind.FirstTwoActuals or HoltStartKind.Given ? 0 : 1, _startLevel, _startTrend)
+        : null;
+
     private protected override void UpdateCore(double actual)
     {
         long seen = Count;
@@ -85,6 +103,7 @@ public sealed class Holt : Forecaster
             case HoltStartKind.FirstActualAndTrend:
                 // NIST: S₁ = y₁ with the given b₁.
                 Commit(actual, actual, _options.Start.Trend.GetValueOrDefault());
+                KeepStart(actual, _trend);
                 break;
 
             case HoltStartKind.MeanOfFirstDifferences:
@@ -103,6 +122,7 @@ public sealed class Holt : Forecaster
                     Step(first, actual - first, first, out double level1, out double trend1);
                     Step(level1, trend1, actual, out double level2, out double trend2);
                     Commit(actual, level2, trend2);
+                    KeepStart(first, actual - first);
                     _firstActual = 0;
                 }
 
@@ -145,9 +165,17 @@ public sealed class Holt : Forecaster
         // y(d+1) has arrived: b₁ = (y(d+1) − y₁)/d.
         double startTrend = (actual - _firstActual) / (_warmUpLength - 1);
         Commit(actual, p + (q * startTrend), r + (u * startTrend));
+        KeepStart(_firstActual, startTrend);
         _levelPerStartTrend = 0;
         _trendPerStartTrend = 0;
         _firstActual = 0;
+    }
+
+    private void KeepStart(double level, double trend)
+    {
+        _startLevel = level;
+        _startTrend = trend;
+        _startKnown = true;
     }
 
     private void Step(double level, double trend, double actual, out double newLevel, out double newTrend)
@@ -180,6 +208,9 @@ public sealed class Holt : Forecaster
         _levelPerStartTrend = 0;
         _trendPerStartTrend = 0;
         _firstActual = 0;
+        _startLevel = _level;
+        _startTrend = _trend;
+        _startKnown = _startKind == HoltStartKind.Given;
     }
 
     // Layout: level (or P), trend (or R), Q, U, y₁.
@@ -233,6 +264,11 @@ public sealed class Holt : Forecaster
         _levelPerStartTrend = state[2];
         _trendPerStartTrend = state[3];
         _firstActual = state[4];
+        if (_startKind != HoltStartKind.Given)
+        {
+            // The state holds the current level and trend only: the start a computed rule gave is no longer known.
+            _startKnown = false;
+        }
     }
 
     [DoesNotReturn]

@@ -247,6 +247,10 @@ public sealed class PointOfSaleApiTests : IAsyncLifetime
         Assert.StartsWith("sourdough-loaf", lines[7], StringComparison.Ordinal);
         Assert.Equal("GET /alerts: 1 open", lines[8]);
         Assert.Matches(@"^mill-lane/cinnamon-bun: CUSUM.* episode 1, UnderForecast, (Warning|Critical), since 2025-10-\d\d$", lines[9]);
+
+        // The declared two-for-one week (days 14 to 20, sales up 80%): applied, kept out of the error figures, no alert.
+        Assert.Matches(@"^declared promotion applied to mill-lane sourdough-loaf on 7 days, 2025-09-15 to 2025-09-21: they sold 1\.[5-9] times the forecast and are left out of the forecast-error figures; no drift alert was raised for this item during it or in the week after$", lines[10]);
+        Assert.Equal(11, lines.Length);
     }
 
     [Fact]

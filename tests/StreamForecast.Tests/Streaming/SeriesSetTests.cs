@@ -84,6 +84,99 @@ public sealed class SeriesSetTests
     }
 
     [Fact]
+    public async Task DeclareEvent_SameEventsAsAOnePartitionEngine_SameOutputsLiftAndSnapshotBytes()
+    {
+        // room-3's drift from minute 20 declared as a known event (a defrost cycle, say), one of them late.
+        ForecastEngineOptions<string> options = Options(new FakeTimeProvider(Start.AddDays(1)));
+        List<Observation<string>> input = Readings(seed: 13);
+        KnownEvent<string> defrost = KnownEvent.ForSeries("room-3", EventKind.Named("defrost"), Start.AddMinutes(20), Start.AddMinutes(60));
+        KnownEvent<string> closed = KnownEvent.ForAllSeries<string>(EventKind.Closure, Start.AddMinutes(5), Start.AddMinutes(7));
+
+        var engine = new ForecastEngine<string>(options);
+        var recorder = EngineRecorder<string>.Attach(engine);
+        KnownEventReceipt engineReceipt = await engine.DeclareEventAsync(defrost);
+        await engine.PostBatchAsync(input.ToArray());
+        KnownEventReceipt engineLate = await engine.DeclareEventAsync(closed);
+        await engine.FlushAsync();
+        IReadOnlyList<EventLift> engineLift = await engine.GetEventLiftAsync();
+        using var engineBytes = new MemoryStream();
+        await engine.SnapshotAsync(engineBytes, SnapshotKeyCodecs.Utf8String, 5);
+        await engine.DisposeAsync();
+
+        var set = new SeriesSet<string>(options);
+        var sink = new ListSink();
+        KnownEventReceipt setReceipt = set.DeclareEvent(defrost, sink);
+        set.Post(input.ToArray(), sink);
+        KnownEventReceipt setLate = set.DeclareEvent(closed, sink);
+        set.Flush(sink);
+        using var setBytes = new MemoryStream();
+        set.Snapshot(setBytes, SnapshotKeyCodecs.Utf8String, 5);
+
+        Assert.Equal(engineReceipt, setReceipt);
+        Assert.Equal(engineLate, setLate);
+        Assert.Equal(4, setLate.SeriesAffected);
+        Assert.Equal(8, setLate.PeriodsBeyondHorizon); // minutes 5 and 6 of four rooms, closed before a late declaration with no restatement window
+        Assert.Equal(recorder.Forecasts, sink.Forecasts);
+        Assert.Equal(recorder.Alerts, sink.Alerts);
+        Assert.Equal(engineLift, set.GetEventLift());
+        Assert.Equal(["defrost"], set.GetEventLift().Select(l => l.Kind.Name)); // the late closure marked no closed period, so it measured nothing
+        Assert.Equal(engineBytes.ToArray(), setBytes.ToArray());
+        Assert.Equal(SnapshotFormat.EventsVersion, BitConverter.ToUInt16(setBytes.ToArray(), 4));
+    }
+
+    [Fact]
+    public void Restore_SnapshotWithDeclaredEvents_EventsAndLiftComeBackAndTheRunContinuesAsUninterrupted()
+    {
+        ForecastEngineOptions<string> options = Options(new FakeTimeProvider(Start.AddDays(1)));
+        List<Observation<string>> input = Readings(seed: 14);
+        int half = input.FindIndex(o => o.Timestamp >= Start.AddMinutes(30));
+        KnownEvent<string> defrost = KnownEvent.ForSeries("room-3", EventKind.Named("defrost"), Start.AddMinutes(20), Start.AddMinutes(60));
+
+        var whole = new SeriesSet<string>(options);
+        var wholeSink = new ListSink();
+        whole.DeclareEvent(defrost, wholeSink);
+        whole.Post(input.ToArray(), wholeSink);
+        whole.Flush(wholeSink);
+
+        var first = new SeriesSet<string>(options);
+        var firstSink = new ListSink();
+        first.DeclareEvent(defrost, firstSink);
+        first.Post(input.Take(half).ToArray(), firstSink);
+        using var bytes = new MemoryStream();
+        first.Snapshot(bytes, SnapshotKeyCodecs.Utf8String, half);
+        bytes.Position = 0;
+        var second = new SeriesSet<string>(options);
+        second.Restore(bytes, SnapshotKeyCodecs.Utf8String);
+        Assert.Equal(first.GetEventLift(), second.GetEventLift());
+        var secondSink = new ListSink();
+        second.Post(input.Skip(half).ToArray(), secondSink);
+        second.Flush(secondSink);
+
+        Assert.Contains(secondSink.Forecasts, u => u.Key == "room-3" && u.Event is { Name: "defrost" });
+        Assert.Equal(wholeSink.Forecasts, [.. firstSink.Forecasts, .. secondSink.Forecasts]);
+        Assert.Equal(wholeSink.Alerts, [.. firstSink.Alerts, .. secondSink.Alerts]);
+        Assert.Equal(whole.GetEventLift(), second.GetEventLift());
+
+        // Withdrawn after the restore: the restored declaration is the one withdrawn.
+        Assert.Equal(1, second.WithdrawEvent(defrost, secondSink).SeriesAffected);
+        Assert.Equal(default, second.WithdrawEvent(defrost, secondSink));
+    }
+
+    [Fact]
+    public void DeclareEvent_GroupEventWithoutGroupFunction_ThrowsAndChangesNothing()
+    {
+        var set = new SeriesSet<string>(Options(new FakeTimeProvider(Start.AddDays(1))));
+        var sink = new ListSink();
+        set.Post(Readings(seed: 15).ToArray(), sink);
+
+        Assert.Throws<ArgumentException>(() => set.DeclareEvent(KnownEvent.ForGroup<string>("north", EventKind.Promotion, Start, Start.AddMinutes(5)), sink));
+
+        using var bytes = new MemoryStream();
+        set.Snapshot(bytes, SnapshotKeyCodecs.Utf8String, 0);
+        Assert.Equal(SnapshotFormat.CurrentVersion, BitConverter.ToUInt16(bytes.ToArray(), 4));
+    }
+
+    [Fact]
     public void Post_BatchWithOneNonFiniteQuantity_ThrowsAndAppliesNothing()
     {
         var set = new SeriesSet<string>(Options(new FakeTimeProvider(Start.AddDays(1))));
@@ -123,6 +216,23 @@ public sealed class SeriesSetTests
         Assert.Equal(1, counters.Rejected);
         Assert.Equal(1, counters.Observations);
         Assert.Empty(sink.Faults);
+    }
+
+    [Fact]
+    public void Restore_SetHoldsADeclaredEvent_ThrowsAndKeepsIt()
+    {
+        ForecastEngineOptions<string> options = Options(new FakeTimeProvider(Start.AddDays(1)));
+        using var bytes = new MemoryStream();
+        new SeriesSet<string>(options).Snapshot(bytes, SnapshotKeyCodecs.Utf8String, 0);
+        bytes.Position = 0;
+        var set = new SeriesSet<string>(options);
+        KnownEvent<string> closed = KnownEvent.ForAllSeries<string>(EventKind.Closure, Start, Start.AddMinutes(5));
+        set.DeclareEvent(closed, new ListSink());
+
+        Assert.Throws<InvalidOperationException>(() => set.Restore(bytes, SnapshotKeyCodecs.Utf8String));
+        using var after = new MemoryStream();
+        set.Snapshot(after, SnapshotKeyCodecs.Utf8String, 0);
+        Assert.Equal(SnapshotFormat.EventsVersion, BitConverter.ToUInt16(after.ToArray(), 4)); // the declaration is still held
     }
 
     [Fact]

@@ -82,9 +82,9 @@ public sealed partial class ForecastEngine<TKey>
     private async Task<KnownEventReceipt> SendEventAsync(KnownEvent<TKey> knownEvent, bool withdraw, CancellationToken cancellationToken)
     {
         ArgumentNullException.ThrowIfNull(knownEvent);
-        if (!withdraw && knownEvent.Scope == EventScope.Group && Options.Events?.GroupOf is null)
+        if (!withdraw)
         {
-            throw new ArgumentException("A group event needs a group function: give ForecastEngineOptions an EventCalendar with GroupOf set.", nameof(knownEvent));
+            SeriesSet<TKey>.ThrowIfNoGroupFunction(knownEvent, Options);
         }
 
         ThrowIfCompleted();

@@ -56,6 +56,31 @@ public interface IForecastEngine<TKey> : IAsyncDisposable
     /// <returns>A task that completes when the series has done it (nothing happens for an unknown key).</returns>
     Task AcknowledgeAsync(TKey key, CancellationToken cancellationToken = default);
 
+    /// <summary>
+    /// Declares a known event (a promotion, a closure, another named kind) during the run, before or after it happens:
+    /// the series it applies to mark the periods it covers (not scored, kept out of the drift rules, the lift measured),
+    /// and closed periods inside a series' restatement horizon are restated. Declared events are part of the stored state.
+    /// </summary>
+    /// <param name="knownEvent">The event.</param>
+    /// <param name="cancellationToken">Stops waiting (the declaration may still be carried out).</param>
+    /// <returns>What the declaration did, summed over partitions or buckets.</returns>
+    /// <exception cref="ArgumentNullException"><paramref name="knownEvent"/> is null.</exception>
+    /// <exception cref="ArgumentException">A group event, but the options give no group function (<see cref="EventCalendar{TKey}.GroupOf"/>).</exception>
+    /// <remarks>Ordered after everything posted before the call. See <see cref="ForecastEngine{TKey}.DeclareEventAsync"/> for the details.</remarks>
+    Task<KnownEventReceipt> DeclareEventAsync(KnownEvent<TKey> knownEvent, CancellationToken cancellationToken = default);
+
+    /// <summary>Withdraws an event declared with <see cref="DeclareEventAsync"/> (equal in every field), with the same restatement rules.</summary>
+    /// <param name="knownEvent">The event.</param>
+    /// <param name="cancellationToken">Stops waiting (the withdrawal may still be carried out).</param>
+    /// <returns>What the withdrawal did (all zero when the event was not declared).</returns>
+    /// <exception cref="ArgumentNullException"><paramref name="knownEvent"/> is null.</exception>
+    Task<KnownEventReceipt> WithdrawEventAsync(KnownEvent<TKey> knownEvent, CancellationToken cancellationToken = default);
+
+    /// <summary>The lift observed per event kind, summed over every series held (see <see cref="EventLift"/>).</summary>
+    /// <param name="cancellationToken">Stops waiting.</param>
+    /// <returns>One entry per kind met, ordered by kind name.</returns>
+    Task<IReadOnlyList<EventLift>> GetEventLiftAsync(CancellationToken cancellationToken = default);
+
     /// <summary>The counters now, summed over the engine's partitions or the cluster's buckets.</summary>
     /// <param name="cancellationToken">Stops waiting (a cluster asks every bucket).</param>
     /// <returns>The counters.</returns>

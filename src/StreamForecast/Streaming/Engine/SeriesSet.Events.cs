@@ -12,6 +12,68 @@ public sealed partial class SeriesSet<TKey>
     internal void RestoreDeclared(IEnumerable<KnownEvent<TKey>> declared) => _declared.AddRange(declared);
 
     /// <summary>
+    /// Declares a known event at run time, as <see cref="ForecastEngine{TKey}.DeclareEventAsync"/> does on one partition:
+    /// the series held that it applies to mark the periods it covers from now on (series created later pick it up when
+    /// they are created), and their closed periods it covers inside the restatement horizon are restated to
+    /// <paramref name="sink"/>.
+    /// </summary>
+    /// <param name="knownEvent">The event.</param>
+    /// <param name="sink">Receives the restated forecast updates and any alert transitions.</param>
+    /// <returns>What the declaration did in this set.</returns>
+    /// <exception cref="ArgumentNullException">An argument is null.</exception>
+    /// <exception cref="ArgumentException">A group event, but the options give no group function (<see cref="EventCalendar{TKey}.GroupOf"/>); nothing changed.</exception>
+    /// <remarks>
+    /// The event becomes part of the set's state: <see cref="Snapshot"/> writes it and <see cref="Restore"/> reads it
+    /// back. Declaring the same event twice holds it twice. Cost: O(series held) plus, per affected series, resolving its
+    /// events and replaying its restatement window. Single writer.
+    /// </remarks>
+    public KnownEventReceipt DeclareEvent(KnownEvent<TKey> knownEvent, ISeriesSink<TKey> sink)
+    {
+        ArgumentNullException.ThrowIfNull(knownEvent);
+        ArgumentNullException.ThrowIfNull(sink);
+        ThrowIfNoGroupFunction(knownEvent, _options);
+        return Declare(knownEvent, withdraw: false, sink);
+    }
+
+    /// <summary>
+    /// Withdraws an event declared with <see cref="DeclareEvent"/> (equal in every field, keys by the options' key
+    /// comparer), with the same restatement rules; nothing happens for an event not declared here. Events given in
+    /// <see cref="ForecastEngineOptions{TKey}.Events"/> cannot be withdrawn.
+    /// </summary>
+    /// <param name="knownEvent">The event.</param>
+    /// <param name="sink">Receives the restated forecast updates and any alert transitions.</param>
+    /// <returns>What the withdrawal did in this set (all zero when the event was not declared).</returns>
+    /// <exception cref="ArgumentNullException">An argument is null.</exception>
+    /// <remarks>Cost as <see cref="DeclareEvent"/>. Single writer.</remarks>
+    public KnownEventReceipt WithdrawEvent(KnownEvent<TKey> knownEvent, ISeriesSink<TKey> sink)
+    {
+        ArgumentNullException.ThrowIfNull(knownEvent);
+        ArgumentNullException.ThrowIfNull(sink);
+        return Declare(knownEvent, withdraw: true, sink);
+    }
+
+    /// <summary>The lift observed per event kind, summed over the series held (see <see cref="EventLift"/>).</summary>
+    /// <returns>One entry per kind met, ordered by kind name (ordinal).</returns>
+    /// <remarks>O(series held); allocates the result. Single writer.</remarks>
+    public EventLift[] GetEventLift()
+    {
+        var sums = new Dictionary<EventKind, EventLift>();
+        AddLift(sums);
+        EventLift[] all = [.. sums.Values];
+        Array.Sort(all, static (a, b) => string.CompareOrdinal(a.Kind.Name, b.Kind.Name));
+        return all;
+    }
+
+    /// <summary>Refuses a group event when there is no group function to tell which series are in the group.</summary>
+    internal static void ThrowIfNoGroupFunction(KnownEvent<TKey> knownEvent, ForecastEngineOptions<TKey> options)
+    {
+        if (knownEvent.Scope == EventScope.Group && options.Events?.GroupOf is null)
+        {
+            throw new ArgumentException("A group event needs a group function: give ForecastEngineOptions an EventCalendar with GroupOf set.", nameof(knownEvent));
+        }
+    }
+
+    /// <summary>
     /// Declares (or withdraws) a known event at run time: every series it applies to is re-marked, and retained closed
     /// periods whose marking changed are restated to <paramref name="sink"/>. A withdrawal of an event not declared here
     /// changes nothing.

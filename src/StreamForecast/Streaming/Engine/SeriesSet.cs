@@ -285,7 +285,11 @@ public sealed partial class SeriesSet<TKey>
     /// <param name="inputPosition">Where in the caller's input the snapshot stands, ≥ 0; returned by <see cref="Restore"/>.</param>
     /// <exception cref="ArgumentNullException">An argument is null.</exception>
     /// <exception cref="ArgumentOutOfRangeException"><paramref name="inputPosition"/> is negative.</exception>
-    /// <remarks>O(series); allocates the encoded series once (a few hundred bytes per series). Counters are not included. Single writer.</remarks>
+    /// <remarks>
+    /// O(series); allocates the encoded series once (a few hundred bytes per series). Known events declared with
+    /// <see cref="DeclareEvent"/> and the event lift are included (format version 3, as the engine writes); a set without
+    /// them writes version 2. Counters are not included. Single writer.
+    /// </remarks>
     public void Snapshot(Stream destination, ISnapshotKeyCodec<TKey> keyCodec, long inputPosition)
     {
         ArgumentNullException.ThrowIfNull(destination);
@@ -293,7 +297,16 @@ public sealed partial class SeriesSet<TKey>
         ArgumentOutOfRangeException.ThrowIfNegative(inputPosition);
         var section = new SnapshotSection<TKey>(keyCodec);
         section.Write(_series.Values);
-        SnapshotFormat.Write(destination, inputPosition, [Encoding.UTF8.GetBytes(keyCodec.FormatName), section.Bytes]);
+
+        // As the engine: known-event state (declarations, lift) goes into one last section, and only then is the
+        // format version 3; a set without it writes exactly the version 2 bytes.
+        var part = new SnapshotEvents.Part<TKey>();
+        part.Capture(this, first: true);
+        byte[]? events = SnapshotEvents.Write([part], keyCodec);
+        ReadOnlyMemory<byte>[] sections = events is null
+            ? [Encoding.UTF8.GetBytes(keyCodec.FormatName), section.Bytes]
+            : [Encoding.UTF8.GetBytes(keyCodec.FormatName), section.Bytes, events];
+        SnapshotFormat.Write(destination, inputPosition, sections, events is null ? SnapshotFormat.CurrentVersion : SnapshotFormat.EventsVersion);
     }
 
     /// <summary>
@@ -305,9 +318,12 @@ public sealed partial class SeriesSet<TKey>
     /// <param name="keyCodec">How keys were written.</param>
     /// <returns>The input position stored in the snapshot.</returns>
     /// <exception cref="ArgumentNullException">An argument is null.</exception>
-    /// <exception cref="InvalidOperationException">The set already holds series.</exception>
+    /// <exception cref="InvalidOperationException">The set already holds series or declared known events.</exception>
     /// <exception cref="InvalidDataException">The snapshot is damaged, of another version, or does not fit the options.</exception>
-    /// <remarks>O(snapshot length); allocates each series. Counters are left as they are (see <see cref="RestoreCounters"/>). Single writer.</remarks>
+    /// <remarks>
+    /// O(snapshot length); allocates each series. The known events declared at run time and the event lift come back
+    /// with the series (version 3 snapshots). Counters are left as they are (see <see cref="RestoreCounters"/>). Single writer.
+    /// </remarks>
     public long Restore(Stream source, ISnapshotKeyCodec<TKey> keyCodec)
     {
         ArgumentNullException.ThrowIfNull(source);
@@ -317,7 +333,13 @@ public sealed partial class SeriesSet<TKey>
             throw new InvalidOperationException("Restore loads series into an empty set only; this one holds " + _series.Count + " series.");
         }
 
-        (List<SeriesState<TKey>> series, long inputPosition) = ForecastEngine.ReadSnapshot(source, _options, keyCodec);
+        if (_declared.Count > 0)
+        {
+            // The snapshot's declarations replace the set's: refused rather than dropped silently.
+            throw new InvalidOperationException("Restore loads series into an empty set only; this one holds " + _declared.Count + " known events declared with DeclareEvent.");
+        }
+
+        (List<SeriesState<TKey>> series, long inputPosition, List<KnownEvent<TKey>> declared) = ForecastEngine.ReadSnapshotWithEvents(source, _options, keyCodec);
         for (int taken = 0; _budget is not null && taken < series.Count; taken++)
         {
             if (!_budget.TryReserveSeries())
@@ -331,6 +353,9 @@ public sealed partial class SeriesSet<TKey>
             }
         }
 
+        // The declared events first: adopting a series resolves its marks from them.
+        _declared.Clear();
+        _declared.AddRange(declared);
         foreach (SeriesState<TKey> s in series)
         {
             Adopt(s);
