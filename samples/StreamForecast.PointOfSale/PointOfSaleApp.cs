@@ -208,7 +208,9 @@ public static class PointOfSaleApp
                 : TypedResults.Problem(statusCode: StatusCodes.Status404NotFound, title: "No forecast yet.", detail: $"No shop day of {shop}/{item} has closed yet."));
 
         app.MapGet("/alerts", (string? shop, SalesBoard board) => TypedResults.Ok(board.OpenAlerts(shop)));
-        app.MapGet("/events", (SalesBoard board) => TypedResults.Ok(board.Events()));
+        app.MapGet("/events", (SalesBoard board) => TypedResults.Ok(board.Events()))
+            .WithSummary("Lists the declared promotions so far.")
+            .WithDescription("Each declared event: its days, what the item sold against its forecast, and the drift alerts raised during it and in the week after (declared days are left out of the error figures and the drift rules).");
 
         app.MapGet("/status", async (HostedForecastEngine<string> engine, CancellationToken ct) =>
         {
