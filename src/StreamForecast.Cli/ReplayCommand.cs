@@ -42,7 +42,7 @@ internal static class ReplayCommand
             string forecastsPath = parse.GetValue(forecastsOut)!;
             string alertsPath = parse.GetValue(alertsOut)!;
             CsvValueFormat format = common.CsvFormatOf(parse);
-            WriteForecasts(forecastsPath, result.Forecasts, format, settings.Horizon);
+            WriteForecasts(forecastsPath, result.Forecasts, format, settings.Horizon, MethodTexts(settings));
             WriteAlerts(alertsPath, result.Alerts, format);
             PrintSummary(result, format);
             EngineCounters c = result.Counters;
@@ -93,18 +93,45 @@ internal static class ReplayCommand
     }
 
     /// <summary>
-    /// Writes forecasts.csv. The <c>horizon</c> and <c>at_horizon*</c> columns are written only when a horizon beyond 1 was
-    /// asked for (at horizon 1 they would repeat <c>next*</c>). <c>in_interval</c> is 1 when the period's actual fell inside
+    /// Per key, a map from the label a forecast carries (<see cref="ForecasterOptions.MethodName"/>: the series' method or,
+    /// under a selector, the candidate that made it) to that method's text form (<see cref="MethodSpec.Format"/>), which
+    /// <c>--method</c> and methods.json accept.
+    /// </summary>
+    private static Func<string, string, string> MethodTexts(ReplaySettings settings)
+    {
+        static Dictionary<string, string> TextsOf(ForecasterOptions method)
+        {
+            var texts = new Dictionary<string, string>(StringComparer.Ordinal) { [method.MethodName] = MethodSpec.Format(method) };
+            if (method is MethodSelectorOptions selector)
+            {
+                foreach (ForecasterOptions candidate in selector.Candidates)
+                {
+                    texts.TryAdd(candidate.MethodName, MethodSpec.Format(candidate));
+                }
+            }
+
+            return texts;
+        }
+
+        Dictionary<string, string> byDefault = TextsOf(settings.DefaultMethod);
+        var perKey = settings.TunedMethods.ToDictionary(kv => kv.Key, kv => TextsOf(kv.Value), StringComparer.Ordinal);
+        return (key, label) => (perKey.TryGetValue(key, out var texts) ? texts : byDefault).TryGetValue(label, out string? text) ? text : label;
+    }
+
+    /// <summary>
+    /// Writes forecasts.csv. <c>method</c> is the text form of the method that made the row's forecast (accepted by
+    /// <c>--method</c>), <c>method_label</c> its display label. The <c>horizon</c> and <c>at_horizon*</c> columns are
+    /// written only when a horizon beyond 1 was asked for (at horizon 1 they would repeat <c>next*</c>). <c>in_interval</c> is 1 when the period's actual fell inside
     /// the next-period interval published the period before, 0 outside, empty when there was none to score against.
     /// </summary>
-    private static void WriteForecasts(string path, List<ForecastUpdate<string>> forecasts, CsvValueFormat format, int horizon)
+    private static void WriteForecasts(string path, List<ForecastUpdate<string>> forecasts, CsvValueFormat format, int horizon, Func<string, string, string> methodText)
     {
         bool atHorizon = horizon > 1;
         string[] header =
         [
             "key", "period_start", "actual", "imputed", "forecast", "error", "next", "next_lower", "next_upper",
             .. atHorizon ? (string[])["horizon", "at_horizon", "at_horizon_lower", "at_horizon_upper"] : [],
-            "mad", "tracking_signal", "trigg_signal", "method", "restatement", "event", "next_interval_kind",
+            "mad", "tracking_signal", "trigg_signal", "method", "method_label", "restatement", "event", "next_interval_kind",
             .. atHorizon ? (string[])["at_horizon_interval_kind"] : [],
             "interval_coverage", "in_interval",
         ];
@@ -116,7 +143,7 @@ internal static class ReplayCommand
             f.Key, format.Time(f.PeriodStart), format.Number(f.Actual), f.IsImputed ? "1" : "0",
             format.Number(f.ForecastForPeriod), format.Number(f.Error), format.Number(f.Next.Value), format.Number(f.Next.Lower), format.Number(f.Next.Upper),
             .. atHorizon ? (string[])[f.AtHorizon.Horizon.ToString(CultureInfo.InvariantCulture), format.Number(f.AtHorizon.Value), format.Number(f.AtHorizon.Lower), format.Number(f.AtHorizon.Upper)] : [],
-            format.Number(f.Errors.Mad), format.Number(f.Errors.TrackingSignal), format.Number(f.Errors.TriggSignal), f.Method, f.IsRestatement ? "1" : "0", f.Event?.Name ?? string.Empty,
+            format.Number(f.Errors.Mad), format.Number(f.Errors.TrackingSignal), format.Number(f.Errors.TriggSignal), methodText(f.Key, f.Method), f.Method, f.IsRestatement ? "1" : "0", f.Event?.Name ?? string.Empty,
             KindOf(f.Next),
             .. atHorizon ? (string[])[KindOf(f.AtHorizon)] : [],
             format.Number(f.Next.Coverage), inside[row++],

@@ -219,11 +219,15 @@ public sealed class CommandLineToolTests : IDisposable
 
         Assert.True(result.ExitCode == 0, result.ToString());
         string[] lines = [.. File.ReadLines(_tool.PathOf("forecasts.csv"))];
-        int column = Array.IndexOf(lines[0].Split(','), "method");
-        Assert.True(column >= 0, lines[0]);
+        string[] header = lines[0].Split(',');
+        int column = Array.IndexOf(header, "method_label"), text = Array.IndexOf(header, "method");
+        Assert.True(column >= 0 && text >= 0, lines[0]);
         var labels = lines.Skip(1).Select(l => l.Split(',')[column]).ToHashSet();
         Assert.Subset(new HashSet<string> { "Naive", "MA(3)" }, labels);
         Assert.Contains("Naive", labels); // the first candidate warm is published first
+        // The method column holds the candidate's text form, which --method accepts.
+        var pairs = lines.Skip(1).Select(l => l.Split(',')).Select(r => (r[text], r[column])).ToHashSet();
+        Assert.Subset(new HashSet<(string, string)> { ("naive", "Naive"), ("ma:3", "MA(3)") }, pairs);
     }
 
     [Theory]
@@ -419,15 +423,22 @@ public sealed class CommandLineToolTests : IDisposable
 
         Assert.True(replay.ExitCode == 0, replay.ToString());
         string[] header = File.ReadLines(_tool.PathOf("forecasts.csv")).First().Split(',');
-        int key = Array.IndexOf(header, "key"), method = Array.IndexOf(header, "method");
-        foreach (string line in File.ReadLines(_tool.PathOf("forecasts.csv")).Skip(1))
+        int key = Array.IndexOf(header, "key"), method = Array.IndexOf(header, "method_label"), text = Array.IndexOf(header, "method");
+        var texts = config.RootElement.GetProperty("series").EnumerateArray()
+            .ToDictionary(s => s.GetProperty("key").GetString()!, s => s.GetProperty("method").GetString()!);
+        int checkedRows = 0;
+        using (var reader = new Microsoft.VisualBasic.FileIO.TextFieldParser(_tool.PathOf("forecasts.csv")) { Delimiters = [","], HasFieldsEnclosedInQuotes = true })
         {
-            string[] row = line.Split(',');
-            if (row.Length == header.Length)
+            reader.ReadFields(); // the header
+            while (reader.ReadFields() is { } row)
             {
                 Assert.Equal(labels[row[key]], row[method]);
+                Assert.Equal(texts[row[key]], row[text]); // the text form methods.json holds: round-trips through --method
+                checkedRows++;
             }
         }
+
+        Assert.True(checkedRows > 0);
 
         Assert.All(labels.Values, label => Assert.Contains(label, replay.Output, StringComparison.Ordinal));
     }
