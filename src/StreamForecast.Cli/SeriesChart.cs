@@ -94,7 +94,9 @@ internal static class SeriesChart
 
         plot.Axes.Bottom.TickGenerator = ticks;
         double pad = Math.Max(periodLength.TotalDays / 2, (last - first).TotalDays * 0.01);
-        plot.Axes.SetLimitsX(first.ToOADate() - pad, last.ToOADate() + pad);
+        // A tick on the last period would have half its label cut off at the right edge: leave room for it.
+        double right = Math.Max(pad, (last - first).TotalDays * 0.045);
+        plot.Axes.SetLimitsX(first.ToOADate() - pad, last.ToOADate() + right);
     }
 
     private static void AddMarkers(ScottPlot.Plot plot, ChartData data)
