@@ -9,7 +9,7 @@ using StreamForecast.Streaming;
 namespace StreamForecast.Benchmarks;
 
 /// <summary>
-/// End to end at 100k long keys: post → bounded channel → period bucketing → forecast → observable subscriber, with 1
+/// End to end at 100k and 1M long keys (1k only when STREAMFORECAST_BENCH_SMOKE=1, the CI dry run): post → bounded channel → period bucketing → forecast → observable subscriber, with 1
 /// and 2 partitions, against the raw single-thread dictionary lookup + full step (the baseline) and a bounded
 /// channel hop with one writer and one reader (the ingestion floor). One invocation posts <see cref="Ops"/>
 /// observations (10 periods of every key, a fresh random key order each period) and waits until the subscriber has
@@ -19,9 +19,16 @@ namespace StreamForecast.Benchmarks;
 public class EngineThroughputBenchmarks
 {
     private const int Ops = 1_000_000;
-    private const int Keys = 100_000;
     private const int WarmRounds = 14;
     private static readonly long s_t0 = new DateTimeOffset(2024, 1, 1, 0, 0, 0, TimeSpan.Zero).UtcTicks;
+
+    /// <summary>How many keys: 100k and 1M; only 1k when STREAMFORECAST_BENCH_SMOKE=1 (the CI dry run, which must stay short).</summary>
+    public static IEnumerable<int> KeyCounts =>
+        Environment.GetEnvironmentVariable("STREAMFORECAST_BENCH_SMOKE") == "1" ? [1_000] : [100_000, 1_000_000];
+
+    /// <summary>The number of keys; <see cref="Ops"/> observations per invocation are <see cref="Ops"/> ÷ keys periods of every key.</summary>
+    [ParamsSource(nameof(KeyCounts))]
+    public int Keys { get; set; }
 
     private long[] _keys = [];
     private int[] _order = [];
@@ -53,7 +60,7 @@ public class EngineThroughputBenchmarks
 
         for (int i = 0; i < WarmRounds; i++)
         {
-            RawRound(i % 10);
+            RawRound(i % (Ops / Keys));
         }
     }
 

@@ -112,6 +112,32 @@ public sealed class DeliveryBufferTests
         Assert.Equal(DeliveryBuffer<int>.DeferredWakeItems, buffer.Take(batch));
     }
 
+    [Fact]
+    public async Task WaitForRoomAsync_Full_CompletesOnceTheReaderHasTakenEnoughAndOnClose()
+    {
+        var buffer = new DeliveryBuffer<int>(100);
+        Assert.True(buffer.WaitForRoomAsync(100).IsCompleted); // empty: room already, no wait
+        for (int i = 0; i < 100; i++)
+        {
+            buffer.Write(i, out _);
+        }
+
+        Task room = buffer.WaitForRoomAsync(30);
+        Assert.False(room.IsCompleted);
+        int[] batch = new int[20];
+        Assert.Equal(20, buffer.Take(batch)); // 20 free: not yet
+        Assert.False(room.IsCompleted);
+        Assert.Equal(20, buffer.Take(batch)); // 40 free
+        await room.WaitAsync(s_guard);
+
+        // More room than the capacity is capped at the capacity; closing releases a waiter.
+        Task all = buffer.WaitForRoomAsync(1_000);
+        Assert.False(all.IsCompleted);
+        buffer.Close(discard: false);
+        await all.WaitAsync(s_guard);
+        Assert.True(buffer.WaitForRoomAsync(1).IsCompleted);
+    }
+
     private static async Task AsleepAsync<T>(DeliveryBuffer<T> buffer)
     {
         // Waits (bounded by the guard) until the reader has found the ring empty and gone to sleep.

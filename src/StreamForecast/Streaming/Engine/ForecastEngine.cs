@@ -24,7 +24,10 @@ namespace StreamForecast.Streaming;
 /// carried them out.</para>
 /// <para><b>Publishing.</b> <see cref="Forecasts"/>, <see cref="Alerts"/> and <see cref="Faults"/> are push streams: each
 /// subscriber has its own bounded buffer and delivery loop, so a slow subscriber loses its own oldest items (counted)
-/// and a throwing subscriber is reported on <see cref="Faults"/> without ending anyone's stream. The pull readers
+/// and a throwing subscriber is reported on <see cref="Faults"/> without ending anyone's stream. A flush or a watermark,
+/// which can close a period in every series at once, is paced instead: its updates go out a slice at a time, and the
+/// partition waits for a push subscriber that is behind before the next slice (at most one second per stalled
+/// subscriber and sweep; see <see cref="PublishingOptions.SubscriberCapacity"/>). The pull readers
 /// (<see cref="ReadForecastsAsync"/>, <see cref="ReadAlertsAsync"/>) apply backpressure instead: while one is full,
 /// the partitions wait.</para>
 /// <para><b>Thread safety.</b> Every public member is thread-safe. A snapshot covers what was posted before the call
@@ -222,6 +225,7 @@ public sealed partial class ForecastEngine<TKey> : IForecastEngine<TKey>
     }
 
     /// <summary>Closes, in every series, each period that ends at or before <paramref name="watermark"/>: the caller says no earlier events will come.</summary>
+    /// <remarks>O(series + closed periods). Published a slice at a time with the same pacing as <see cref="FlushAsync"/>.</remarks>
     /// <param name="watermark">The event time every series has reached.</param>
     /// <param name="cancellationToken">Stops waiting (the command may still run).</param>
     /// <returns>A task that completes when every partition has done it.</returns>
@@ -229,6 +233,12 @@ public sealed partial class ForecastEngine<TKey> : IForecastEngine<TKey>
         BroadcastAsync(MessageKind.Advance, watermark, cancellationToken);
 
     /// <summary>Closes every open period of every series, including the one holding its latest event (end of input).</summary>
+    /// <remarks>
+    /// O(series). The updates are published a slice at a time and, before each next slice, each partition waits until
+    /// every push subscriber has room for it (backpressure during the flush instead of drops; a subscriber that makes
+    /// no room within one second is not waited for again in this flush). The outputs and their order per partition are
+    /// those of <see cref="SeriesSet{TKey}.Flush"/>; while a partition flushes it takes no other queue item.
+    /// </remarks>
     /// <param name="cancellationToken">Stops waiting (the command may still run).</param>
     /// <returns>A task that completes when every partition has done it.</returns>
     public Task FlushAsync(CancellationToken cancellationToken = default) =>

@@ -25,7 +25,7 @@ public sealed record ForecastEngineOptions<TKey>
     /// <param name="queueCapacity">Observations each partition's queue holds (default 16,384; 1 to 10,000,000).</param>
     /// <param name="fullMode">What happens when a queue is full (default <see cref="IngestionFullMode.Wait"/>).</param>
     /// <param name="onDropped">Called with each observation dropped under <see cref="IngestionFullMode.DropNewest"/> (default: none; drops are counted either way).</param>
-    /// <param name="timeProvider">The only source of time: idle timeouts and the future check (default <see cref="TimeProvider.System"/>).</param>
+    /// <param name="timeProvider">The only source of time: idle timeouts, the future check and how long a flush waits for a stalled subscriber (default <see cref="TimeProvider.System"/>).</param>
     /// <param name="maxEventTimeAhead">
     /// Events stamped further than this ahead of the time provider's clock are rejected at post (a broken clock would
     /// otherwise close every period up to the far future; default 1 day; <see cref="Timeout.InfiniteTimeSpan"/> turns the check off).

@@ -5,7 +5,9 @@ public enum IngestionFullMode
 {
     /// <summary>
     /// <see cref="ForecastEngine{TKey}.TryPost"/> returns <see langword="false"/> and the caller decides;
-    /// <see cref="ForecastEngine{TKey}.PostAsync"/> waits for room (backpressure). Nothing is dropped.
+    /// <see cref="ForecastEngine{TKey}.PostAsync"/> waits for room (backpressure): a post that found the queue full
+    /// resumes once the partition has drained it to half its capacity, so that a sustained overload wakes the posting
+    /// code once per half queue rather than once per observation. Nothing is dropped.
     /// </summary>
     Wait = 0,
 

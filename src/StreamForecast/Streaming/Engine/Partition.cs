@@ -1,5 +1,3 @@
-using System.Threading.Channels;
-
 namespace StreamForecast.Streaming;
 
 /// <summary>
@@ -9,23 +7,38 @@ namespace StreamForecast.Streaming;
 internal sealed class Partition<TKey> : ISeriesSink<TKey>, ISeriesBudget
     where TKey : notnull
 {
+    /// <summary>
+    /// How long a sweep waits for push subscribers to make room for the next slice, measured on the engine's
+    /// <see cref="ForecastEngineOptions{TKey}.TimeProvider"/>: after it, the rest of that sweep is published without
+    /// waiting and a full buffer drops its oldest items as usual (a blocked observer cannot hold a flush for longer).
+    /// </summary>
+    internal static readonly TimeSpan SweepStallLimit = TimeSpan.FromSeconds(1);
+
     private readonly ForecastEngine<TKey> _engine;
-    private readonly Channel<Message> _queue;
+    /// <summary>The most queue items the loop takes at once (fewer when the queue is smaller).</summary>
+    private const int MaxBatch = 256;
+
+    private readonly PartitionQueue<Message> _queue;
+    private readonly Message[] _batch;
     private readonly SeriesSet<TKey> _table;
     private readonly Queue<ForecastUpdate<TKey>> _pendingForecasts = new();
     private readonly Queue<DriftAlert<TKey>> _pendingAlerts = new();
+
+    // A flush or an advance closes periods this many at a time, then waits until each push subscriber has room for
+    // twice as many (see SweepAsync): a quarter of a subscriber buffer, between 1 and 4,096.
+    private readonly int _sweepSlice;
+
+    // How many items of the batch the loop holds are not handled yet (part of QueueDepth).
+    private int _unhandled;
 
     public Partition(ForecastEngine<TKey> engine, int index)
     {
         _engine = engine;
         Index = index;
-        _queue = Channel.CreateBounded<Message>(new BoundedChannelOptions(engine.Options.QueueCapacity)
-        {
-            SingleReader = true,
-            SingleWriter = false,
-            FullMode = BoundedChannelFullMode.Wait,
-        });
+        _queue = new PartitionQueue<Message>(engine.Options.QueueCapacity);
+        _batch = new Message[Math.Min(MaxBatch, engine.Options.QueueCapacity)];
         _table = new SeriesSet<TKey>(engine.Options, this);
+        _sweepSlice = Math.Clamp(engine.Options.Publishing.SubscriberCapacity / 4, 1, 4096);
     }
 
     public int Index { get; }
@@ -35,7 +48,8 @@ internal sealed class Partition<TKey> : ISeriesSink<TKey>, ISeriesBudget
 
     public Task Loop { get; private set; } = Task.CompletedTask;
 
-    public int QueueDepth => _queue.Reader.Count;
+    /// <summary>Items waiting: in the queue, and taken by the loop but not yet handled.</summary>
+    public int QueueDepth => _queue.Count + Volatile.Read(ref _unhandled);
 
     public int SeriesCount => _table.Count;
 
@@ -46,11 +60,11 @@ internal sealed class Partition<TKey> : ISeriesSink<TKey>, ISeriesBudget
 
     public void Adopt(SeriesState<TKey> state) => _table.Adopt(state);
 
-    public bool TryWrite(in Message message) => _queue.Writer.TryWrite(message);
+    public bool TryWrite(in Message message) => _queue.TryWrite(in message);
 
-    public ValueTask WriteAsync(Message message, CancellationToken cancellationToken) => _queue.Writer.WriteAsync(message, cancellationToken);
+    public ValueTask WriteAsync(Message message, CancellationToken cancellationToken) => _queue.WriteAsync(message, cancellationToken);
 
-    public void CompleteQueue() => _queue.Writer.TryComplete();
+    public void CompleteQueue() => _queue.Complete();
 
     bool ISeriesBudget.TryReserveSeries() => _engine.TryReserveSeries();
 
@@ -76,16 +90,34 @@ internal sealed class Partition<TKey> : ISeriesSink<TKey>, ISeriesBudget
 
     private async Task RunAsync()
     {
-        ChannelReader<Message> reader = _queue.Reader;
-        while (await reader.WaitToReadAsync().ConfigureAwait(false))
+        PartitionQueue<Message> queue = _queue;
+        Message[] batch = _batch;
+        while (await queue.WaitToReadAsync().ConfigureAwait(false))
         {
-            while (reader.TryRead(out Message message))
+            // A batch per lock: the queue's writers and this loop meet once per batch, not once per item.
+            int taken;
+            while ((taken = queue.Take(batch)) > 0)
             {
-                Handle(message);
-                if (_pendingForecasts.Count > 0 || _pendingAlerts.Count > 0)
+                Volatile.Write(ref _unhandled, taken);
+                for (int i = 0; i < taken; i++)
                 {
-                    WakeSubscribers();
-                    await DrainPendingAsync().ConfigureAwait(false);
+                    if (batch[i].Kind is MessageKind.Flush or MessageKind.Advance)
+                    {
+                        await SweepAsync(batch[i]).ConfigureAwait(false);
+                    }
+                    else
+                    {
+                        Handle(in batch[i]);
+                    }
+
+                    // Let go of what the item references (a command's completion, a visitor, the key and event id).
+                    batch[i] = default;
+                    Volatile.Write(ref _unhandled, taken - i - 1);
+                    if (_pendingForecasts.Count > 0 || _pendingAlerts.Count > 0)
+                    {
+                        WakeSubscribers();
+                        await DrainPendingAsync().ConfigureAwait(false);
+                    }
                 }
             }
 
@@ -111,6 +143,74 @@ internal sealed class Partition<TKey> : ISeriesSink<TKey>, ISeriesBudget
         while (_pendingAlerts.TryDequeue(out DriftAlert<TKey> alert))
         {
             await _engine.AlertPublisher.PublishAsync(alert).ConfigureAwait(false);
+        }
+    }
+
+    /// <summary>
+    /// A flush or an advance, which can close a period in every series at once (millions of updates in one burst, far
+    /// more than a subscriber buffer holds): closes them a slice at a time and, before each next slice, waits until
+    /// every push subscriber has room for it, so that a subscriber that keeps up with the steady stream loses nothing
+    /// to the burst. The outputs and their order are those of an unpaced sweep. The partition takes no other queue item
+    /// meanwhile (backpressure on posts during a flush). A subscriber that makes no room for
+    /// <see cref="SweepStallLimit"/> is not waited for again in this sweep.
+    /// </summary>
+    private async Task SweepAsync(Message message)
+    {
+        bool flush = message.Kind == MessageKind.Flush;
+        long ticks = message.Time.UtcTicks;
+        bool pace = true;
+        try
+        {
+            _table.BeginSweep();
+            while (_table.SweepSlice(flush, ticks, _sweepSlice, this))
+            {
+                if (_pendingForecasts.Count > 0 || _pendingAlerts.Count > 0)
+                {
+                    WakeSubscribers();
+                    await DrainPendingAsync().ConfigureAwait(false);
+                }
+
+                if (pace)
+                {
+                    pace = await WaitForRoomAsync().ConfigureAwait(false);
+                }
+            }
+
+            _table.EndSweep();
+            message.Done?.TrySetResult();
+        }
+        catch (Exception ex) when (message.Done is not null)
+        {
+            message.Done.TrySetException(ex);
+        }
+        catch (Exception ex) when (ex is not OutOfMemoryException)
+        {
+            _engine.CountRejected();
+            _engine.PublishFault(new SeriesFault<TKey>(message.Observation.Key, 0, SeriesFaultKind.InternalError, ex.ToString()));
+        }
+    }
+
+    /// <summary>Waits until every push subscriber has room for two slices; <see langword="false"/> when one stalled.</summary>
+    private async ValueTask<bool> WaitForRoomAsync()
+    {
+        int room = 2 * _sweepSlice;
+        Task forecasts = _engine.ForecastPublisher.WaitForPushRoomAsync(room);
+        Task alerts = _engine.AlertPublisher.WaitForPushRoomAsync(room);
+        if (forecasts.IsCompleted && alerts.IsCompleted)
+        {
+            return true;
+        }
+
+        // Wake whoever the deferred publishes of this slice left asleep, then yield until they have caught up.
+        WakeSubscribers();
+        try
+        {
+            await Task.WhenAll(forecasts, alerts).WaitAsync(SweepStallLimit, _engine.Options.TimeProvider).ConfigureAwait(false);
+            return true;
+        }
+        catch (TimeoutException)
+        {
+            return false;
         }
     }
 

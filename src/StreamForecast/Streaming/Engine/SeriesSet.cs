@@ -366,8 +366,14 @@ public sealed partial class SeriesSet<TKey>
 
     private Output Use(ISeriesSink<TKey> sink)
     {
-        _output.Sink = sink;
-        return _output;
+        // Compared first: an engine partition passes the same sink every time, and a reference store costs a write barrier.
+        Output output = _output;
+        if (!ReferenceEquals(output.Sink, sink))
+        {
+            output.Sink = sink;
+        }
+
+        return output;
     }
 
     private bool TryReserveSeries() => _budget?.TryReserveSeries() ?? _count < _options.MaxSeries;

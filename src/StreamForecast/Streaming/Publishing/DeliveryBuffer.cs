@@ -41,6 +41,10 @@ internal sealed class DeliveryBuffer<T>
     private bool _closed;
     private bool _readerWaiting;
 
+    // A paced writer (an owner loop's sweep) waiting for room; completed by the reader's Take or by Close.
+    private TaskCompletionSource? _roomWaiter;
+    private int _roomWanted;
+
     public DeliveryBuffer(int capacity)
     {
         Debug.Assert(capacity >= 1, "validated by PublishingOptions");
@@ -138,12 +142,50 @@ internal sealed class DeliveryBuffer<T>
     }
 
     /// <summary>
+    /// Writer side, for a paced burst (an owner loop closing many periods at once): completes when at least
+    /// <paramref name="room"/> items (at most the capacity) can be written without dropping, or when the buffer is closed.
+    /// A reader left asleep by deferred writes is woken first.
+    /// </summary>
+    /// <param name="room">How many free slots to wait for, ≥ 1.</param>
+    /// <returns>A completed task when there is room already (no allocation); otherwise one the reader completes.</returns>
+    /// <remarks>One waiter at a time (the owner loops wait one after another on a subscriber); a second call while one
+    /// waits shares its task and the larger room.</remarks>
+    public Task WaitForRoomAsync(int room)
+    {
+        Debug.Assert(room >= 1, "a paced writer waits for at least one slot");
+        Task task;
+        bool wake;
+        lock (_lock)
+        {
+            room = Math.Min(room, _capacity);
+            if (_closed || _capacity - _count >= room)
+            {
+                return Task.CompletedTask;
+            }
+
+            _roomWanted = Math.Max(_roomWanted, room);
+            _roomWaiter ??= new TaskCompletionSource(TaskCreationOptions.RunContinuationsAsynchronously);
+            task = _roomWaiter.Task;
+            wake = _readerWaiting;
+            _readerWaiting = false;
+        }
+
+        if (wake)
+        {
+            WakeReader();
+        }
+
+        return task;
+    }
+
+    /// <summary>
     /// Ends writing. With <paramref name="discard"/> the buffered items are thrown away (an unsubscribe); otherwise the
     /// reader still takes them. Idempotent.
     /// </summary>
     public void Close(bool discard)
     {
         bool wake;
+        TaskCompletionSource? waiter;
         lock (_lock)
         {
             _closed = true;
@@ -156,8 +198,12 @@ internal sealed class DeliveryBuffer<T>
 
             wake = _readerWaiting;
             _readerWaiting = false;
+            waiter = _roomWaiter;
+            _roomWaiter = null;
+            _roomWanted = 0;
         }
 
+        waiter?.TrySetResult();
         if (wake)
         {
             WakeReader();
@@ -219,9 +265,11 @@ internal sealed class DeliveryBuffer<T>
     /// <returns>How many items were taken (0 when the ring is empty).</returns>
     public int Take(T[] batch)
     {
+        TaskCompletionSource? waiter = null;
+        int n;
         lock (_lock)
         {
-            int n = Math.Min(_count, batch.Length);
+            n = Math.Min(_count, batch.Length);
             if (n == 0)
             {
                 return 0;
@@ -245,8 +293,17 @@ internal sealed class DeliveryBuffer<T>
             }
 
             _count -= n;
-            return n;
+            if (_roomWaiter is not null && _capacity - _count >= _roomWanted)
+            {
+                waiter = _roomWaiter;
+                _roomWaiter = null;
+                _roomWanted = 0;
+            }
         }
+
+        // Outside the lock: the waiter's continuation runs elsewhere (RunContinuationsAsynchronously) either way.
+        waiter?.TrySetResult();
+        return n;
     }
 
     private void WakeReader()

@@ -6,6 +6,26 @@ namespace StreamForecast.Streaming;
 /// <content>The push side of the publisher: one subscriber's buffer and delivery loop.</content>
 internal sealed partial class Publisher<T>
 {
+    /// <summary>How many items each push subscriber may hold (<see cref="PublishingOptions.SubscriberCapacity"/>).</summary>
+    public int SubscriberCapacity => _subscriberCapacity;
+
+    /// <summary>
+    /// For an owner loop that publishes a burst (a flush or a watermark closing many periods at once): completes when every
+    /// push subscriber attached now has room for <paramref name="room"/> more items (at most its capacity), so that the
+    /// next part of the burst drops nothing. A subscriber detached or completed meanwhile no longer counts.
+    /// </summary>
+    /// <param name="room">How many free slots to wait for in each subscriber's buffer, ≥ 1.</param>
+    /// <returns>A task that completes when there is room; completed at once, without allocating, when there is already.</returns>
+    /// <remarks>O(subscribers). Pull readers are not waited for here (publishing waits for them item by item). Thread-safe.</remarks>
+    public async Task WaitForPushRoomAsync(int room)
+    {
+        PushSubscriber[] subscribers = _subscribers;
+        for (int i = 0; i < subscribers.Length; i++)
+        {
+            await subscribers[i].WaitForRoomAsync(room).ConfigureAwait(false);
+        }
+    }
+
     /// <summary>One push subscriber: its buffer (a drop-oldest ring, see <see cref="DeliveryBuffer{T}"/>) and its delivery loop.</summary>
     private sealed class PushSubscriber : IDeliveryControl
     {
@@ -45,6 +65,8 @@ internal sealed partial class Publisher<T>
         }
 
         public void WakeIfPending() => _buffer.WakeIfPending();
+
+        public Task WaitForRoomAsync(int room) => _buffer.WaitForRoomAsync(room);
 
         /// <summary>Starts the delivery loop on a background thread of its own (see <see cref="DeliveryBuffer{T}"/> for why).</summary>
         public void Start() => new Thread(Run) { IsBackground = true, Name = "StreamForecast delivery " + Handle.Id }.Start();

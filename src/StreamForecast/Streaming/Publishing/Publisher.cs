@@ -16,7 +16,8 @@ namespace StreamForecast.Streaming;
 /// items per take (see <see cref="DeliveryBuffer{T}"/>: one short lock per published item, one per batch delivered,
 /// one wake-up per idle-to-busy change). When a buffer is full the oldest item is dropped, counted on the subscription and
 /// reported to the dropped-item callback. An observer's exception is caught, counted and reported to the fault
-/// callback; delivery goes on for that observer and every other one. The publisher never calls
+/// callback; delivery goes on for that observer and every other one. An owner loop that publishes a burst (a flush)
+/// paces it with <c>WaitForPushRoomAsync</c> between slices instead of letting the buffers drop. The publisher never calls
 /// <see cref="IObserver{T}.OnError"/> except after <see cref="Complete"/> with an error.</para>
 /// <para><b>Pull readers</b> (<see cref="OpenReader"/>, <see cref="ReadAllAsync"/>) get backpressure instead of
 /// drops: an item is published to everyone or to no one, and while any reader's buffer is full

@@ -20,7 +20,13 @@ public sealed record PublishingOptions
     /// How many undelivered items each push subscriber (an <see cref="IObserver{T}"/>) may hold, 1 to 10,000,000;
     /// default 10,000. When a slow subscriber's buffer is full, each new item drops that subscriber's oldest
     /// buffered item, counts it in <see cref="DeliverySubscription.DroppedCount"/> and reports it to the
-    /// drop callback. Publishing never waits for a push subscriber.
+    /// drop callback. Publishing never waits for a push subscriber, with one exception: an engine's flush or watermark
+    /// (<see cref="ForecastEngine{TKey}.FlushAsync"/>, <see cref="ForecastEngine{TKey}.AdvanceAsync"/>), which can close a
+    /// period in every series at once, publishes what it closes a slice at a time (a quarter of this capacity, at most
+    /// 4,096 periods) and before each next slice waits until every push subscriber has room for two slices, so that a
+    /// subscriber that keeps up with the steady stream loses nothing to the burst. Meanwhile that partition takes no
+    /// other queue item (posts wait or are dropped as for any full queue). A subscriber that makes no such room within
+    /// one second (on the engine's <see cref="ForecastEngineOptions{TKey}.TimeProvider"/>) is not waited for again during that flush or watermark.
     /// </param>
     /// <param name="readerCapacity">
     /// How many unread items each pull reader may hold, 1 to 10,000,000; default 10,000. When any pull reader is
