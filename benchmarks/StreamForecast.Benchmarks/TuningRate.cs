@@ -16,31 +16,38 @@ namespace StreamForecast.Benchmarks;
 /// </summary>
 internal static class TuningRate
 {
-    public static int Run(int count, bool fitStartValues)
+    public static int Run(int count, bool fitStartValues, int[] degrees)
     {
         KeyValuePair<string, double[]>[] histories = TuningWorkload.Generate(count);
-        SeriesTuner.TuneMany(histories[..Math.Min(20, count)], TuningWorkload.Options(2, fitStartValues)); // JIT warm-up
+        SeriesTuner.TuneMany(histories[..Math.Min(4, count)], TuningWorkload.Options(2, fitStartValues)); // JIT warm-up
         string fingerprint = "";
-        foreach (int degree in (int[])[1, 2])
+        foreach (int degree in degrees)
         {
             Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"load average before: {LoadAverage()}"));
+            TimeSpan cpu = Process.GetCurrentProcess().TotalProcessorTime;
             var clock = Stopwatch.StartNew();
             ImmutableArray<KeyValuePair<string, TuningResult>> results = SeriesTuner.TuneMany(histories, TuningWorkload.Options(degree, fitStartValues));
             clock.Stop();
+            cpu = Process.GetCurrentProcess().TotalProcessorTime - cpu;
             (double rmse, double mase) = TuningWorkload.AverageChosenError(results);
             string print = Fingerprint(results);
             Console.WriteLine(string.Create(CultureInfo.InvariantCulture,
-                $"{count} series, fitStartValues={fitStartValues}, {degree} worker(s): {clock.Elapsed.TotalSeconds:F2} s, {count / clock.Elapsed.TotalSeconds:F1} series/s; average chosen RMSE {rmse:R}, MASE {mase:R}; fingerprint {print}; load average after: {LoadAverage()}"));
+                $"{count} series, fitStartValues={fitStartValues}, {degree} worker(s): {clock.Elapsed.TotalSeconds:F2} s, {count / clock.Elapsed.TotalSeconds:F1} series/s, CPU {cpu.TotalMilliseconds / count:F2} ms per series; average chosen RMSE {rmse:R}, MASE {mase:R}; fingerprint {print}; load average after: {LoadAverage()}"));
             if (fingerprint.Length > 0 && fingerprint != print)
             {
-                Console.WriteLine("the fingerprints differ between 1 and 2 workers");
+                Console.WriteLine("the fingerprints differ between worker counts");
                 return 1;
             }
 
             fingerprint = print;
         }
 
-        PrintEvaluations(Math.Min(count, 100), fitStartValues);
+        if (!fitStartValues)
+        {
+            PrintEvaluations(Math.Min(count, 100));
+        }
+
+
         return 0;
     }
 
@@ -48,17 +55,17 @@ internal static class TuningRate
     /// Objective evaluations (runs of a forecaster over the fitting window) per fit, averaged over the regular-sales series
     /// among the first <paramref name="count"/>: a count that does not depend on the machine's load.
     /// </summary>
-    private static void PrintEvaluations(int count, bool fitStartValues)
+    private static void PrintEvaluations(int count)
     {
         (string Name, Func<double[], FittedMethod> Fit)[] families =
         [
             ("exponential smoothing", w => MethodFitter.FitExponentialSmoothing(w)),
             ("Holt", w => MethodFitter.FitHolt(w)),
             ("Holt damped", w => MethodFitter.FitHolt(w, damped: true)),
-            ("Holt-Winters additive", w => MethodFitter.FitHoltWinters(w, 7, fitStartValues: fitStartValues)),
-            ("Holt-Winters additive damped", w => MethodFitter.FitHoltWinters(w, 7, damped: true, fitStartValues: fitStartValues)),
-            ("Holt-Winters multiplicative", w => MethodFitter.FitHoltWinters(w, 7, Seasonality.Multiplicative, fitStartValues: fitStartValues)),
-            ("Holt-Winters multiplicative damped", w => MethodFitter.FitHoltWinters(w, 7, Seasonality.Multiplicative, damped: true, fitStartValues: fitStartValues)),
+            ("Holt-Winters additive", w => MethodFitter.FitHoltWinters(w, 7)),
+            ("Holt-Winters additive damped", w => MethodFitter.FitHoltWinters(w, 7, damped: true)),
+            ("Holt-Winters multiplicative", w => MethodFitter.FitHoltWinters(w, 7, Seasonality.Multiplicative)),
+            ("Holt-Winters multiplicative damped", w => MethodFitter.FitHoltWinters(w, 7, Seasonality.Multiplicative, damped: true)),
         ];
         foreach ((string name, Func<double[], FittedMethod> fit) in families)
         {
