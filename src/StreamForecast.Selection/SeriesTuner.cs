@@ -251,7 +251,7 @@ public static class SeriesTuner
                 add(fit.Method);
                 if (options.FitStartValues)
                 {
-                    add(HoltWintersStartFit.FitAtFixedWeights(training, fit).Method);
+                    TryAdd(add, () => HoltWintersStartFit.FitAtFixedWeights(training, fit));
                 }
 
                 if (refine[i])

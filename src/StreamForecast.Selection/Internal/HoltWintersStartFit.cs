@@ -88,22 +88,30 @@ internal static class HoltWintersStartFit
 
         double[] weights = Weights(fixedOptions, damped);
         int iterations = fixedOptions.Seasonality == Seasonality.Multiplicative ? 4 : 1;
-        (double[] State, double Sse)? solved = StartStateSolver.Solve(series, seed, Scale(series),
-            state => Options(m, fixedOptions.Seasonality, weights, damped, state), iterations);
-        if (solved is null)
+        try
         {
+            (double[] State, double Sse)? solved = StartStateSolver.Solve(series, seed, Scale(series),
+                state => Options(m, fixedOptions.Seasonality, weights, damped, state), iterations);
+            if (solved is null)
+            {
+                return fixedStart;
+            }
+
+            HoltWintersOptions options = Options(m, fixedOptions.Seasonality, weights, damped, solved.Value.State);
+            (double scored, _) = MethodFitter.OneStepSquaredErrors(series, options, fixedOptions.WarmUpLength);
+            if (!(scored <= fixedStart.SumOfSquaredErrors))
+            {
+                return fixedStart;
+            }
+
+            (double sse, long count) = MethodFitter.OneStepSquaredErrors(series, options, 0);
+            return new FittedMethod(options, sse, count, iterations + 2);
+        }
+        catch (ArgumentException)
+        {
+            // A start state the method refuses, or one its forecaster rejects an actual from: keep the fixed start.
             return fixedStart;
         }
-
-        HoltWintersOptions options = Options(m, fixedOptions.Seasonality, weights, damped, solved.Value.State);
-        (double scored, _) = MethodFitter.OneStepSquaredErrors(series, options, fixedOptions.WarmUpLength);
-        if (!(scored <= fixedStart.SumOfSquaredErrors))
-        {
-            return fixedStart;
-        }
-
-        (double sse, long count) = MethodFitter.OneStepSquaredErrors(series, options, 0);
-        return new FittedMethod(options, sse, count, iterations + 2);
     }
 
     /// <summary>The largest magnitude of the history (at least 1e-9): the solver's scale. Additive errors are affine in the start state, so one solver step is exact; multiplicative ones take a few.</summary>

@@ -110,4 +110,22 @@ public class LeadingStartFitTests
         Assert.All(plain.Ranking, c => Assert.Contains(fitted.Ranking, d => d.Method.Equals(c.Method)));
         Assert.True(fitted.Chosen.Score <= plain.Chosen.Score);
     }
+
+    [Fact]
+    public void Tune_FitStartValuesOnTinyValuesWithRareSpikes_ChoosesAScoredCandidateWithoutThrowing()
+    {
+        // Hostile for the start solvers: positive actuals near zero (multiplicative states close to the floor) and spikes
+        // six orders of magnitude larger once a season.
+        var random = new Random(21);
+        var y = new double[130];
+        for (int t = 0; t < y.Length; t++)
+        {
+            y[t] = t % 13 == 5 ? 1e6 * (1 + random.NextDouble()) : 1e-6 * (1 + random.NextDouble());
+        }
+
+        TuningResult result = SeriesTuner.Tune(y, new TuningOptions(seasonLength: 13, fitStartValues: true));
+
+        Assert.True(result.Chosen.IsComplete);
+        Assert.True(double.IsFinite(result.Chosen.Score));
+    }
 }
