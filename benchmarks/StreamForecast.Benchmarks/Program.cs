@@ -11,6 +11,8 @@ using StreamForecast.Benchmarks;
 //   dotnet run -c Release --project benchmarks/StreamForecast.Benchmarks -- keyed-sim <engine|dictionary> <keys> <rounds>
 // Updates a no-op push subscriber loses at the engine's full rate (default buffer, one partition; issue 15 target 1):
 //   dotnet run -c Release --project benchmarks/StreamForecast.Benchmarks -- drops [observations] [keys]
+// Series per second of SeriesTuner.TuneMany on invented two-year daily histories, 1 and 2 workers (issue 15 target 5):
+//   dotnet run -c Release --project benchmarks/StreamForecast.Benchmarks -- tune-rate [series] [fit-starts|today] [workers, e.g. 1,2]
 // Charts from the result CSVs of a run:
 //   dotnet run -c Release --project benchmarks/StreamForecast.Benchmarks -- chart <results folder> <output folder>
 if (args.Length > 0 && args[0] == "memory")
@@ -28,6 +30,14 @@ if (args.Length > 0 && args[0] == "drops")
 if (args.Length == 4 && args[0] == "keyed-sim")
 {
     return KeyedSimulation.Run(args[1], int.Parse(args[2], System.Globalization.CultureInfo.InvariantCulture), int.Parse(args[3], System.Globalization.CultureInfo.InvariantCulture));
+}
+
+if (args.Length > 0 && args[0] == "tune-rate")
+{
+    return TuningRate.Run(
+        args.Length > 1 ? int.Parse(args[1], System.Globalization.CultureInfo.InvariantCulture) : 1_000,
+        args.Length > 2 && args[2] == "fit-starts",
+        args.Length > 3 ? [.. args[3].Split(',').Select(a => int.Parse(a, System.Globalization.CultureInfo.InvariantCulture))] : [1, 2]);
 }
 
 if (args.Length > 0 && args[0] == "chart")

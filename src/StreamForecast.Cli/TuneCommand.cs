@@ -14,7 +14,7 @@ internal static class TuneCommand
         var output = new Option<string>("--out") { Description = "Where to write the method configuration (JSON).", DefaultValueFactory = _ => "methods.json" };
         var top = new Option<int>("--top") { Description = "How many candidates of each ranking to print.", DefaultValueFactory = _ => 5 };
         var fraction = new Option<double>("--training-fraction") { Description = "The share of each history used to fit parameters; the rest is backtested.", DefaultValueFactory = _ => 0.5 };
-        var fitStarts = new Option<bool>("--fit-starts") { Description = "Also fit Holt-Winters start values (level, trend, seasonal indices) with the weights; slower, and the backtest keeps whichever forecasts better." };
+        var fitStarts = new Option<bool>("--fit-starts") { Description = "Also fit Holt-Winters start values (level, trend, seasonal indices): at the fitted weights for every variant, with the weights for the leading one; slower, and the backtest keeps whichever forecasts better." };
         var force = new Option<bool>("--force") { Description = "Replace the --out file if it exists already (without it an existing file is refused, exit 2)." };
         var metric = new Option<RankingMetric>("--metric") { Description = "The ranking statistic: Rmse (default) or Mad.", DefaultValueFactory = _ => RankingMetric.Rmse };
         var command = new Command("tune", "Fit and backtest candidate methods per series (rolling origin, out of sample); print each ranking and write the chosen methods to a configuration file for replay and chart.");

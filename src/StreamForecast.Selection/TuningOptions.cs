@@ -56,10 +56,12 @@ public sealed record TuningOptions
     /// <param name="classifier">The demand-class cut-offs; default <see cref="DemandClassifierOptions.Default"/>.</param>
     /// <param name="maxDegreeOfParallelism">The most series tuned at once by <see cref="SeriesTuner.TuneMany{TKey}"/>, 1 to 4,096; null (the default) means one per core.</param>
     /// <param name="fitStartValues">
-    /// Whether Holt-Winters candidates are also fitted with their start level, trend and seasonal indices estimated with the
-    /// weights (<see cref="MethodFitter.FitHoltWinters"/>); default false. It lowers the in-sample error (about a fifth on a
-    /// monthly CO2 record) but costs about m + 3 times the fitting time of a fixed start per Holt-Winters candidate, and the
-    /// backtest keeps the fixed-start fit where that forecasts better out of sample.
+    /// Whether Holt-Winters candidates are also fitted with their start level, trend and seasonal indices estimated: for every
+    /// variant with its fixed-start weights kept (one least-squares solve), and for the variant with the lowest fixed-start
+    /// error together with the weights (<see cref="MethodFitter.FitHoltWinters"/>); default false. It lowers the in-sample
+    /// error (about a fifth on a monthly CO2 record); on invented two-year daily series with a weekly season it cost about 2.6
+    /// times the CPU of tuning without it (benchmarks/README.md), and the backtest keeps the fixed-start fit where that
+    /// forecasts better out of sample.
     /// </param>
     /// <exception cref="ArgumentOutOfRangeException">A number is outside its stated range.</exception>
     public TuningOptions(
