@@ -19,7 +19,7 @@ internal sealed partial class SeriesState<TKey>
     /// <summary>Writes the complete state (everything but the key and options, which the caller writes or re-resolves).</summary>
     public void Write(SnapshotPayloadWriter writer)
     {
-        writer.WriteString(_options.StateLabel);
+        writer.WriteString(Options.StateLabel);
         writer.WriteBoolean(_started);
         writer.WriteInt64(_nextToClose);
         writer.WriteInt64(_maxEventTicks);
@@ -58,7 +58,7 @@ internal sealed partial class SeriesState<TKey>
         }
 
         writer.WriteInt32(ClosedCount);
-        if (_restatement is { } r)
+        if (Restating is { } r)
         {
             for (int i = 0; i < r.ClosedCount; i++)
             {
@@ -76,11 +76,11 @@ internal sealed partial class SeriesState<TKey>
             writer.WriteBoolean(r.Lag.HasLastActual);
         }
 
-        int ids = _ids?.Count ?? 0;
+        int ids = Ids?.Count ?? 0;
         writer.WriteInt32(ids);
-        if (_ids is not null)
+        if (Ids is not null)
         {
-            foreach ((string id, long period) in _ids.Oldest())
+            foreach ((string id, long period) in Ids.Oldest())
             {
                 writer.WriteString(id);
                 writer.WriteInt64(period);
@@ -119,12 +119,12 @@ internal sealed partial class SeriesState<TKey>
     private void ReadChecked(SnapshotPayloadReader reader)
     {
         string method = reader.ReadString();
-        if (method != _options.StateLabel)
+        if (method != Options.StateLabel)
         {
-            throw Invalid($"it holds a {method} series but the options for this key say {_options.StateLabel}");
+            throw Invalid($"it holds a {method} series but the options for this key say {Options.StateLabel}");
         }
 
-        PeriodCalendar calendar = _options.Calendar;
+        PeriodCalendar calendar = Options.Calendar;
         _started = reader.ReadBoolean();
         _nextToClose = reader.ReadInt64();
         _maxEventTicks = reader.ReadInt64();
@@ -185,16 +185,16 @@ internal sealed partial class SeriesState<TKey>
         for (int i = 0; i < RuleCount; i++)
         {
             DriftRule rule = _step.RuleAt(i);
-            ImportInto(reader, rule.ImportState, Invariant($"its drift rule {i + 1} ({_options.RuleLabels[i]})"));
+            ImportInto(reader, rule.ImportState, Invariant($"its drift rule {i + 1} ({Options.RuleLabels[i]})"));
             if (!_started && (rule.PeriodsObserved != 0 || rule.LastEpisodeId != 0))
             {
-                throw Invalid(Invariant($"it has seen no event, yet its drift rule {i + 1} ({_options.RuleLabels[i]}) has evaluated periods or raised episodes"));
+                throw Invalid(Invariant($"it has seen no event, yet its drift rule {i + 1} ({Options.RuleLabels[i]}) has evaluated periods or raised episodes"));
             }
         }
 
         ReadRestatement(reader, latest, model, reference);
         ReadEventIds(reader, latest);
-        if (_restatement is null)
+        if (Restating is null)
         {
             CheckRulesAgainstTracker();
             CheckZeroGap();
@@ -246,7 +246,7 @@ internal sealed partial class SeriesState<TKey>
 
     private void ReadRestatement(SnapshotPayloadReader reader, long latest, double[] model, double[]? reference)
     {
-        int capacity = _restatement?.ClosedSums.Length ?? 0;
+        int capacity = Restating?.ClosedSums.Length ?? 0;
         int closed = reader.ReadInt32();
         if (closed < 0 || closed > capacity)
         {
@@ -258,14 +258,14 @@ internal sealed partial class SeriesState<TKey>
             throw Invalid("it has seen no event, yet its restatement window holds closed periods");
         }
 
-        if (_restatement is not { } r)
+        if (Restating is not { } r)
         {
             return;
         }
 
         // The retained periods are the last `closed` periods before the first open one.
         long first = _nextToClose - closed;
-        if (_started && first < _options.Calendar.MinPeriod)
+        if (_started && first < Options.Calendar.MinPeriod)
         {
             throw Invalid(Invariant($"its restatement window of {closed} periods starts before the calendar's first period"));
         }
@@ -320,7 +320,7 @@ internal sealed partial class SeriesState<TKey>
         // when the oldest retained period leaves the window, the lagged model through it; a restatement rolls the model
         // back to the lagged one and replays the window. Both use the same model step, so the replay must reproduce the
         // model and its last actual bit for bit.
-        var replay = new SeriesStep<TKey>(Key, _options, withRules: false);
+        var replay = new SeriesStep<TKey>(Key, Options, withRules: false);
         replay.SetMarks(_step.Marks);
         replay.Model.ImportState(lag);
         if (lagReference is not null)

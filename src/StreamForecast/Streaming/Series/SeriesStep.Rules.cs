@@ -57,5 +57,5 @@ public sealed partial class SeriesStep<TKey>
 
     /// <summary>The error tracker the rule at <paramref name="ruleIndex"/> watches.</summary>
     internal ErrorTracker WatchedTracker(int ruleIndex) =>
-        _options.Rules[ruleIndex].Watches == WatchedModel.Reference ? _reference!.Tracker : _model.Tracker;
+        _options.Rules[ruleIndex].Watches == WatchedModel.Reference ? _extras!.Reference!.Tracker : _model.Tracker;
 }
