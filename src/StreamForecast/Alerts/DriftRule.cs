@@ -80,6 +80,9 @@ public abstract partial class DriftRule : IExportableState
     /// <summary>The validated options this rule was created from.</summary>
     public abstract DriftRuleOptions Options { get; }
 
+    /// <summary>The options this rule was created from, for a derived rule that keeps no copy of its own.</summary>
+    private protected DriftRuleOptions Settings => _settings;
+
     /// <summary>Which rule this is.</summary>
     public DriftRuleKind Kind => _settings.Kind;
 
