@@ -129,7 +129,7 @@ internal sealed partial class SeriesState<TKey>
         _nextToClose = reader.ReadInt64();
         _maxEventTicks = reader.ReadInt64();
         _step.LastActual = ReadInDomain(reader, "the last actual");
-        _step.HasLastActual = reader.ReadBoolean();
+        bool hasLastActual = reader.ReadBoolean(); // checked against the model below: the step derives it from the model
         _quietPeriods = reader.ReadInt64();
 
         // The latest event's period: every event the series took lies in it or before it.
@@ -138,7 +138,7 @@ internal sealed partial class SeriesState<TKey>
         {
             // Nothing happens to a series before its first event (its creation may still be counted, and an
             // acknowledgement changes nothing), so every field is at its initial value.
-            if (_nextToClose != 0 || _maxEventTicks != 0 || !IsInitialZero(_step.LastActual) || _step.HasLastActual || _quietPeriods != 0)
+            if (_nextToClose != 0 || _maxEventTicks != 0 || !IsInitialZero(_step.LastActual) || hasLastActual || _quietPeriods != 0)
             {
                 throw Invalid("it has seen no event (the started flag is off), yet its period position, latest event time, last actual or quiet-period count is set");
             }
@@ -148,7 +148,7 @@ internal sealed partial class SeriesState<TKey>
             latest = CheckPositions(calendar);
         }
 
-        if (!_step.HasLastActual && !IsInitialZero(_step.LastActual))
+        if (!hasLastActual && !IsInitialZero(_step.LastActual))
         {
             throw Invalid(Invariant($"the last actual is {_step.LastActual} but the last actual flag is off; without a last actual it stays 0"));
         }
@@ -164,9 +164,9 @@ internal sealed partial class SeriesState<TKey>
 
         // The last actual is kept exactly when the model took an actual: both change together in the model step (SeriesStep.Apply),
         // and a rollback restores both from the lagged model, which keeps the same pair.
-        if (_step.HasLastActual != (_step.Model.Count > 0))
+        if (hasLastActual != (_step.Model.Count > 0))
         {
-            throw Invalid(Invariant($"the last actual flag is {(_step.HasLastActual ? "on" : "off")} but the model has taken {_step.Model.Count} actuals; the flag is on exactly when the model has taken one"));
+            throw Invalid(Invariant($"the last actual flag is {(hasLastActual ? "on" : "off")} but the model has taken {_step.Model.Count} actuals; the flag is on exactly when the model has taken one"));
         }
 
         CheckLastActual(_step.Model, _step.LastActual, "the last actual", "its model");
@@ -299,13 +299,13 @@ internal sealed partial class SeriesState<TKey>
         double[] lag = ImportInto(reader, r.Lag.Model.ImportState, "its lagged model (the model before the restatement window)");
         double[]? lagReference = ReadReference(reader, r.Lag, "its lagged reference model");
         r.Lag.LastActual = ReadInDomain(reader, "the lagged model's last actual");
-        r.Lag.HasLastActual = reader.ReadBoolean();
+        bool lagHasLastActual = reader.ReadBoolean(); // checked against the lagged model below
         if (!_started && !Bits.Same(lag, freshLag))
         {
             throw Invalid("it has seen no event, yet its lagged model is not that of a new series");
         }
 
-        if (r.Lag.HasLastActual != (r.Lag.Model.Count > 0) || (!r.Lag.HasLastActual && !IsInitialZero(r.Lag.LastActual)))
+        if (lagHasLastActual != (r.Lag.Model.Count > 0) || (!lagHasLastActual && !IsInitialZero(r.Lag.LastActual)))
         {
             throw Invalid("the lagged model's last actual and its flag disagree with the lagged model: the flag is on exactly when it has taken an actual, and the last actual is 0 while it is off");
         }
@@ -328,7 +328,6 @@ internal sealed partial class SeriesState<TKey>
             replay.Reference!.ImportState(lagReference);
         }
         replay.LastActual = r.Lag.LastActual;
-        replay.HasLastActual = r.Lag.HasLastActual;
         for (int i = 0; i < closed; i++)
         {
             replay.Apply(first + i, r.ClosedHas[i] == SlotHasData, r.ClosedSums[i], StepMode.Silent, null, null);

@@ -50,9 +50,9 @@ public sealed partial class SeriesStep<TKey>
     private readonly SeriesOptions _options;
     private readonly TrackedForecaster _model;
 
-    // Drift rules: none, one (held directly), or several (in the extras, in the options' order).
+    // Drift rules: none, one (held directly), or several (in the extras, in the options' order). Their number is the
+    // options' unless the step runs without rules (the extras say so), so it is not held per series.
     private readonly DriftRule? _singleRule;
-    private readonly int _ruleCount;
 
     // What most series never use (null for a series with none of it): the reference model and its backup, several
     // rules, the known-event marks and lift sums. One reference instead of five per series (memory per series).
@@ -96,15 +96,20 @@ public sealed partial class SeriesStep<TKey>
             var reference = new TrackedForecaster(referenceMethod, options.Tracking);
             _extras = new SeriesStepExtras { Reference = reference, ReferenceBackup = new double[reference.StateLength] };
         }
-        _ruleCount = withRules ? options.Rules.Length : 0;
-        if (_ruleCount == 1)
+        int ruleCount = withRules ? options.Rules.Length : 0;
+        if (!withRules && options.Rules.Length > 0)
+        {
+            (_extras ??= new SeriesStepExtras()).WithoutRules = true;
+        }
+
+        if (ruleCount == 1)
         {
             _singleRule = options.Rules[0].CreateRule();
         }
-        else if (_ruleCount > 1)
+        else if (ruleCount > 1)
         {
-            var rules = new DriftRule[_ruleCount];
-            for (int i = 0; i < _ruleCount; i++)
+            var rules = new DriftRule[ruleCount];
+            for (int i = 0; i < ruleCount; i++)
             {
                 rules[i] = options.Rules[i].CreateRule();
             }
@@ -129,13 +134,14 @@ public sealed partial class SeriesStep<TKey>
     public TrackedForecaster? Reference => _extras?.Reference;
 
     /// <summary>The number of drift rules (the options' rules, in order).</summary>
-    public int RuleCount => _ruleCount;
+    public int RuleCount => _extras is { WithoutRules: true } ? 0 : _options.Rules.Length;
 
     /// <summary>The last actual fed to the model, for a gap policy that carries it forward; meaningful when <see cref="HasLastActual"/>.</summary>
     public double LastActual { get; internal set; }
 
     /// <summary>Whether any actual has been fed to the model yet.</summary>
-    public bool HasLastActual { get; internal set; }
+    /// <remarks>The same as the model having taken a period (<see cref="TrackedForecaster.Count"/> above 0): the two change together.</remarks>
+    public bool HasLastActual => _model.Count > 0;
 
     /// <summary>The drift rule at <paramref name="index"/> (0 ≤ index &lt; <see cref="RuleCount"/>).</summary>
     /// <param name="index">The rule's position in the options.</param>
@@ -144,7 +150,7 @@ public sealed partial class SeriesStep<TKey>
     public DriftRule GetRule(int index)
     {
         ArgumentOutOfRangeException.ThrowIfNegative(index);
-        ArgumentOutOfRangeException.ThrowIfGreaterThanOrEqual(index, _ruleCount);
+        ArgumentOutOfRangeException.ThrowIfGreaterThanOrEqual(index, RuleCount);
         return RuleAt(index);
     }
 
@@ -183,7 +189,7 @@ public sealed partial class SeriesStep<TKey>
     {
         _model.ResetErrors();
         _extras?.Reference?.ResetErrors();
-        for (int i = 0; i < _ruleCount; i++)
+        for (int i = 0, count = RuleCount; i < count; i++)
         {
             Publish(i, RuleAt(i).Rebaseline(), lastClosedPeriod, sink, counters, null, started ? null : default(DateTimeOffset));
         }
@@ -201,7 +207,6 @@ public sealed partial class SeriesStep<TKey>
         }
 
         LastActual = source.LastActual;
-        HasLastActual = source.HasLastActual;
         if (source.Lift is not null || Lift is not null)
         {
             SeriesStepExtras extras = _extras ??= new SeriesStepExtras();
@@ -212,7 +217,7 @@ public sealed partial class SeriesStep<TKey>
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
     internal DriftRule RuleAt(int index)
     {
-        Debug.Assert(index >= 0 && index < _ruleCount);
+        Debug.Assert(index >= 0 && index < RuleCount);
         return _singleRule ?? _extras!.Rules![index];
     }
 
@@ -295,8 +300,7 @@ public sealed partial class SeriesStep<TKey>
             return;
         }
 
-        LastActual = fed;
-        HasLastActual = true;
+        LastActual = fed; // the model has taken a period now, so HasLastActual is true
         if (marked is not null && !double.IsNaN(eventForecast))
         {
             extras = _extras ??= new SeriesStepExtras();

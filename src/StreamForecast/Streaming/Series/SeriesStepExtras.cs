@@ -26,4 +26,7 @@ internal sealed class SeriesStepExtras
 
     /// <summary>The lift sums (null until a marked period closed with a forecast).</summary>
     public EventLiftSums? Lift;
+
+    /// <summary>Whether the step runs without the options' rules (the lagged step of a restatement window, a replay).</summary>
+    public bool WithoutRules;
 }
