@@ -46,10 +46,13 @@ internal sealed class SignalLimitRule : DriftRule
 
     private LimitedSignal Signal => SignalOf(Settings);
 
-    private double MaxMagnitude => Signal == LimitedSignal.TriggSignal ? 1 + DriftRuleOptions.LevelTolerance : double.MaxValue;
+    private double MaxMagnitude => MaxMagnitudeOf(Signal);
 
     private static LimitedSignal SignalOf(DriftRuleOptions options) =>
         options is TriggSignalRuleOptions ? LimitedSignal.TriggSignal : LimitedSignal.TrackingSignal;
+
+    private static double MaxMagnitudeOf(LimitedSignal signal) =>
+        signal == LimitedSignal.TriggSignal ? 1 + DriftRuleOptions.LevelTolerance : double.MaxValue;
 
     /// <inheritdoc/>
     public override bool CanRead(in DriftInput input) => double.IsFinite(Read(input));
@@ -58,10 +61,11 @@ internal sealed class SignalLimitRule : DriftRule
 
     private protected override void EvaluateCore(in DriftInput input, out double underEvidence, out double overEvidence)
     {
-        double s = Read(input);
-        if (!(Math.Abs(s) <= MaxMagnitude))
+        LimitedSignal signal = Signal; // one type check of the options per period
+        double s = signal == LimitedSignal.TriggSignal ? input.TriggSignal : input.TrackingSignal;
+        if (!(Math.Abs(s) <= MaxMagnitudeOf(signal)))
         {
-            if (Signal == LimitedSignal.TriggSignal)
+            if (signal == LimitedSignal.TriggSignal)
             {
                 DriftThrowHelper.ThrowInvalidInput(nameof(DriftInput.TriggSignal), s, "Trigg's smoothed signal must be a finite number between −1 and 1");
             }

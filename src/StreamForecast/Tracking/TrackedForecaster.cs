@@ -57,12 +57,11 @@ public sealed class TrackedForecaster : IExportableState
     private EmpiricalErrors? Empirical => _intervals as EmpiricalErrors;
 
     /// <summary>Whether forecasts are clipped at zero (a series declared non-negative).</summary>
-    private bool NonNegative => _intervals switch
-    {
-        null => false,
-        EmpiricalErrors empirical => empirical.NonNegative,
-        _ => ((IntervalSettings)_intervals).NonNegative,
-    };
+    /// <remarks>Kept small so it is inlined: the common case (no interval state) is one null check.</remarks>
+    private bool NonNegative => _intervals is not null && ClipsAtZero(_intervals);
+
+    private static bool ClipsAtZero(object intervals) =>
+        intervals is EmpiricalErrors empirical ? empirical.NonNegative : ((IntervalSettings)intervals).NonNegative;
 
     /// <summary>The forecaster, for reading (forecasts, warm-up, horizon variance ratios).</summary>
     public Forecaster Forecaster => _forecaster;

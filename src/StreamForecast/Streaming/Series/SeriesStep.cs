@@ -134,7 +134,11 @@ public sealed partial class SeriesStep<TKey>
     public TrackedForecaster? Reference => _extras?.Reference;
 
     /// <summary>The number of drift rules (the options' rules, in order).</summary>
-    public int RuleCount => _extras is { WithoutRules: true } ? 0 : _options.Rules.Length;
+    public int RuleCount
+    {
+        [MethodImpl(MethodImplOptions.AggressiveInlining)] // read on every scored period
+        get => _extras is { WithoutRules: true } ? 0 : _options.Rules.Length;
+    }
 
     /// <summary>The last actual fed to the model, for a gap policy that carries it forward; meaningful when <see cref="HasLastActual"/>.</summary>
     public double LastActual { get; internal set; }
