@@ -57,8 +57,10 @@ public abstract partial class DriftRule : IExportableState
     private readonly DriftRuleOptions _settings;
     private long _periods;
     private long _episodeSequence;
-    private int _direction;
-    private DriftSeverity _severity;
+    // Direction (+1, −1, 0), severity and the reversal below are held in a byte each rather than an int, so one rule
+    // object of a tracking-signal rule takes 80 B instead of 88 (issue 15, target 3: memory per series).
+    private sbyte _direction;
+    private byte _severity; // a DriftSeverity
     private int _underRun;
     private int _overRun;
     private int _underEscalationRun;
@@ -69,7 +71,7 @@ public abstract partial class DriftRule : IExportableState
 
     // After a reversal, the direction the evidence turned to (±1), until an episode is raised or neither side qualifies:
     // when both sides qualify, the new episode goes that way rather than flipping back on a small difference.
-    private int _reversedTo;
+    private sbyte _reversedTo;
 
     private protected DriftRule(DriftRuleOptions options)
     {
@@ -79,6 +81,9 @@ public abstract partial class DriftRule : IExportableState
 
     /// <summary>The validated options this rule was created from.</summary>
     public abstract DriftRuleOptions Options { get; }
+
+    /// <summary>The options this rule was created from, for a derived rule that keeps no copy of its own.</summary>
+    private protected DriftRuleOptions Settings => _settings;
 
     /// <summary>Which rule this is.</summary>
     public DriftRuleKind Kind => _settings.Kind;
@@ -105,7 +110,7 @@ public abstract partial class DriftRule : IExportableState
     public DriftDirection Direction => ToDirection(_direction);
 
     /// <summary>The open episode's severity, or <see cref="DriftSeverity.None"/>.</summary>
-    public DriftSeverity Severity => _severity;
+    public DriftSeverity Severity => (DriftSeverity)_severity;
 
     /// <summary>
     /// Whether <paramref name="input"/> holds what this rule reads (a finite signal, or a finite error with σ above 0),
@@ -236,8 +241,8 @@ public abstract partial class DriftRule : IExportableState
 
         _periods = (long)state[0];
         _episodeSequence = (long)state[1];
-        _direction = (int)state[2];
-        _severity = (DriftSeverity)(int)state[3];
+        _direction = (sbyte)state[2];
+        _severity = (byte)state[3];
         _underRun = (int)state[4];
         _overRun = (int)state[5];
         _underEscalationRun = (int)state[6];
@@ -246,7 +251,7 @@ public abstract partial class DriftRule : IExportableState
         _lastUnder = state[9];
         _lastOver = state[10];
         ImportCore(state.Slice(HeaderLength, CoreStateLength));
-        _reversedTo = (int)state[HeaderLength + CoreStateLength];
+        _reversedTo = (sbyte)state[HeaderLength + CoreStateLength];
     }
 
     /// <summary>
@@ -297,12 +302,12 @@ public abstract partial class DriftRule : IExportableState
         }
 
         _direction = under && over && _reversedTo != 0 ? _reversedTo
-            : under && (!over || _lastUnder >= _lastOver) ? 1 : -1;
+            : under && (!over || _lastUnder >= _lastOver) ? (sbyte)1 : (sbyte)-1;
         _reversedTo = 0;
         _episodeSequence++;
         _clearRun = 0;
         int escalationRun = _direction > 0 ? _underEscalationRun : _overEscalationRun;
-        _severity = escalationRun >= o.PeriodsToRaise ? DriftSeverity.Critical : DriftSeverity.Warning;
+        _severity = (byte)(escalationRun >= o.PeriodsToRaise ? DriftSeverity.Critical : DriftSeverity.Warning);
         return Make(DriftTransitionKind.Raised, _direction * OwnEvidence(), _direction * o.RaiseLevel, DriftCloseReason.None);
     }
 
@@ -318,7 +323,7 @@ public abstract partial class DriftRule : IExportableState
             double opposite = d > 0 ? _lastOver : _lastUnder;
             DriftTransition reversed = Make(DriftTransitionKind.Cleared, -d * opposite, -d * o.RaiseLevel, DriftCloseReason.DirectionReversed);
             CloseEpisode();
-            _reversedTo = -d;
+            _reversedTo = (sbyte)-d;
             return reversed;
         }
 
@@ -337,9 +342,9 @@ public abstract partial class DriftRule : IExportableState
         }
 
         _clearRun = 0;
-        if (_severity == DriftSeverity.Warning && (d > 0 ? _underEscalationRun : _overEscalationRun) >= o.PeriodsToRaise)
+        if (_severity == (byte)DriftSeverity.Warning && (d > 0 ? _underEscalationRun : _overEscalationRun) >= o.PeriodsToRaise)
         {
-            _severity = DriftSeverity.Critical;
+            _severity = (byte)DriftSeverity.Critical;
             return Make(DriftTransitionKind.Escalated, d * own, d * o.EscalationLevel, DriftCloseReason.None);
         }
 
@@ -349,12 +354,12 @@ public abstract partial class DriftRule : IExportableState
     private double OwnEvidence() => _direction > 0 ? _lastUnder : _lastOver;
 
     private DriftTransition Make(DriftTransitionKind kind, double signal, double level, DriftCloseReason reason) =>
-        new(kind, _settings.Kind, _episodeSequence, ToDirection(_direction), _severity, signal, level, _periods, reason) { Watched = _settings.Watches };
+        new(kind, _settings.Kind, _episodeSequence, ToDirection(_direction), (DriftSeverity)_severity, signal, level, _periods, reason) { Watched = _settings.Watches };
 
     private void CloseEpisode()
     {
         _direction = 0;
-        _severity = DriftSeverity.None;
+        _severity = (byte)DriftSeverity.None;
         _clearRun = 0;
     }
 
@@ -371,7 +376,7 @@ public abstract partial class DriftRule : IExportableState
     {
         _periods = 0;
         _direction = 0;
-        _severity = DriftSeverity.None;
+        _severity = (byte)DriftSeverity.None;
         _underRun = 0;
         _overRun = 0;
         _underEscalationRun = 0;

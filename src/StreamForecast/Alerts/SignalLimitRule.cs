@@ -1,3 +1,5 @@
+using System.Diagnostics;
+
 namespace StreamForecast.Alerts;
 
 /// <summary>Which running signal of the error tracker a <see cref="SignalLimitRule"/> holds within limits.</summary>
@@ -27,35 +29,43 @@ internal enum LimitedSignal
 /// </remarks>
 internal sealed class SignalLimitRule : DriftRule
 {
-    private readonly DriftRuleOptions _options;
-    private readonly LimitedSignal _signal;
-    private readonly double _maxMagnitude;
+    // No fields of its own: the signal and its range follow from the options the base holds, so a series' rule object
+    // is only the episode state (issue 15, target 3: memory per series).
 
     /// <summary>Creates a rule with no open episode.</summary>
     /// <param name="options">Validated options.</param>
-    /// <param name="signal">The signal the rule reads.</param>
+    /// <param name="signal">The signal the rule reads: Trigg's for <see cref="TriggSignalRuleOptions"/>, else the tracking signal.</param>
     internal SignalLimitRule(DriftRuleOptions options, LimitedSignal signal)
         : base(options)
     {
-        _options = options;
-        _signal = signal;
-        _maxMagnitude = signal == LimitedSignal.TriggSignal ? 1 + DriftRuleOptions.LevelTolerance : double.MaxValue;
+        Debug.Assert(signal == SignalOf(options), "the signal follows from the options' type");
     }
 
     /// <inheritdoc/>
-    public override DriftRuleOptions Options => _options;
+    public override DriftRuleOptions Options => Settings;
+
+    private LimitedSignal Signal => SignalOf(Settings);
+
+    private double MaxMagnitude => MaxMagnitudeOf(Signal);
+
+    private static LimitedSignal SignalOf(DriftRuleOptions options) =>
+        options is TriggSignalRuleOptions ? LimitedSignal.TriggSignal : LimitedSignal.TrackingSignal;
+
+    private static double MaxMagnitudeOf(LimitedSignal signal) =>
+        signal == LimitedSignal.TriggSignal ? 1 + DriftRuleOptions.LevelTolerance : double.MaxValue;
 
     /// <inheritdoc/>
     public override bool CanRead(in DriftInput input) => double.IsFinite(Read(input));
 
-    private double Read(in DriftInput input) => _signal == LimitedSignal.TriggSignal ? input.TriggSignal : input.TrackingSignal;
+    private double Read(in DriftInput input) => Signal == LimitedSignal.TriggSignal ? input.TriggSignal : input.TrackingSignal;
 
     private protected override void EvaluateCore(in DriftInput input, out double underEvidence, out double overEvidence)
     {
-        double s = Read(input);
-        if (!(Math.Abs(s) <= _maxMagnitude))
+        LimitedSignal signal = Signal; // one type check of the options per period
+        double s = signal == LimitedSignal.TriggSignal ? input.TriggSignal : input.TrackingSignal;
+        if (!(Math.Abs(s) <= MaxMagnitudeOf(signal)))
         {
-            if (_signal == LimitedSignal.TriggSignal)
+            if (signal == LimitedSignal.TriggSignal)
             {
                 DriftThrowHelper.ThrowInvalidInput(nameof(DriftInput.TriggSignal), s, "Trigg's smoothed signal must be a finite number between −1 and 1");
             }
@@ -79,10 +89,10 @@ internal sealed class SignalLimitRule : DriftRule
 
     private protected override string? ValidateCore(ReadOnlySpan<double> core, double lastUnder, double lastOver, long periods)
     {
-        string name = _signal == LimitedSignal.TriggSignal ? "Trigg signal" : "tracking signal";
-        if (!(Math.Abs(lastUnder) <= _maxMagnitude))
+        string name = Signal == LimitedSignal.TriggSignal ? "Trigg signal" : "tracking signal";
+        if (!(Math.Abs(lastUnder) <= MaxMagnitude))
         {
-            return _signal == LimitedSignal.TriggSignal
+            return Signal == LimitedSignal.TriggSignal
                 ? "the last Trigg signal (number 10) must be between −1 and 1"
                 : "the last tracking signal (number 10) must be finite";
         }

@@ -19,9 +19,10 @@ internal sealed class EmpiricalErrors
     private readonly ErrorQuantileWindow? _far;
     private readonly double[]? _waiting;
 
-    public EmpiricalErrors(EmpiricalIntervalOptions options, int horizon)
+    public EmpiricalErrors(EmpiricalIntervalOptions options, int horizon, bool nonNegative)
     {
         Options = options;
+        NonNegative = nonNegative;
         _next = new ErrorQuantileWindow(options.Window);
         if (horizon > 1)
         {
@@ -32,6 +33,9 @@ internal sealed class EmpiricalErrors
     }
 
     public EmpiricalIntervalOptions Options { get; }
+
+    /// <summary>Whether the series' forecasts are clipped at zero (held here so the tracked forecaster needs one field).</summary>
+    public bool NonNegative { get; }
 
     private int WindowLength => 1 + Options.Window;
 

@@ -27,9 +27,10 @@ public sealed class TrackedForecaster : IExportableState
     private readonly Forecaster _forecaster;
     private readonly ErrorTracker _tracker;
 
-    // Interval settings of a series (null: today's normal intervals, no clipping) and, for empirical intervals, their state.
-    private readonly IntervalSettings? _intervals;
-    private readonly EmpiricalErrors? _empirical;
+    // The interval state of a series in one field (memory per series, issue 15 target 3): null for today's normal
+    // intervals without clipping (most series); the options' shared IntervalSettings when the series only clips at zero;
+    // the series' own EmpiricalErrors (which knows whether to clip) for empirical intervals.
+    private readonly object? _intervals;
 
     /// <summary>Creates an empty forecaster and tracker for one series.</summary>
     /// <param name="forecasterOptions">The forecasting method.</param>
@@ -48,13 +49,19 @@ public sealed class TrackedForecaster : IExportableState
     {
         if (!intervals.IsPlain)
         {
-            _intervals = intervals;
-            _empirical = intervals.Empirical is { } e ? new EmpiricalErrors(e, intervals.Horizon) : null;
+            _intervals = intervals.Empirical is { } e ? new EmpiricalErrors(e, intervals.Horizon, intervals.NonNegative) : intervals;
         }
     }
 
+    /// <summary>The empirical-interval state, or null for normal intervals.</summary>
+    private EmpiricalErrors? Empirical => _intervals as EmpiricalErrors;
+
     /// <summary>Whether forecasts are clipped at zero (a series declared non-negative).</summary>
-    private bool NonNegative => _intervals is { NonNegative: true };
+    /// <remarks>Kept small so it is inlined: the common case (no interval state) is one null check.</remarks>
+    private bool NonNegative => _intervals is not null && ClipsAtZero(_intervals);
+
+    private static bool ClipsAtZero(object intervals) =>
+        intervals is EmpiricalErrors empirical ? empirical.NonNegative : ((IntervalSettings)intervals).NonNegative;
 
     /// <summary>The forecaster, for reading (forecasts, warm-up, horizon variance ratios).</summary>
     public Forecaster Forecaster => _forecaster;
@@ -97,7 +104,11 @@ public sealed class TrackedForecaster : IExportableState
 
         _forecaster.Update(actual); // validates the method's domain before changing anything
         _tracker.Commit(in staged);
-        _empirical?.Step(_forecaster.Count, actual, scored, staged.Error, _forecaster, NonNegative);
+        if (_intervals is EmpiricalErrors empirical)
+        {
+            empirical.Step(_forecaster.Count, actual, scored, staged.Error, _forecaster, empirical.NonNegative);
+        }
+
         return scored ? new PeriodScore(actual, forecast, staged.Error) : new PeriodScore(actual, double.NaN, double.NaN);
     }
 
@@ -123,7 +134,11 @@ public sealed class TrackedForecaster : IExportableState
         _tracker.StageUnscored(actual, out ErrorTracker.Staged staged);
         _forecaster.Update(actual); // validates the method's domain before changing anything
         _tracker.Commit(in staged);
-        _empirical?.Step(_forecaster.Count, actual, false, double.NaN, _forecaster, NonNegative);
+        if (_intervals is EmpiricalErrors empirical)
+        {
+            empirical.Step(_forecaster.Count, actual, false, double.NaN, _forecaster, empirical.NonNegative);
+        }
+
         return new PeriodScore(actual, double.NaN, double.NaN);
     }
 
@@ -176,10 +191,11 @@ public sealed class TrackedForecaster : IExportableState
             return false;
         }
 
-        ErrorQuantileWindow? window = _empirical?.WindowFor(horizon);
-        if (window is not null && window.Count >= _empirical!.Options.MinimumErrors)
+        EmpiricalErrors? empirical = Empirical;
+        ErrorQuantileWindow? window = empirical?.WindowFor(horizon);
+        if (window is not null && window.Count >= empirical!.Options.MinimumErrors)
         {
-            interval = window.IntervalAround(forecast, _empirical.Options);
+            interval = window.IntervalAround(forecast, empirical.Options);
             kind = IntervalKind.Empirical;
         }
         else
@@ -219,7 +235,7 @@ public sealed class TrackedForecaster : IExportableState
     public void ResetErrors()
     {
         _tracker.Reset();
-        _empirical?.ResetErrors();
+        Empirical?.ResetErrors();
     }
 
     /// <summary>Forgets every period: both the forecaster and the tracker are as if just created.</summary>
@@ -227,12 +243,12 @@ public sealed class TrackedForecaster : IExportableState
     {
         _forecaster.Reset();
         _tracker.Reset();
-        _empirical?.Reset();
+        Empirical?.Reset();
     }
 
     /// <summary>How many numbers <see cref="ExportState(Span{double})"/> writes: the forecaster's state then the tracker's.</summary>
     /// <remarks>A series with empirical intervals adds their error windows and waiting forecasts after the tracker's state.</remarks>
-    public int StateLength => _forecaster.StateLength + _tracker.StateLength + (_empirical?.StateLength ?? 0);
+    public int StateLength => _forecaster.StateLength + _tracker.StateLength + (Empirical?.StateLength ?? 0);
 
     /// <summary>Writes both states into <paramref name="destination"/>: the forecaster's first, then the tracker's.</summary>
     /// <param name="destination">At least <see cref="StateLength"/> numbers long.</param>
@@ -248,7 +264,10 @@ public sealed class TrackedForecaster : IExportableState
         int split = _forecaster.StateLength;
         _forecaster.ExportState(destination[..split]);
         _tracker.ExportState(destination.Slice(split, _tracker.StateLength));
-        _empirical?.Export(destination.Slice(split + _tracker.StateLength, _empirical.StateLength));
+        if (Empirical is { } empirical)
+        {
+            empirical.Export(destination.Slice(split + _tracker.StateLength, empirical.StateLength));
+        }
     }
 
     /// <summary>Replaces both states with ones exported from a tracked forecaster created from equal options.</summary>
@@ -280,9 +299,9 @@ public sealed class TrackedForecaster : IExportableState
             ThrowHelper.ThrowArgument(nameof(state), "The forecaster and tracker parts of the state disagree on the number of periods. Nothing was imported.");
         }
 
-        if (_empirical is not null)
+        if (Empirical is { } empirical)
         {
-            problem = _empirical.Validate(empiricalState, ErrorTracker.ScoredCountOf(trackerState), ErrorTracker.LastErrorOf(trackerState), state[0]);
+            problem = empirical.Validate(empiricalState, ErrorTracker.ScoredCountOf(trackerState), ErrorTracker.LastErrorOf(trackerState), state[0]);
             if (problem is not null)
             {
                 ThrowHelper.ThrowArgument(nameof(state), "The empirical-interval part of the state is not one a series reaches: " + problem + ". Nothing was imported.");
@@ -291,6 +310,6 @@ public sealed class TrackedForecaster : IExportableState
 
         _forecaster.ImportState(state[..split]); // validates its part and throws before changing anything
         _tracker.ImportValidated(trackerState);
-        _empirical?.ImportValidated(empiricalState);
+        Empirical?.ImportValidated(empiricalState);
     }
 }

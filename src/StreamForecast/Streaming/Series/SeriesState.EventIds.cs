@@ -11,9 +11,9 @@ internal sealed partial class SeriesState<TKey>
     private void ReadEventIds(SnapshotPayloadReader reader, long latest)
     {
         int ids = reader.ReadInt32();
-        if (ids < 0 || ids > _options.DuplicateWindow)
+        if (ids < 0 || ids > Options.DuplicateWindow)
         {
-            throw Invalid(Invariant($"it remembers {ids} event ids; the duplicate window for this key holds at most {_options.DuplicateWindow}"));
+            throw Invalid(Invariant($"it remembers {ids} event ids; the duplicate window for this key holds at most {Options.DuplicateWindow}"));
         }
 
         if (!_started && ids != 0)
@@ -26,8 +26,9 @@ internal sealed partial class SeriesState<TKey>
             return;
         }
 
-        _ids = new EventIdWindow(_options.DuplicateWindow);
-        long min = _options.Calendar.MinPeriod;
+        var window = new EventIdWindow(Options.DuplicateWindow);
+        (_extras ??= new Extras()).Ids = window;
+        long min = Options.Calendar.MinPeriod;
         for (int i = 0; i < ids; i++)
         {
             string id = reader.ReadString();
@@ -37,7 +38,7 @@ internal sealed partial class SeriesState<TKey>
                 throw Invalid(Invariant($"event id '{id}' belongs to period {period}, outside the calendar's periods up to the latest event's period {latest}"));
             }
 
-            if (!_ids.TryAdd(id, period))
+            if (!window.TryAdd(id, period))
             {
                 throw Invalid(Invariant($"it remembers event id '{id}' twice"));
             }

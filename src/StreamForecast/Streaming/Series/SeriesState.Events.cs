@@ -10,13 +10,13 @@ internal sealed partial class SeriesState<TKey>
     internal SeriesStep<TKey> Step => _step;
 
     /// <summary>The lagged step of the restatement window, or null without restatement.</summary>
-    internal SeriesStep<TKey>? LagStep => _restatement?.Lag;
+    internal SeriesStep<TKey>? LagStep => Restating?.Lag;
 
     /// <summary>Sets the marks of a new or restored series: nothing has closed under other marks, so nothing is restated.</summary>
     public void SetMarks(EventMarks? marks)
     {
         _step.SetMarks(marks);
-        _restatement?.Lag.SetMarks(marks);
+        Restating?.Lag.SetMarks(marks);
     }
 
     /// <summary>
@@ -39,7 +39,7 @@ internal sealed partial class SeriesState<TKey>
             beyond += Math.Min(last, horizon - 1) - first + 1;
         }
 
-        if (_restatement is not { ClosedCount: > 0 } r)
+        if (Restating is not { ClosedCount: > 0 } r)
         {
             return;
         }

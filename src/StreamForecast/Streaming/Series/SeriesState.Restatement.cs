@@ -12,7 +12,7 @@ internal sealed partial class SeriesState<TKey>
     /// <summary>Periods before now can no longer be restated: the lagged model catches up with the live one.</summary>
     private void CommitRestatementWindow()
     {
-        if (_restatement is { } r)
+        if (Restating is { } r)
         {
             r.Lag.CopyModelFrom(_step, r.Scratch);
             r.ClosedCount = 0;
@@ -45,7 +45,7 @@ internal sealed partial class SeriesState<TKey>
             return;
         }
 
-        Restatement r = _restatement!; // a closed period is retained only when restatement is on
+        Restatement r = Restating!; // a closed period is retained only when restatement is on
         int index = (int)(r.ClosedCount - age);
         r.ClosedSums[index] += quantity;
         r.ClosedHas[index] = SlotHasData;

@@ -28,7 +28,7 @@ internal sealed partial class SeriesState<TKey>
         // A new latest event time closes every period that ends at or before it less the allowed lateness, and periods
         // only close further after that: the first open period ends after that watermark.
         _nextCloseEndTicks = _nextToClose <= calendar.MaxPeriod ? calendar.EndOf(_nextToClose).UtcTicks : long.MaxValue;
-        long watermark = _maxEventTicks - _options.Lateness.AllowedLateness.Ticks;
+        long watermark = _maxEventTicks - Options.Lateness.AllowedLateness.Ticks;
         if (_nextCloseEndTicks <= watermark)
         {
             throw Invalid(Invariant($"its first open period {_nextToClose} ends at or before the watermark (latest event time less the allowed lateness), so it would have closed"));
@@ -66,7 +66,7 @@ internal sealed partial class SeriesState<TKey>
             long periods = rule.PeriodsObserved;
             if (periods > tracker.Count)
             {
-                throw Invalid(Invariant($"its drift rule {i + 1} ({_options.RuleLabels[i]}) has evaluated {periods} periods but the error tracker has scored only {tracker.Count} since the last acknowledgement"));
+                throw Invalid(Invariant($"its drift rule {i + 1} ({Options.RuleLabels[i]}) has evaluated {periods} periods but the error tracker has scored only {tracker.Count} since the last acknowledgement"));
             }
 
             // The tracking signal and Trigg's signal are finite after every scored period, so those rules see each one, and
@@ -79,12 +79,12 @@ internal sealed partial class SeriesState<TKey>
             double signal = rule.Kind == DriftRuleKind.TrackingSignal ? tracker.TrackingSignal : tracker.TriggSignal;
             if (periods != tracker.Count)
             {
-                throw Invalid(Invariant($"its drift rule {i + 1} ({_options.RuleLabels[i]}) has evaluated {periods} periods but the error tracker has scored {tracker.Count}; this rule sees every scored period"));
+                throw Invalid(Invariant($"its drift rule {i + 1} ({Options.RuleLabels[i]}) has evaluated {periods} periods but the error tracker has scored {tracker.Count}; this rule sees every scored period"));
             }
 
             if (periods > 0 && BitConverter.DoubleToInt64Bits(rule.LastUnderEvidence) != BitConverter.DoubleToInt64Bits(signal))
             {
-                throw Invalid(Invariant($"its drift rule {i + 1} ({_options.RuleLabels[i]}) last saw a signal of {rule.LastUnderEvidence:R}, but the error tracker's signal after that period is {signal:R}"));
+                throw Invalid(Invariant($"its drift rule {i + 1} ({Options.RuleLabels[i]}) last saw a signal of {rule.LastUnderEvidence:R}, but the error tracker's signal after that period is {signal:R}"));
             }
         }
     }
@@ -136,12 +136,12 @@ internal sealed partial class SeriesState<TKey>
     /// </summary>
     private void CheckZeroGap()
     {
-        if (!_started || _options.Gaps != GapPolicy.Zero || _quietPeriods == 0 || IsInitialZero(_step.LastActual))
+        if (!_started || Options.Gaps != GapPolicy.Zero || _quietPeriods == 0 || IsInitialZero(_step.LastActual))
         {
             return;
         }
 
-        var trial = new TrackedForecaster(_options.Method, _options.Tracking, _options.Intervals);
+        var trial = new TrackedForecaster(Options.Method, Options.Tracking, Options.Intervals);
         trial.ImportState(_step.Model.ExportState());
         try
         {
@@ -149,7 +149,7 @@ internal sealed partial class SeriesState<TKey>
             if (_step.Reference is { } reference)
             {
                 // Both models take an actual or neither does: a refusal by the reference also leaves the last actual as it is.
-                var referenceTrial = new TrackedForecaster(reference.Forecaster.Options, _options.Tracking);
+                var referenceTrial = new TrackedForecaster(reference.Forecaster.Options, Options.Tracking);
                 referenceTrial.ImportState(reference.ExportState());
                 referenceTrial.Update(0);
             }

@@ -19,7 +19,7 @@ internal sealed partial class SeriesState<TKey>
     /// <summary>Writes the complete state (everything but the key and options, which the caller writes or re-resolves).</summary>
     public void Write(SnapshotPayloadWriter writer)
     {
-        writer.WriteString(_options.StateLabel);
+        writer.WriteString(Options.StateLabel);
         writer.WriteBoolean(_started);
         writer.WriteInt64(_nextToClose);
         writer.WriteInt64(_maxEventTicks);
@@ -58,7 +58,7 @@ internal sealed partial class SeriesState<TKey>
         }
 
         writer.WriteInt32(ClosedCount);
-        if (_restatement is { } r)
+        if (Restating is { } r)
         {
             for (int i = 0; i < r.ClosedCount; i++)
             {
@@ -76,11 +76,11 @@ internal sealed partial class SeriesState<TKey>
             writer.WriteBoolean(r.Lag.HasLastActual);
         }
 
-        int ids = _ids?.Count ?? 0;
+        int ids = Ids?.Count ?? 0;
         writer.WriteInt32(ids);
-        if (_ids is not null)
+        if (Ids is not null)
         {
-            foreach ((string id, long period) in _ids.Oldest())
+            foreach ((string id, long period) in Ids.Oldest())
             {
                 writer.WriteString(id);
                 writer.WriteInt64(period);
@@ -119,17 +119,17 @@ internal sealed partial class SeriesState<TKey>
     private void ReadChecked(SnapshotPayloadReader reader)
     {
         string method = reader.ReadString();
-        if (method != _options.StateLabel)
+        if (method != Options.StateLabel)
         {
-            throw Invalid($"it holds a {method} series but the options for this key say {_options.StateLabel}");
+            throw Invalid($"it holds a {method} series but the options for this key say {Options.StateLabel}");
         }
 
-        PeriodCalendar calendar = _options.Calendar;
+        PeriodCalendar calendar = Options.Calendar;
         _started = reader.ReadBoolean();
         _nextToClose = reader.ReadInt64();
         _maxEventTicks = reader.ReadInt64();
         _step.LastActual = ReadInDomain(reader, "the last actual");
-        _step.HasLastActual = reader.ReadBoolean();
+        bool hasLastActual = reader.ReadBoolean(); // checked against the model below: the step derives it from the model
         _quietPeriods = reader.ReadInt64();
 
         // The latest event's period: every event the series took lies in it or before it.
@@ -138,7 +138,7 @@ internal sealed partial class SeriesState<TKey>
         {
             // Nothing happens to a series before its first event (its creation may still be counted, and an
             // acknowledgement changes nothing), so every field is at its initial value.
-            if (_nextToClose != 0 || _maxEventTicks != 0 || !IsInitialZero(_step.LastActual) || _step.HasLastActual || _quietPeriods != 0)
+            if (_nextToClose != 0 || _maxEventTicks != 0 || !IsInitialZero(_step.LastActual) || hasLastActual || _quietPeriods != 0)
             {
                 throw Invalid("it has seen no event (the started flag is off), yet its period position, latest event time, last actual or quiet-period count is set");
             }
@@ -148,7 +148,7 @@ internal sealed partial class SeriesState<TKey>
             latest = CheckPositions(calendar);
         }
 
-        if (!_step.HasLastActual && !IsInitialZero(_step.LastActual))
+        if (!hasLastActual && !IsInitialZero(_step.LastActual))
         {
             throw Invalid(Invariant($"the last actual is {_step.LastActual} but the last actual flag is off; without a last actual it stays 0"));
         }
@@ -164,9 +164,9 @@ internal sealed partial class SeriesState<TKey>
 
         // The last actual is kept exactly when the model took an actual: both change together in the model step (SeriesStep.Apply),
         // and a rollback restores both from the lagged model, which keeps the same pair.
-        if (_step.HasLastActual != (_step.Model.Count > 0))
+        if (hasLastActual != (_step.Model.Count > 0))
         {
-            throw Invalid(Invariant($"the last actual flag is {(_step.HasLastActual ? "on" : "off")} but the model has taken {_step.Model.Count} actuals; the flag is on exactly when the model has taken one"));
+            throw Invalid(Invariant($"the last actual flag is {(hasLastActual ? "on" : "off")} but the model has taken {_step.Model.Count} actuals; the flag is on exactly when the model has taken one"));
         }
 
         CheckLastActual(_step.Model, _step.LastActual, "the last actual", "its model");
@@ -185,16 +185,16 @@ internal sealed partial class SeriesState<TKey>
         for (int i = 0; i < RuleCount; i++)
         {
             DriftRule rule = _step.RuleAt(i);
-            ImportInto(reader, rule.ImportState, Invariant($"its drift rule {i + 1} ({_options.RuleLabels[i]})"));
+            ImportInto(reader, rule.ImportState, Invariant($"its drift rule {i + 1} ({Options.RuleLabels[i]})"));
             if (!_started && (rule.PeriodsObserved != 0 || rule.LastEpisodeId != 0))
             {
-                throw Invalid(Invariant($"it has seen no event, yet its drift rule {i + 1} ({_options.RuleLabels[i]}) has evaluated periods or raised episodes"));
+                throw Invalid(Invariant($"it has seen no event, yet its drift rule {i + 1} ({Options.RuleLabels[i]}) has evaluated periods or raised episodes"));
             }
         }
 
         ReadRestatement(reader, latest, model, reference);
         ReadEventIds(reader, latest);
-        if (_restatement is null)
+        if (Restating is null)
         {
             CheckRulesAgainstTracker();
             CheckZeroGap();
@@ -246,7 +246,7 @@ internal sealed partial class SeriesState<TKey>
 
     private void ReadRestatement(SnapshotPayloadReader reader, long latest, double[] model, double[]? reference)
     {
-        int capacity = _restatement?.ClosedSums.Length ?? 0;
+        int capacity = Restating?.ClosedSums.Length ?? 0;
         int closed = reader.ReadInt32();
         if (closed < 0 || closed > capacity)
         {
@@ -258,14 +258,14 @@ internal sealed partial class SeriesState<TKey>
             throw Invalid("it has seen no event, yet its restatement window holds closed periods");
         }
 
-        if (_restatement is not { } r)
+        if (Restating is not { } r)
         {
             return;
         }
 
         // The retained periods are the last `closed` periods before the first open one.
         long first = _nextToClose - closed;
-        if (_started && first < _options.Calendar.MinPeriod)
+        if (_started && first < Options.Calendar.MinPeriod)
         {
             throw Invalid(Invariant($"its restatement window of {closed} periods starts before the calendar's first period"));
         }
@@ -299,13 +299,13 @@ internal sealed partial class SeriesState<TKey>
         double[] lag = ImportInto(reader, r.Lag.Model.ImportState, "its lagged model (the model before the restatement window)");
         double[]? lagReference = ReadReference(reader, r.Lag, "its lagged reference model");
         r.Lag.LastActual = ReadInDomain(reader, "the lagged model's last actual");
-        r.Lag.HasLastActual = reader.ReadBoolean();
+        bool lagHasLastActual = reader.ReadBoolean(); // checked against the lagged model below
         if (!_started && !Bits.Same(lag, freshLag))
         {
             throw Invalid("it has seen no event, yet its lagged model is not that of a new series");
         }
 
-        if (r.Lag.HasLastActual != (r.Lag.Model.Count > 0) || (!r.Lag.HasLastActual && !IsInitialZero(r.Lag.LastActual)))
+        if (lagHasLastActual != (r.Lag.Model.Count > 0) || (!lagHasLastActual && !IsInitialZero(r.Lag.LastActual)))
         {
             throw Invalid("the lagged model's last actual and its flag disagree with the lagged model: the flag is on exactly when it has taken an actual, and the last actual is 0 while it is off");
         }
@@ -320,7 +320,7 @@ internal sealed partial class SeriesState<TKey>
         // when the oldest retained period leaves the window, the lagged model through it; a restatement rolls the model
         // back to the lagged one and replays the window. Both use the same model step, so the replay must reproduce the
         // model and its last actual bit for bit.
-        var replay = new SeriesStep<TKey>(Key, _options, withRules: false);
+        var replay = new SeriesStep<TKey>(Key, Options, withRules: false);
         replay.SetMarks(_step.Marks);
         replay.Model.ImportState(lag);
         if (lagReference is not null)
@@ -328,7 +328,6 @@ internal sealed partial class SeriesState<TKey>
             replay.Reference!.ImportState(lagReference);
         }
         replay.LastActual = r.Lag.LastActual;
-        replay.HasLastActual = r.Lag.HasLastActual;
         for (int i = 0; i < closed; i++)
         {
             replay.Apply(first + i, r.ClosedHas[i] == SlotHasData, r.ClosedSums[i], StepMode.Silent, null, null);

@@ -12,7 +12,7 @@ public sealed partial class SeriesStep<TKey>
     private void EvaluateRules(WatchedModel watched, ErrorSummary errors, double error, long period, ISeriesSink<TKey> sink, SeriesCounters? counters, DateTimeOffset start)
     {
         DriftInput input = errors.ToDriftInput(error);
-        for (int i = 0; i < _ruleCount; i++)
+        for (int i = 0, count = RuleCount; i < count; i++)
         {
             if (_options.Rules[i].Watches != watched)
             {
@@ -57,5 +57,5 @@ public sealed partial class SeriesStep<TKey>
 
     /// <summary>The error tracker the rule at <paramref name="ruleIndex"/> watches.</summary>
     internal ErrorTracker WatchedTracker(int ruleIndex) =>
-        _options.Rules[ruleIndex].Watches == WatchedModel.Reference ? _reference!.Tracker : _model.Tracker;
+        _options.Rules[ruleIndex].Watches == WatchedModel.Reference ? _extras!.Reference!.Tracker : _model.Tracker;
 }

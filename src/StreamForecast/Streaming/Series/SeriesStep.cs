@@ -50,18 +50,13 @@ public sealed partial class SeriesStep<TKey>
     private readonly SeriesOptions _options;
     private readonly TrackedForecaster _model;
 
-    // The reference model (null without one) and the buffer its state is backed up to before each period.
-    private readonly TrackedForecaster? _reference;
-    private readonly double[]? _referenceBackup;
-
-    // Drift rules: none (both null), one (held directly), or several (the array, in the options' order).
+    // Drift rules: none, one (held directly), or several (in the extras, in the options' order). Their number is the
+    // options' unless the step runs without rules (the extras say so), so it is not held per series.
     private readonly DriftRule? _singleRule;
-    private readonly DriftRule[]? _ruleArray;
-    private readonly int _ruleCount;
 
-    // Known events (null for a series no event applies to): the marked periods, and the lift observed in them.
-    private EventMarks? _marks;
-    private EventLiftSums? _lift;
+    // What most series never use (null for a series with none of it): the reference model and its backup, several
+    // rules, the known-event marks and lift sums. One reference instead of five per series (memory per series).
+    private SeriesStepExtras? _extras;
 
     /// <summary>Creates the step of a new series.</summary>
     /// <param name="key">The series key carried on every output.</param>
@@ -86,7 +81,7 @@ public sealed partial class SeriesStep<TKey>
     {
         if (events is not null)
         {
-            _marks = EventCalendar<TKey>.MarksFor(key, options.Calendar, events, [], EqualityComparer<TKey>.Default);
+            SetMarks(EventCalendar<TKey>.MarksFor(key, options.Calendar, events, [], EqualityComparer<TKey>.Default));
         }
     }
 
@@ -98,21 +93,28 @@ public sealed partial class SeriesStep<TKey>
         _model = new TrackedForecaster(options.Method, options.Tracking, options.Intervals);
         if (options.ReferenceMethod is { } referenceMethod)
         {
-            _reference = new TrackedForecaster(referenceMethod, options.Tracking);
-            _referenceBackup = new double[_reference.StateLength];
+            var reference = new TrackedForecaster(referenceMethod, options.Tracking);
+            _extras = new SeriesStepExtras { Reference = reference, ReferenceBackup = new double[reference.StateLength] };
         }
-        _ruleCount = withRules ? options.Rules.Length : 0;
-        if (_ruleCount == 1)
+        int ruleCount = withRules ? options.Rules.Length : 0;
+        if (!withRules && options.Rules.Length > 0)
+        {
+            (_extras ??= new SeriesStepExtras()).WithoutRules = true;
+        }
+
+        if (ruleCount == 1)
         {
             _singleRule = options.Rules[0].CreateRule();
         }
-        else if (_ruleCount > 1)
+        else if (ruleCount > 1)
         {
-            _ruleArray = new DriftRule[_ruleCount];
-            for (int i = 0; i < _ruleCount; i++)
+            var rules = new DriftRule[ruleCount];
+            for (int i = 0; i < ruleCount; i++)
             {
-                _ruleArray[i] = options.Rules[i].CreateRule();
+                rules[i] = options.Rules[i].CreateRule();
             }
+
+            (_extras ??= new SeriesStepExtras()).Rules = rules;
         }
     }
 
@@ -129,36 +131,21 @@ public sealed partial class SeriesStep<TKey>
     /// The reference model and its error statistics, or null without <see cref="SeriesOptions.ReferenceMethod"/> (read
     /// them freely; change them only through this step). Its forecasts are never published.
     /// </summary>
-    public TrackedForecaster? Reference => _reference;
+    public TrackedForecaster? Reference => _extras?.Reference;
 
     /// <summary>The number of drift rules (the options' rules, in order).</summary>
-    public int RuleCount => _ruleCount;
+    public int RuleCount
+    {
+        [MethodImpl(MethodImplOptions.AggressiveInlining)] // read on every scored period
+        get => _extras is { WithoutRules: true } ? 0 : _options.Rules.Length;
+    }
 
     /// <summary>The last actual fed to the model, for a gap policy that carries it forward; meaningful when <see cref="HasLastActual"/>.</summary>
     public double LastActual { get; internal set; }
 
     /// <summary>Whether any actual has been fed to the model yet.</summary>
-    public bool HasLastActual { get; internal set; }
-
-    /// <summary>
-    /// The lift observed per event kind in this series' marked periods (see <see cref="EventLift"/>), in the order the
-    /// kinds were first met; empty when no marked period has closed with a forecast.
-    /// </summary>
-    /// <returns>A fresh array.</returns>
-    /// <remarks>O(kinds); allocates the array. Not thread-safe (read it on the owner).</remarks>
-    public EventLift[] GetEventLift() => _lift?.ToArray() ?? [];
-
-    /// <summary>The marked periods now (null: none).</summary>
-    internal EventMarks? Marks => _marks;
-
-    /// <summary>The lift sums (null until a marked period closed with a forecast).</summary>
-    internal EventLiftSums? Lift => _lift;
-
-    /// <summary>Replaces the marked periods (a declaration or withdrawal at run time, a restore).</summary>
-    internal void SetMarks(EventMarks? marks) => _marks = marks;
-
-    /// <summary>Replaces the lift sums (a restore).</summary>
-    internal void SetLift(EventLiftSums? lift) => _lift = lift;
+    /// <remarks>The same as the model having taken a period (<see cref="TrackedForecaster.Count"/> above 0): the two change together.</remarks>
+    public bool HasLastActual => _model.Count > 0;
 
     /// <summary>The drift rule at <paramref name="index"/> (0 ≤ index &lt; <see cref="RuleCount"/>).</summary>
     /// <param name="index">The rule's position in the options.</param>
@@ -167,7 +154,7 @@ public sealed partial class SeriesStep<TKey>
     public DriftRule GetRule(int index)
     {
         ArgumentOutOfRangeException.ThrowIfNegative(index);
-        ArgumentOutOfRangeException.ThrowIfGreaterThanOrEqual(index, _ruleCount);
+        ArgumentOutOfRangeException.ThrowIfGreaterThanOrEqual(index, RuleCount);
         return RuleAt(index);
     }
 
@@ -205,8 +192,8 @@ public sealed partial class SeriesStep<TKey>
     internal void Acknowledge(long lastClosedPeriod, bool started, ISeriesSink<TKey> sink, SeriesCounters? counters)
     {
         _model.ResetErrors();
-        _reference?.ResetErrors();
-        for (int i = 0; i < _ruleCount; i++)
+        _extras?.Reference?.ResetErrors();
+        for (int i = 0, count = RuleCount; i < count; i++)
         {
             Publish(i, RuleAt(i).Rebaseline(), lastClosedPeriod, sink, counters, null, started ? null : default(DateTimeOffset));
         }
@@ -217,25 +204,25 @@ public sealed partial class SeriesStep<TKey>
     {
         source._model.ExportState(scratch);
         _model.ImportState(scratch);
-        if (_reference is not null)
+        if (_extras?.Reference is { } reference)
         {
-            source._reference!.ExportState(_referenceBackup);
-            _reference.ImportState(_referenceBackup);
+            source._extras!.Reference!.ExportState(_extras.ReferenceBackup);
+            reference.ImportState(_extras.ReferenceBackup);
         }
 
         LastActual = source.LastActual;
-        HasLastActual = source.HasLastActual;
-        if (source._lift is not null || _lift is not null)
+        if (source.Lift is not null || Lift is not null)
         {
-            (_lift ??= new EventLiftSums()).CopyFrom(source._lift);
+            SeriesStepExtras extras = _extras ??= new SeriesStepExtras();
+            (extras.Lift ??= new EventLiftSums()).CopyFrom(source.Lift);
         }
     }
 
     [MethodImpl(MethodImplOptions.AggressiveInlining)]
     internal DriftRule RuleAt(int index)
     {
-        Debug.Assert(index >= 0 && index < _ruleCount);
-        return _ruleArray is null ? _singleRule! : _ruleArray[index];
+        Debug.Assert(index >= 0 && index < RuleCount);
+        return _singleRule ?? _extras!.Rules![index];
     }
 
     /// <summary>Applies one period; <paramref name="sink"/> may be null only in <see cref="StepMode.Silent"/>.</summary>
@@ -256,7 +243,9 @@ public sealed partial class SeriesStep<TKey>
         // A period marked by a known event is never scored: the error statistics and the drift rules do not see it. Its
         // lift is measured against the forecast made for it, which the model learns from instead of the actual when the
         // event keeps it out of the model (the period count and seasonal position move on as in any period).
-        EventKind? marked = _marks?.KindAt(period, out keepOut);
+        SeriesStepExtras? extras = _extras;
+        TrackedForecaster? reference = extras?.Reference;
+        EventKind? marked = extras?.Marks?.KindAt(period, out keepOut);
         double fed = actual;
         double eventForecast = double.NaN;
         if (marked is not null)
@@ -270,7 +259,7 @@ public sealed partial class SeriesStep<TKey>
 
         // The reference model keeps the same period out of its learning with its own forecast.
         double referenceFed = actual;
-        if (marked is not null && keepOut && _reference is not null && _reference.Forecaster.TryForecast(1, out double referenceForecast))
+        if (marked is not null && keepOut && reference is not null && reference.Forecaster.TryForecast(1, out double referenceForecast))
         {
             referenceFed = referenceForecast;
         }
@@ -279,19 +268,19 @@ public sealed partial class SeriesStep<TKey>
         var referenceScore = new PeriodScore(double.NaN, double.NaN, double.NaN);
         try
         {
-            if (_reference is not null)
+            if (reference is not null)
             {
                 // Both models take the actual or neither does: back the reference up, step it, and put it back if the
                 // published model then refuses the actual.
-                _reference.ExportState(_referenceBackup);
-                referenceScore = scored ? _reference.Update(referenceFed) : _reference.UpdateUnscored(referenceFed);
+                reference.ExportState(extras!.ReferenceBackup);
+                referenceScore = scored ? reference.Update(referenceFed) : reference.UpdateUnscored(referenceFed);
                 try
                 {
                     score = scored ? _model.Update(fed) : _model.UpdateUnscored(fed);
                 }
                 catch (ArgumentOutOfRangeException)
                 {
-                    _reference.ImportState(_referenceBackup);
+                    reference.ImportState(extras.ReferenceBackup);
                     throw;
                 }
             }
@@ -315,11 +304,11 @@ public sealed partial class SeriesStep<TKey>
             return;
         }
 
-        LastActual = fed;
-        HasLastActual = true;
+        LastActual = fed; // the model has taken a period now, so HasLastActual is true
         if (marked is not null && !double.IsNaN(eventForecast))
         {
-            (_lift ??= new EventLiftSums()).Add(marked, actual, eventForecast);
+            extras = _extras ??= new SeriesStepExtras();
+            (extras.Lift ??= new EventLiftSums()).Add(marked, actual, eventForecast);
         }
 
         if (mode == StepMode.Silent)
@@ -347,9 +336,9 @@ public sealed partial class SeriesStep<TKey>
             EvaluateRules(WatchedModel.Published, errors, score.Error, period, sink, counters, start);
         }
 
-        if (_reference is not null && referenceScore.IsScored)
+        if (reference is not null && referenceScore.IsScored)
         {
-            EvaluateRules(WatchedModel.Reference, ErrorSummary.Of(_reference.Tracker), referenceScore.Error, period, sink, counters, start);
+            EvaluateRules(WatchedModel.Reference, ErrorSummary.Of(reference.Tracker), referenceScore.Error, period, sink, counters, start);
         }
     }
 

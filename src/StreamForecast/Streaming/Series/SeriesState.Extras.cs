@@ -1,0 +1,23 @@
+namespace StreamForecast.Streaming;
+
+// The parts of a series' state that most series never use, in one object created only for a series that uses one of
+// them (issue 15, target 3: memory per series).
+internal sealed partial class SeriesState<TKey>
+{
+    /// <summary>The open-period ring when the lateness needs more than <see cref="InlineOpenPeriods"/> slots; else null.</summary>
+    private OpenPeriod[]? OpenSpill => _extras?.OpenSpill;
+
+    /// <summary>The restatement state (the lagged model and the retained closed periods), or null when the options allow none.</summary>
+    private Restatement? Restating => _extras?.Restatement;
+
+    /// <summary>The remembered event ids, or null until the first id arrives.</summary>
+    private EventIdWindow? Ids => _extras?.Ids;
+
+    /// <summary>The rarely used parts of one series' state: each null when unused.</summary>
+    private sealed class Extras
+    {
+        public OpenPeriod[]? OpenSpill;
+        public Restatement? Restatement;
+        public EventIdWindow? Ids;
+    }
+}
