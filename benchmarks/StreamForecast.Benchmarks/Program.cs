@@ -11,6 +11,8 @@ using StreamForecast.Benchmarks;
 //   dotnet run -c Release --project benchmarks/StreamForecast.Benchmarks -- keyed-sim <engine|dictionary> <keys> <rounds>
 // Updates a no-op push subscriber loses at the engine's full rate (default buffer, one partition; issue 15 target 1):
 //   dotnet run -c Release --project benchmarks/StreamForecast.Benchmarks -- drops [observations] [keys]
+// The EngineThroughputBenchmarks workload (one partition) as a plain program, for valgrind (see benchmarks/README.md):
+//   dotnet run -c Release --project benchmarks/StreamForecast.Benchmarks -- engine-instructions <keys> <rounds> [warm rounds]
 // Charts from the result CSVs of a run:
 //   dotnet run -c Release --project benchmarks/StreamForecast.Benchmarks -- chart <results folder> <output folder>
 if (args.Length > 0 && args[0] == "memory")
@@ -28,6 +30,14 @@ if (args.Length > 0 && args[0] == "drops")
 if (args.Length == 4 && args[0] == "keyed-sim")
 {
     return KeyedSimulation.Run(args[1], int.Parse(args[2], System.Globalization.CultureInfo.InvariantCulture), int.Parse(args[3], System.Globalization.CultureInfo.InvariantCulture));
+}
+
+if (args.Length is 3 or 4 && args[0] == "engine-instructions")
+{
+    return await EngineInstructions.RunAsync(
+        int.Parse(args[1], System.Globalization.CultureInfo.InvariantCulture),
+        int.Parse(args[2], System.Globalization.CultureInfo.InvariantCulture),
+        args.Length > 3 ? int.Parse(args[3], System.Globalization.CultureInfo.InvariantCulture) : 1).ConfigureAwait(false);
 }
 
 if (args.Length > 0 && args[0] == "chart")
