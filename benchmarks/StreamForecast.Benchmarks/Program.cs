@@ -13,6 +13,8 @@ using StreamForecast.Benchmarks;
 //   dotnet run -c Release --project benchmarks/StreamForecast.Benchmarks -- drops [observations] [keys]
 // Series per second of SeriesTuner.TuneMany on invented two-year daily histories, 1 and 2 workers (issue 15 target 5):
 //   dotnet run -c Release --project benchmarks/StreamForecast.Benchmarks -- tune-rate [series] [fit-starts|today] [workers, e.g. 1,2]
+// The EngineThroughputBenchmarks workload (one partition) as a plain program, for valgrind (see benchmarks/README.md):
+//   dotnet run -c Release --project benchmarks/StreamForecast.Benchmarks -- engine-instructions <keys> <rounds> [warm rounds]
 // Charts from the result CSVs of a run:
 //   dotnet run -c Release --project benchmarks/StreamForecast.Benchmarks -- chart <results folder> <output folder>
 if (args.Length > 0 && args[0] == "memory")
@@ -38,6 +40,14 @@ if (args.Length > 0 && args[0] == "tune-rate")
         args.Length > 1 ? int.Parse(args[1], System.Globalization.CultureInfo.InvariantCulture) : 1_000,
         args.Length > 2 && args[2] == "fit-starts",
         args.Length > 3 ? [.. args[3].Split(',').Select(a => int.Parse(a, System.Globalization.CultureInfo.InvariantCulture))] : [1, 2]);
+}
+
+if (args.Length is 3 or 4 && args[0] == "engine-instructions")
+{
+    return await EngineInstructions.RunAsync(
+        int.Parse(args[1], System.Globalization.CultureInfo.InvariantCulture),
+        int.Parse(args[2], System.Globalization.CultureInfo.InvariantCulture),
+        args.Length > 3 ? int.Parse(args[3], System.Globalization.CultureInfo.InvariantCulture) : 1).ConfigureAwait(false);
 }
 
 if (args.Length > 0 && args[0] == "chart")
