@@ -102,7 +102,7 @@ public static class ForwarderRun
         }
 
         long pagerDone = pager.DeliveredCount;
-        int pagerWaiting = pager.BufferedCount;
+        int pagerWaiting = pager.PendingCount; // buffered plus the batch the stuck call holds
         pagerGate.Release(int.MaxValue / 2); // the pager comes back; the engine's stop waits for every subscriber to be told
         await host.StopAsync();
         pager.Dispose();

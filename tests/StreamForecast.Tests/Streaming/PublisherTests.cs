@@ -123,6 +123,7 @@ public sealed class PublisherTests
         // Items 1..100 went into a 10-slot buffer: exactly 90 dropped, the oldest ones, in order.
         Assert.Equal(burst - capacity, slowSubscription.DroppedCount);
         Assert.Equal(capacity, slowSubscription.BufferedCount);
+        Assert.Equal(capacity + 1, slowSubscription.PendingCount); // item 0, held by the blocked call, is pending too
         Assert.Equal(Enumerable.Range(1, burst - capacity).ToArray(), dropped.Select(d => d.Item).ToArray());
         Assert.All(dropped, d => Assert.Equal(slowSubscription.Id, d.Id));
 

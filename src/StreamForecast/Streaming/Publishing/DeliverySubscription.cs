@@ -47,6 +47,14 @@ public sealed class DeliverySubscription : IDisposable
     public int BufferedCount => _control.BufferedCount;
 
     /// <summary>
+    /// How many items this subscriber has been given and not yet had delivered: those in its buffer plus those of the
+    /// batch its delivery loop is working through (the item whose <see cref="IObserver{T}.OnNext"/> is running included).
+    /// The backlog a monitor should watch; while the loop is inside an observer call it is exact, otherwise a snapshot
+    /// that may be off by one batch while the loop moves between batches. O(1); takes the buffer's lock briefly.
+    /// </summary>
+    public int PendingCount => _control.PendingCount;
+
+    /// <summary>
     /// Completes when this subscriber's delivery loop has ended: after the publisher completed and the loop delivered
     /// the buffered items and the final notification, or soon after <see cref="Dispose"/>. Never faults.
     /// </summary>
@@ -75,6 +83,8 @@ public sealed class DeliverySubscription : IDisposable
 internal interface IDeliveryControl
 {
     int BufferedCount { get; }
+
+    int PendingCount { get; }
 
     Task Completion { get; }
 

@@ -38,6 +38,7 @@ internal sealed partial class Publisher<T>
         private readonly T[] _batch;
         private readonly TaskCompletionSource _loopEnded = new(TaskCreationOptions.RunContinuationsAsynchronously);
         private volatile bool _stopped;
+        private volatile int _inBatch; // items of the batch being delivered that were not yet counted as delivered
 
         public PushSubscriber(Publisher<T> owner, IObserver<T> observer, long id)
         {
@@ -51,6 +52,8 @@ internal sealed partial class Publisher<T>
         public DeliverySubscription Handle { get; }
 
         public int BufferedCount => _buffer.Count;
+
+        public int PendingCount => _buffer.Count + _inBatch;
 
         public Task Completion => _loopEnded.Task;
 
@@ -147,6 +150,7 @@ internal sealed partial class Publisher<T>
 
         private void Deliver(T[] batch, int count)
         {
+            _inBatch = count; // once per batch: nothing is added per item
             int delivered = 0;
             int i = 0;
             while (i < count && !_stopped)
@@ -169,6 +173,7 @@ internal sealed partial class Publisher<T>
             }
 
             Handle.CountDelivered(delivered);
+            _inBatch = 0;
             if (RuntimeHelpers.IsReferenceOrContainsReferences<T>())
             {
                 Array.Clear(batch, 0, count);
