@@ -227,60 +227,18 @@ public sealed partial class PostgreSqlCheckpointStore : IConditionalCheckpointSt
     private async ValueTask<bool> SaveCoreAsync(ReadOnlyMemory<byte> snapshot, long inputPosition, bool conditional, long? expectedLatestPosition, CancellationToken cancellationToken)
     {
         ObjectDisposedException.ThrowIf(Volatile.Read(ref _disposed) != 0, this);
-        byte[] hash = SHA256.HashData(snapshot.Span);
-        NpgsqlConnection connection = await OpenAsync(cancellationToken).ConfigureAwait(false);
-        await using (connection.ConfigureAwait(false))
+        if (!_schemaReady)
         {
-            // READ COMMITTED whatever the server's default: each statement after the lock then sees every save committed
-            // by the lock's previous holder.
-            NpgsqlTransaction transaction = await connection.BeginTransactionAsync(IsolationLevel.ReadCommitted, cancellationToken).ConfigureAwait(false);
-            await using (transaction.ConfigureAwait(false))
-            {
-                var lockStream = new NpgsqlBatch(connection, transaction);
-                await using (lockStream.ConfigureAwait(false))
-                {
-                    lockStream.BatchCommands.Add(Command($"INSERT INTO {_schema}.streams (name) VALUES ($1) ON CONFLICT (name) DO NOTHING", Text(_options.StreamName)));
-                    lockStream.BatchCommands.Add(Command($"SELECT 1 FROM {_schema}.streams WHERE name = $1 FOR UPDATE", Text(_options.StreamName)));
-                    await lockStream.ExecuteNonQueryAsync(cancellationToken).ConfigureAwait(false);
-                }
-
-                if (conditional)
-                {
-                    long? latest = await NewestValidPositionAsync(connection, transaction, cancellationToken).ConfigureAwait(false);
-                    if (latest != expectedLatestPosition)
-                    {
-                        return false; // disposing the transaction rolls it back; nothing was written
-                    }
-                }
-
-                var write = new NpgsqlBatch(connection, transaction);
-                await using (write.ConfigureAwait(false))
-                {
-                    write.BatchCommands.Add(Command(
-                        $"INSERT INTO {_schema}.checkpoints (stream, input_position, snapshot_length, snapshot_sha256, snapshot) VALUES ($1, $2, $3, $4, $5)",
-                        Text(_options.StreamName),
-                        new NpgsqlParameter<long> { TypedValue = inputPosition },
-                        new NpgsqlParameter<long> { TypedValue = snapshot.Length },
-                        new NpgsqlParameter<byte[]> { TypedValue = hash, NpgsqlDbType = NpgsqlDbType.Bytea },
-                        new NpgsqlParameter<ReadOnlyMemory<byte>> { TypedValue = snapshot, NpgsqlDbType = NpgsqlDbType.Bytea }));
-                    write.BatchCommands.Add(Command(
-                        $"""
-                        DELETE FROM {_schema}.checkpoints WHERE stream = $1 AND sequence <
-                            (SELECT sequence FROM {_schema}.checkpoints WHERE stream = $1 ORDER BY sequence DESC OFFSET $2 LIMIT 1)
-                        """,
-                        Text(_options.StreamName),
-                        new NpgsqlParameter<int> { TypedValue = _options.RetainCount - 1 }));
-                    await write.ExecuteNonQueryAsync(cancellationToken).ConfigureAwait(false);
-                }
-
-                cancellationToken.ThrowIfCancellationRequested();
-                await transaction.CommitAsync(CancellationToken.None).ConfigureAwait(false);
-                return true;
-            }
+            // Checked by this store before it joins a group, so that a schema it cannot use fails only its own saves.
+            NpgsqlConnection connection = await OpenAsync(cancellationToken).ConfigureAwait(false);
+            await connection.DisposeAsync().ConfigureAwait(false);
         }
+
+        var save = new PendingSave(this, snapshot, SHA256.HashData(snapshot.Span), inputPosition, conditional, expectedLatestPosition, cancellationToken);
+        return await PostgreSqlCommitQueue.For(_dataSource).SaveAsync(save, cancellationToken).ConfigureAwait(false);
     }
 
-    private async Task<long?> NewestValidPositionAsync(NpgsqlConnection connection, NpgsqlTransaction transaction, CancellationToken cancellationToken)
+    internal async Task<long?> NewestValidPositionAsync(NpgsqlConnection connection, NpgsqlTransaction transaction, CancellationToken cancellationToken)
     {
         long before = long.MaxValue;
         while (await ReadOlderRowAsync(connection, transaction, before, cancellationToken).ConfigureAwait(false) is StoredRow row)
@@ -299,54 +257,14 @@ public sealed partial class PostgreSqlCheckpointStore : IConditionalCheckpointSt
     // Reads the stream's newest row with a sequence below `before`, and checks it; null when there is none.
     private async Task<StoredRow?> ReadOlderRowAsync(NpgsqlConnection connection, NpgsqlTransaction transaction, long before, CancellationToken cancellationToken)
     {
-        var select = new NpgsqlCommand(
-            $"""
-            SELECT sequence, input_position, snapshot_length, snapshot_sha256, octet_length(snapshot),
-                   CASE WHEN octet_length(snapshot) <= $3 THEN snapshot END
-            FROM {_schema}.checkpoints WHERE stream = $1 AND sequence < $2 ORDER BY sequence DESC LIMIT 1
-            """,
-            connection,
-            transaction);
+        var select = new NpgsqlBatch(connection, transaction);
         await using (select.ConfigureAwait(false))
         {
-            select.Parameters.Add(Text(_options.StreamName));
-            select.Parameters.Add(new NpgsqlParameter<long> { TypedValue = before });
-            select.Parameters.Add(new NpgsqlParameter<long> { TypedValue = _options.MaxSnapshotLength });
+            select.BatchCommands.Add(OlderRowCommand(before));
             NpgsqlDataReader reader = await select.ExecuteReaderAsync(cancellationToken).ConfigureAwait(false);
             await using (reader.ConfigureAwait(false))
             {
-                if (!await reader.ReadAsync(cancellationToken).ConfigureAwait(false))
-                {
-                    return null;
-                }
-
-                long sequence = reader.GetInt64(0);
-                long position = reader.GetInt64(1);
-                long declared = reader.GetInt64(2);
-                byte[] storedHash = reader.GetFieldValue<byte[]>(3);
-                long stored = reader.GetInt32(4);
-                if (position < 0)
-                {
-                    return new StoredRow(sequence, position, null, string.Create(CultureInfo.InvariantCulture, $"The input position {position} is negative."));
-                }
-
-                if (stored != declared)
-                {
-                    return new StoredRow(sequence, position, null, string.Create(CultureInfo.InvariantCulture, $"The snapshot is {stored} bytes but its row declares {declared}."));
-                }
-
-                if (stored > _options.MaxSnapshotLength || reader.IsDBNull(5))
-                {
-                    return new StoredRow(sequence, position, null, string.Create(CultureInfo.InvariantCulture, $"The snapshot is {stored} bytes, more than the limit of {_options.MaxSnapshotLength} bytes."));
-                }
-
-                byte[] bytes = reader.GetFieldValue<byte[]>(5);
-                if (!SHA256.HashData(bytes).AsSpan().SequenceEqual(storedHash))
-                {
-                    return new StoredRow(sequence, position, null, "The snapshot's SHA-256 does not match the one stored with it.");
-                }
-
-                return new StoredRow(sequence, position, bytes, null);
+                return await ReadRowAsync(reader, cancellationToken).ConfigureAwait(false);
             }
         }
     }
