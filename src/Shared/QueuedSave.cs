@@ -2,7 +2,7 @@ namespace StreamForecast.Shared;
 
 /// <summary>
 /// The claim and outcome of one checkpoint save waiting in a store's group-commit queue (this file is compiled into
-/// the PostgreSQL store; the SQLite store keeps its own equivalent): a transaction claims the save with
+/// the SQLite and PostgreSQL stores, each with its own subclass): a transaction claims the save with
 /// <see cref="TryTake"/>, or its caller withdraws it with <see cref="TryWithdraw"/> when cancelled, never both.
 /// </summary>
 internal abstract class QueuedSave
