@@ -145,5 +145,5 @@ public sealed partial class PostgreSqlCheckpointStore
         }
     }
 
-    private readonly record struct StoredRow(long Sequence, long Position, byte[]? Snapshot, string? Problem);
+    internal readonly record struct StoredRow(long Sequence, long Position, byte[]? Snapshot, string? Problem);
 }

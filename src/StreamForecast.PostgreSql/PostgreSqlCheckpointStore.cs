@@ -36,12 +36,25 @@ namespace StreamForecast.PostgreSql;
 /// (<c>fsync</c> and <c>synchronous_commit</c> on) a committed save survives a crash of the server or its machine. A
 /// server run with either turned off, or a commit acknowledged only by an asynchronous standby, does not give that
 /// guarantee: configure the server for it.</para>
-/// <para><b>Concurrency.</b> Every save (conditional or not) begins a READ COMMITTED transaction and first locks its
-/// stream's row in <c>streams</c> (inserting it if missing), so saves to one stream, from any instance or machine,
-/// run one at a time in the order they took the lock, and the conditional comparison sees every save committed before
-/// it. Saves to different streams do not wait for each other. Loads read in a REPEATABLE READ transaction, so one load
-/// sees one consistent state of the stream, and never wait for saves. Two stores given the same stream name share the
-/// stream: <see cref="SaveAsync"/> is then last-writer-wins, and <see cref="TrySaveAsync"/> detects the other writer.</para>
+/// <para><b>Concurrency.</b> Every save's transaction is READ COMMITTED and first locks its stream's row in
+/// <c>streams</c> (inserting it if missing), so saves to one stream, from any instance or machine, run one at a time in
+/// the order they took the lock, and the conditional comparison sees every save committed before it. Loads read in a
+/// REPEATABLE READ transaction, so one load sees one consistent state of the stream, and never wait for saves. Two
+/// stores given the same stream name share the stream: <see cref="SaveAsync"/> is then last-writer-wins, and
+/// <see cref="TrySaveAsync"/> detects the other writer.</para>
+/// <para><b>Group commit.</b> Saves made through one <see cref="NpgsqlDataSource"/> in one process (of any stores,
+/// streams and schemas on it) that wait for each other are written together: up to four transactions run at a time per
+/// data source, and the saves that arrive meanwhile queue and go, in queue order, into the next one, with their streams'
+/// locks taken in name order (so groups of several processes never deadlock), the conditional reads in the same round
+/// trip as the locks, every insert and pruning in one batch, and one commit. Each save keeps its own semantics, as if it
+/// had committed on its own right after the saves queued before it: a conditional save compares its expectation with
+/// its stream as those saves left it, so of several conditional saves with the same expectation at most one (the first
+/// queued that matches) returns <see langword="true"/>. Each save returns only after its group has committed; if
+/// anything in the group fails, nothing of it is stored and every save in it throws the same exception. A save
+/// cancelled while queued is withdrawn and throws <see cref="OperationCanceledException"/>; once in a group's
+/// transaction it stops only when every caller of the group has cancelled (a lone save: when its caller has). A stream
+/// locked for long by another process delays the groups that write to it, and while all four transactions of a data
+/// source wait, the others of that data source queue.</para>
 /// <para><b>Connections.</b> The store opens a pooled connection from its <see cref="NpgsqlDataSource"/> for each
 /// operation and returns it at once. Stores made from a connection string own a data source (one connection pool)
 /// each; for many stores (an Orleans silo makes one per grain), create one data source and pass it to every store.</para>
@@ -113,9 +126,10 @@ public sealed partial class PostgreSqlCheckpointStore : IConditionalCheckpointSt
     /// <exception cref="NpgsqlException">The server could not be reached or refused the statements (no privilege, disk full...); no checkpoint was added.</exception>
     /// <exception cref="ObjectDisposedException">The store has been disposed.</exception>
     /// <remarks>
-    /// Cost: one SHA-256 over the snapshot and three round trips to the server (begin and lock the stream, insert and
-    /// prune, commit; the first operation of an instance also checks the schema, one more). Waits while another save to
-    /// the same stream holds its lock.
+    /// Cost: one SHA-256 over the snapshot and three round trips to the server (lock the stream, insert and prune,
+    /// commit), shared with the other saves of its group (see the class remarks); the first operation of an instance
+    /// also checks the schema, one more. Waits while another save to the same stream holds its lock, and while the data
+    /// source's transactions are busy.
     /// </remarks>
     public async ValueTask SaveAsync(ReadOnlyMemory<byte> snapshot, long inputPosition, CancellationToken cancellationToken = default)
     {
@@ -132,11 +146,12 @@ public sealed partial class PostgreSqlCheckpointStore : IConditionalCheckpointSt
     /// <remarks>
     /// <para><b>Newest.</b> Damaged rows are skipped exactly as <see cref="LoadLatestAsync"/> skips them, so a position
     /// just loaded is always a matching expectation.</para>
-    /// <para>Cost: that of <see cref="SaveAsync"/>, plus one round trip reading and hashing the stream's newest stored
-    /// snapshot (and one more per older one, read only while the newer are damaged) inside the transaction.</para>
+    /// <para>Cost: that of <see cref="SaveAsync"/>, plus reading and hashing the stream's newest stored snapshot, in the
+    /// round trip that takes the locks (one more round trip per older one, read only while the newer are damaged; none
+    /// when an earlier save of the same group wrote the stream).</para>
     /// <para><b>Thread safety.</b> Atomic with respect to every save to the stream, from this instance, other instances
-    /// or other machines: of several conditional saves made with the same expectation, at most one returns
-    /// <see langword="true"/>.</para>
+    /// or other machines, grouped or not: of several conditional saves made with the same expectation, at most one
+    /// returns <see langword="true"/>.</para>
     /// </remarks>
     public async ValueTask<bool> TrySaveAsync(ReadOnlyMemory<byte> snapshot, long inputPosition, long? expectedLatestPosition, CancellationToken cancellationToken = default)
     {
@@ -227,60 +242,18 @@ public sealed partial class PostgreSqlCheckpointStore : IConditionalCheckpointSt
     private async ValueTask<bool> SaveCoreAsync(ReadOnlyMemory<byte> snapshot, long inputPosition, bool conditional, long? expectedLatestPosition, CancellationToken cancellationToken)
     {
         ObjectDisposedException.ThrowIf(Volatile.Read(ref _disposed) != 0, this);
-        byte[] hash = SHA256.HashData(snapshot.Span);
-        NpgsqlConnection connection = await OpenAsync(cancellationToken).ConfigureAwait(false);
-        await using (connection.ConfigureAwait(false))
+        if (!_schemaReady)
         {
-            // READ COMMITTED whatever the server's default: each statement after the lock then sees every save committed
-            // by the lock's previous holder.
-            NpgsqlTransaction transaction = await connection.BeginTransactionAsync(IsolationLevel.ReadCommitted, cancellationToken).ConfigureAwait(false);
-            await using (transaction.ConfigureAwait(false))
-            {
-                var lockStream = new NpgsqlBatch(connection, transaction);
-                await using (lockStream.ConfigureAwait(false))
-                {
-                    lockStream.BatchCommands.Add(Command($"INSERT INTO {_schema}.streams (name) VALUES ($1) ON CONFLICT (name) DO NOTHING", Text(_options.StreamName)));
-                    lockStream.BatchCommands.Add(Command($"SELECT 1 FROM {_schema}.streams WHERE name = $1 FOR UPDATE", Text(_options.StreamName)));
-                    await lockStream.ExecuteNonQueryAsync(cancellationToken).ConfigureAwait(false);
-                }
-
-                if (conditional)
-                {
-                    long? latest = await NewestValidPositionAsync(connection, transaction, cancellationToken).ConfigureAwait(false);
-                    if (latest != expectedLatestPosition)
-                    {
-                        return false; // disposing the transaction rolls it back; nothing was written
-                    }
-                }
-
-                var write = new NpgsqlBatch(connection, transaction);
-                await using (write.ConfigureAwait(false))
-                {
-                    write.BatchCommands.Add(Command(
-                        $"INSERT INTO {_schema}.checkpoints (stream, input_position, snapshot_length, snapshot_sha256, snapshot) VALUES ($1, $2, $3, $4, $5)",
-                        Text(_options.StreamName),
-                        new NpgsqlParameter<long> { TypedValue = inputPosition },
-                        new NpgsqlParameter<long> { TypedValue = snapshot.Length },
-                        new NpgsqlParameter<byte[]> { TypedValue = hash, NpgsqlDbType = NpgsqlDbType.Bytea },
-                        new NpgsqlParameter<ReadOnlyMemory<byte>> { TypedValue = snapshot, NpgsqlDbType = NpgsqlDbType.Bytea }));
-                    write.BatchCommands.Add(Command(
-                        $"""
-                        DELETE FROM {_schema}.checkpoints WHERE stream = $1 AND sequence <
-                            (SELECT sequence FROM {_schema}.checkpoints WHERE stream = $1 ORDER BY sequence DESC OFFSET $2 LIMIT 1)
-                        """,
-                        Text(_options.StreamName),
-                        new NpgsqlParameter<int> { TypedValue = _options.RetainCount - 1 }));
-                    await write.ExecuteNonQueryAsync(cancellationToken).ConfigureAwait(false);
-                }
-
-                cancellationToken.ThrowIfCancellationRequested();
-                await transaction.CommitAsync(CancellationToken.None).ConfigureAwait(false);
-                return true;
-            }
+            // Checked by this store before it joins a group, so that a schema it cannot use fails only its own saves.
+            NpgsqlConnection connection = await OpenAsync(cancellationToken).ConfigureAwait(false);
+            await connection.DisposeAsync().ConfigureAwait(false);
         }
+
+        var save = new PendingSave(this, snapshot, SHA256.HashData(snapshot.Span), inputPosition, conditional, expectedLatestPosition, cancellationToken);
+        return await PostgreSqlCommitQueue.For(_dataSource).SaveAsync(save, cancellationToken).ConfigureAwait(false);
     }
 
-    private async Task<long?> NewestValidPositionAsync(NpgsqlConnection connection, NpgsqlTransaction transaction, CancellationToken cancellationToken)
+    internal async Task<long?> NewestValidPositionAsync(NpgsqlConnection connection, NpgsqlTransaction transaction, CancellationToken cancellationToken)
     {
         long before = long.MaxValue;
         while (await ReadOlderRowAsync(connection, transaction, before, cancellationToken).ConfigureAwait(false) is StoredRow row)
@@ -299,54 +272,14 @@ public sealed partial class PostgreSqlCheckpointStore : IConditionalCheckpointSt
     // Reads the stream's newest row with a sequence below `before`, and checks it; null when there is none.
     private async Task<StoredRow?> ReadOlderRowAsync(NpgsqlConnection connection, NpgsqlTransaction transaction, long before, CancellationToken cancellationToken)
     {
-        var select = new NpgsqlCommand(
-            $"""
-            SELECT sequence, input_position, snapshot_length, snapshot_sha256, octet_length(snapshot),
-                   CASE WHEN octet_length(snapshot) <= $3 THEN snapshot END
-            FROM {_schema}.checkpoints WHERE stream = $1 AND sequence < $2 ORDER BY sequence DESC LIMIT 1
-            """,
-            connection,
-            transaction);
+        var select = new NpgsqlBatch(connection, transaction);
         await using (select.ConfigureAwait(false))
         {
-            select.Parameters.Add(Text(_options.StreamName));
-            select.Parameters.Add(new NpgsqlParameter<long> { TypedValue = before });
-            select.Parameters.Add(new NpgsqlParameter<long> { TypedValue = _options.MaxSnapshotLength });
+            select.BatchCommands.Add(OlderRowCommand(before));
             NpgsqlDataReader reader = await select.ExecuteReaderAsync(cancellationToken).ConfigureAwait(false);
             await using (reader.ConfigureAwait(false))
             {
-                if (!await reader.ReadAsync(cancellationToken).ConfigureAwait(false))
-                {
-                    return null;
-                }
-
-                long sequence = reader.GetInt64(0);
-                long position = reader.GetInt64(1);
-                long declared = reader.GetInt64(2);
-                byte[] storedHash = reader.GetFieldValue<byte[]>(3);
-                long stored = reader.GetInt32(4);
-                if (position < 0)
-                {
-                    return new StoredRow(sequence, position, null, string.Create(CultureInfo.InvariantCulture, $"The input position {position} is negative."));
-                }
-
-                if (stored != declared)
-                {
-                    return new StoredRow(sequence, position, null, string.Create(CultureInfo.InvariantCulture, $"The snapshot is {stored} bytes but its row declares {declared}."));
-                }
-
-                if (stored > _options.MaxSnapshotLength || reader.IsDBNull(5))
-                {
-                    return new StoredRow(sequence, position, null, string.Create(CultureInfo.InvariantCulture, $"The snapshot is {stored} bytes, more than the limit of {_options.MaxSnapshotLength} bytes."));
-                }
-
-                byte[] bytes = reader.GetFieldValue<byte[]>(5);
-                if (!SHA256.HashData(bytes).AsSpan().SequenceEqual(storedHash))
-                {
-                    return new StoredRow(sequence, position, null, "The snapshot's SHA-256 does not match the one stored with it.");
-                }
-
-                return new StoredRow(sequence, position, bytes, null);
+                return await ReadRowAsync(reader, cancellationToken).ConfigureAwait(false);
             }
         }
     }
