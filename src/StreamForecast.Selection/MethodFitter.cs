@@ -202,8 +202,15 @@ public static class MethodFitter
         CheckErrors(series.Length, start.WarmUpLength, damped ? 3 : 2);
         double[] lower = damped ? [MinLevelWeight, 0, MinDamping] : [MinLevelWeight, 0];
         double[] upper = damped ? [1, 1, MaxDamping] : [1, 1];
-        var search = new ParameterSearch(series.ToArray(), lower, upper,
-            p => new HoltOptions(p[0], p[1], damped ? p[2] : 1.0, start));
+        double[] history = series.ToArray();
+
+        // With the default start each trial runs the forecaster's own equations (HoltEquations) without creating options or a
+        // forecaster: the same SSE bit for bit; the forecaster runs for the other starts and where the equations decline.
+        HoltObjective? objective = start.Kind == HoltStartKind.FirstTwoActuals ? new HoltObjective(history) : null;
+        var search = new ParameterSearch(history, lower, upper,
+            p => new HoltOptions(p[0], p[1], damped ? p[2] : 1.0, start),
+            tryObjective: objective is null ? null : (double[] p, out double sse, out long count) =>
+                objective.TrySumOfSquaredErrors(p[0], p[1], damped ? p[2] : 1.0, out sse, out count));
         var grid = new List<double[]>();
         foreach (double alpha in (double[])[0.1, 0.3, 0.5, 0.8])
         {
