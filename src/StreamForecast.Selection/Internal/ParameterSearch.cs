@@ -19,6 +19,9 @@ namespace StreamForecast.Selection.Internal;
 /// </remarks>
 internal sealed class ParameterSearch
 {
+    /// <summary>The SSE and error count of a trial point, or false when the forecaster must be run for it.</summary>
+    public delegate bool TryObjective(double[] parameters, out double sse, out long count);
+
     private const double Tolerance = 1e-10;
     private readonly int _maxIterations;
     private readonly int _passes;
@@ -31,8 +34,23 @@ internal sealed class ParameterSearch
     private double _bestSse = double.PositiveInfinity;
     private long _bestCount;
 
-    public ParameterSearch(double[] series, double[] lower, double[] upper, Func<double[], ForecasterOptions> create, int maxIterations = 1_000, int passes = 2)
+    private readonly TryObjective? _tryObjective;
+
+    /// <summary>
+    /// Creates a search. <paramref name="tryObjective"/>, when given, computes a trial's SSE and error count without
+    /// creating the options (it must give exactly what running the forecaster of <paramref name="create"/> gives) or
+    /// returns false to have the forecaster run instead.
+    /// </summary>
+    public ParameterSearch(
+        double[] series,
+        double[] lower,
+        double[] upper,
+        Func<double[], ForecasterOptions> create,
+        int maxIterations = 1_000,
+        int passes = 2,
+        TryObjective? tryObjective = null)
     {
+        _tryObjective = tryObjective;
         _maxIterations = maxIterations;
         _passes = passes;
         _series = series;
@@ -96,14 +114,17 @@ internal sealed class ParameterSearch
         Evaluations++;
         double sse;
         long count;
-        try
+        if (_tryObjective is null || !_tryObjective(parameters, out sse, out count))
         {
-            (sse, count) = MethodFitter.OneStepSquaredErrors(_series, _create(parameters), 0);
-        }
-        catch (ArgumentOutOfRangeException ex)
-        {
-            LastRejection = ex.Message;
-            return double.PositiveInfinity;
+            try
+            {
+                (sse, count) = MethodFitter.OneStepSquaredErrors(_series, _create(parameters), 0);
+            }
+            catch (ArgumentOutOfRangeException ex)
+            {
+                LastRejection = ex.Message;
+                return double.PositiveInfinity;
+            }
         }
 
         if (count == 0 || !double.IsFinite(sse))

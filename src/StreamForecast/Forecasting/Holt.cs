@@ -25,11 +25,7 @@ public sealed class Holt : Forecaster
     private readonly HoltOptions _options;
     private readonly HoltStartKind _startKind;
     private readonly int _warmUpLength;
-    private readonly double _alpha;
-    private readonly double _oneMinusAlpha;
-    private readonly double _beta;
-    private readonly double _oneMinusBeta;
-    private readonly double _phi;
+    private readonly HoltEquations _equations;
 
     // Once warm: the level and trend. While MeanOfFirstDifferences warms up they hold the parts P and R of
     // level = P + Q·b₁ and trend = R + U·b₁, with b₁ not yet known.
@@ -51,11 +47,7 @@ public sealed class Holt : Forecaster
         _options = options;
         _startKind = options.Start.Kind;
         _warmUpLength = options.Start.WarmUpLength;
-        _alpha = options.LevelWeight;
-        _oneMinusAlpha = 1.0 - options.LevelWeight;
-        _beta = options.TrendWeight;
-        _oneMinusBeta = 1.0 - options.TrendWeight;
-        _phi = options.Damping;
+        _equations = new HoltEquations(options.LevelWeight, options.TrendWeight, options.Damping);
         ResetCore();
     }
 
@@ -144,10 +136,10 @@ public sealed class Holt : Forecaster
         }
 
         // The equations are linear in b₁: run them on the parts (P, R) and the coefficients (Q, U) separately.
-        double p = (_alpha * actual) + (_oneMinusAlpha * (_level + (_phi * _trend)));
-        double r = (_beta * (p - _level)) + (_oneMinusBeta * _phi * _trend);
-        double q = _oneMinusAlpha * (_levelPerStartTrend + (_phi * _trendPerStartTrend));
-        double u = (_beta * (q - _levelPerStartTrend)) + (_oneMinusBeta * _phi * _trendPerStartTrend);
+        double p = (_equations.Alpha * actual) + (_equations.OneMinusAlpha * (_level + (_equations.Phi * _trend)));
+        double r = (_equations.Beta * (p - _level)) + (_equations.OneMinusBeta * _equations.Phi * _trend);
+        double q = _equations.OneMinusAlpha * (_levelPerStartTrend + (_equations.Phi * _trendPerStartTrend));
+        double u = (_equations.Beta * (q - _levelPerStartTrend)) + (_equations.OneMinusBeta * _equations.Phi * _trendPerStartTrend);
         if (seen + 1 < _warmUpLength)
         {
             if (!(double.IsFinite(p) && double.IsFinite(r)))
@@ -178,12 +170,8 @@ public sealed class Holt : Forecaster
         _startKnown = true;
     }
 
-    private void Step(double level, double trend, double actual, out double newLevel, out double newTrend)
-    {
-        double dampedTrend = _phi * trend;
-        newLevel = (_alpha * actual) + (_oneMinusAlpha * (level + dampedTrend));
-        newTrend = (_beta * (newLevel - level)) + (_oneMinusBeta * dampedTrend);
-    }
+    private void Step(double level, double trend, double actual, out double newLevel, out double newTrend) =>
+        _equations.Step(level, trend, actual, out newLevel, out newTrend);
 
     private void Commit(double actual, double level, double trend)
     {
@@ -196,10 +184,10 @@ public sealed class Holt : Forecaster
         _trend = trend;
     }
 
-    private protected override double ForecastCore(int horizon) => _level + (SmoothingMath.DampedSum(_phi, horizon) * _trend);
+    private protected override double ForecastCore(int horizon) => _equations.Forecast(_level, _trend, horizon);
 
     private protected override double HorizonVarianceRatioCore(int horizon) =>
-        SmoothingMath.HorizonVarianceRatio(_alpha, _alpha * _beta, 0, _phi, 0, horizon);
+        SmoothingMath.HorizonVarianceRatio(_equations.Alpha, _equations.Alpha * _equations.Beta, 0, _equations.Phi, 0, horizon);
 
     private protected override void ResetCore()
     {

@@ -39,13 +39,7 @@ public sealed partial class HoltWinters : Forecaster
     private readonly int _seasonLength;
     private readonly int _startSeasons;
     private readonly bool _multiplicative;
-    private readonly double _alpha;
-    private readonly double _oneMinusAlpha;
-    private readonly double _beta;
-    private readonly double _oneMinusBeta;
-    private readonly double _gamma;
-    private readonly double _oneMinusGamma;
-    private readonly double _phi;
+    private readonly HoltWintersEquations _equations;
     private readonly HoltWintersStartKind _startKind;
     /// <summary>The smallest level and seasonal index multiplicative seasonality holds (see the remarks).</summary>
     internal const double MultiplicativeFloor = 1e-30;
@@ -70,13 +64,7 @@ public sealed partial class HoltWinters : Forecaster
         _seasonLength = options.SeasonLength;
         _startSeasons = options.StartSeasons;
         _multiplicative = options.Seasonality == Seasonality.Multiplicative;
-        _alpha = options.LevelWeight;
-        _oneMinusAlpha = 1.0 - options.LevelWeight;
-        _beta = options.TrendWeight;
-        _oneMinusBeta = 1.0 - options.TrendWeight;
-        _gamma = options.SeasonalWeight;
-        _oneMinusGamma = 1.0 - options.SeasonalWeight;
-        _phi = options.Damping;
+        _equations = new HoltWintersEquations(_multiplicative, options.LevelWeight, options.TrendWeight, options.SeasonalWeight, options.Damping);
         _startKind = options.Start.Kind;
         _seasonal = new double[_seasonLength];
         _startWindow = new double[options.WarmUpLength];
@@ -149,7 +137,7 @@ public sealed partial class HoltWinters : Forecaster
         if (seen >= _startWindow.Length)
         {
             int slot = (int)(seen % _seasonLength);
-            if (!TryStep(_level, _trend, _seasonal[slot], actual, out double level, out double trend, out double index))
+            if (!_equations.TryStep(_level, _trend, _seasonal[slot], actual, out double level, out double trend, out double index))
             {
                 ThrowRejected(actual);
             }
@@ -199,74 +187,20 @@ public sealed partial class HoltWinters : Forecaster
             SeasonalStartValues.Compute(_startWindow, _seasonLength, _multiplicative, seasonMeans, _seasonal, out level, out trend);
         }
 
-        if (_multiplicative)
-        {
-            // Tiny positive actuals can give a start index or level that underflows: hold them at the floor.
-            level = Math.Max(level, MultiplicativeFloor);
-            for (int i = 0; i < _seasonal.Length; i++)
-            {
-                _seasonal[i] = Math.Max(_seasonal[i], MultiplicativeFloor);
-            }
-        }
-
+        _equations.FloorStart(ref level, _seasonal);
         _startLevel = level;
         _startTrend = trend;
         _seasonal.CopyTo(_startIndices);
-        for (int t = _seasonLength; t < _startWindow.Length; t++)
-        {
-            int slot = t % _seasonLength;
-            if (!TryStep(level, trend, _seasonal[slot], _startWindow[t], out level, out trend, out double index))
-            {
-                return false;
-            }
-
-            _seasonal[slot] = index;
-        }
-
-        return true;
-    }
-
-    private bool TryStep(double level, double trend, double seasonal, double actual, out double newLevel, out double newTrend, out double newSeasonal)
-    {
-        double dampedTrend = _phi * trend;
-        if (_multiplicative)
-        {
-            newLevel = (_alpha * (actual / seasonal)) + (_oneMinusAlpha * (level + dampedTrend));
-            if (!(newLevel > 0))
-            {
-                // The trend would carry the level to zero or below, where multiplicative seasonality breaks down (it
-                // divides by the level). Drop the trend for this step: the level becomes a weighted mean of the
-                // deseasonalised actual and the old level, positive whenever either is, and the trend restarts from
-                // the change that step makes. Without this a steep fall would refuse every later actual.
-                dampedTrend = 0;
-                newLevel = (_alpha * (actual / seasonal)) + (_oneMinusAlpha * level);
-            }
-
-            // A long run of zeros shrinks the level and the indices geometrically; held at the floor they never underflow
-            // to zero, so the next actual can always be divided by them.
-            newLevel = Math.Max(newLevel, MultiplicativeFloor);
-            newTrend = (_beta * (newLevel - level)) + (_oneMinusBeta * dampedTrend);
-            newSeasonal = Math.Max((_gamma * (actual / newLevel)) + (_oneMinusGamma * seasonal), MultiplicativeFloor);
-            return double.IsFinite(newLevel) && double.IsFinite(newTrend) && double.IsFinite(newSeasonal);
-        }
-
-        newLevel = (_alpha * (actual - seasonal)) + (_oneMinusAlpha * (level + dampedTrend));
-        newTrend = (_beta * (newLevel - level)) + (_oneMinusBeta * dampedTrend);
-        newSeasonal = (_gamma * (actual - newLevel)) + (_oneMinusGamma * seasonal);
-        return double.IsFinite(newLevel) && double.IsFinite(newTrend) && double.IsFinite(newSeasonal);
+        return _equations.TryRunStartSeasons(_startWindow, _seasonal, ref level, ref trend);
     }
 
     private int Slot(int horizon) => (int)((Count + horizon - 1) % _seasonLength);
 
-    private protected override double ForecastCore(int horizon)
-    {
-        double trendPart = _level + (SmoothingMath.DampedSum(_phi, horizon) * _trend);
-        double index = _seasonal[Slot(horizon)];
-        return _multiplicative ? trendPart * index : trendPart + index;
-    }
+    private protected override double ForecastCore(int horizon) =>
+        _equations.Forecast(_level, _trend, _seasonal[Slot(horizon)], horizon);
 
     private protected override double HorizonVarianceRatioCore(int horizon) =>
-        SmoothingMath.HorizonVarianceRatio(_alpha, _alpha * _beta, _oneMinusAlpha * _gamma, _phi, _seasonLength, horizon);
+        SmoothingMath.HorizonVarianceRatio(_equations.Alpha, _equations.Alpha * _equations.Beta, _equations.OneMinusAlpha * _equations.Gamma, _equations.Phi, _seasonLength, horizon);
 
     private protected override void ResetCore()
     {
