@@ -14,6 +14,31 @@ internal abstract class QueuedSave
     private readonly TaskCompletionSource<bool> _outcome = new(TaskCreationOptions.RunContinuationsAsynchronously);
     private int _state;
 
+    /// <summary>Records what every store's save carries besides its snapshot.</summary>
+    /// <param name="hash">The snapshot's SHA-256.</param>
+    /// <param name="inputPosition">The input position the snapshot covers.</param>
+    /// <param name="conditional">Whether the save is conditional (TrySaveAsync).</param>
+    /// <param name="expectedLatestPosition">For a conditional save, the stream's newest position it expects (null: an empty stream).</param>
+    protected QueuedSave(byte[] hash, long inputPosition, bool conditional, long? expectedLatestPosition)
+    {
+        Hash = hash;
+        InputPosition = inputPosition;
+        Conditional = conditional;
+        ExpectedLatestPosition = expectedLatestPosition;
+    }
+
+    /// <summary>The snapshot's SHA-256.</summary>
+    public byte[] Hash { get; }
+
+    /// <summary>The input position the snapshot covers.</summary>
+    public long InputPosition { get; }
+
+    /// <summary>Whether the save is conditional (written only when the stream's newest position is the expected one).</summary>
+    public bool Conditional { get; }
+
+    /// <summary>For a conditional save, the newest position it expects (null: an empty stream).</summary>
+    public long? ExpectedLatestPosition { get; }
+
     /// <summary>Completes when the transaction that took the save has committed (true: written; false: expectation not met) or failed.</summary>
     public Task<bool> Outcome => _outcome.Task;
 

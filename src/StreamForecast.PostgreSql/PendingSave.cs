@@ -10,27 +10,16 @@ namespace StreamForecast.PostgreSql;
 internal sealed class PendingSave : QueuedSave
 {
     public PendingSave(PostgreSqlCheckpointStore store, ReadOnlyMemory<byte> snapshot, byte[] hash, long inputPosition, bool conditional, long? expectedLatestPosition, CancellationToken cancellationToken)
+        : base(hash, inputPosition, conditional, expectedLatestPosition)
     {
         CancellationToken = cancellationToken;
         Store = store;
         Snapshot = snapshot;
-        Hash = hash;
-        InputPosition = inputPosition;
-        Conditional = conditional;
-        ExpectedLatestPosition = expectedLatestPosition;
     }
 
     public PostgreSqlCheckpointStore Store { get; }
 
     public ReadOnlyMemory<byte> Snapshot { get; }
-
-    public byte[] Hash { get; }
-
-    public long InputPosition { get; }
-
-    public bool Conditional { get; }
-
-    public long? ExpectedLatestPosition { get; }
 
     /// <summary>The caller's token: withdraws the save while queued; a group's transaction stops once every caller in it has cancelled.</summary>
     public CancellationToken CancellationToken { get; }

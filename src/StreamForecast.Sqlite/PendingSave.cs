@@ -6,24 +6,13 @@ namespace StreamForecast.Sqlite;
 internal sealed class PendingSave : QueuedSave
 {
     public PendingSave(SqliteCheckpointStore store, byte[] snapshot, byte[] hash, long inputPosition, bool conditional, long? expectedLatestPosition)
+        : base(hash, inputPosition, conditional, expectedLatestPosition)
     {
         Store = store;
         Snapshot = snapshot;
-        Hash = hash;
-        InputPosition = inputPosition;
-        Conditional = conditional;
-        ExpectedLatestPosition = expectedLatestPosition;
     }
 
     public SqliteCheckpointStore Store { get; }
 
     public byte[] Snapshot { get; }
-
-    public byte[] Hash { get; }
-
-    public long InputPosition { get; }
-
-    public bool Conditional { get; }
-
-    public long? ExpectedLatestPosition { get; }
 }
