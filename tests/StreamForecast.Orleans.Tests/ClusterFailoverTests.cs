@@ -4,6 +4,7 @@ using Orleans.Serialization;
 using Orleans.TestingHost;
 using Xunit.Abstractions;
 using StreamForecast.Streaming;
+using StreamForecast.Tests.Clusters;
 
 namespace StreamForecast.Orleans.Tests;
 
@@ -33,18 +34,9 @@ public sealed class ClusterFailoverTests : IAsyncLifetime
         {
             silo.AddForecastBuckets(ClusterScenario.EngineOptions(), SnapshotKeyCodecs.Utf8String, Cluster)
                 .AddSqliteCheckpointGrainStorage(path);
-            silo.Configure<ClusterMembershipOptions>(o =>
-            {
-                // Declare a dead silo dead within seconds, not the production default of about a minute.
-                o.ProbeTimeout = TimeSpan.FromMilliseconds(500);
-                o.NumMissedProbesLimit = 2;
-                o.NumVotesForDeathDeclaration = 1;
-                o.TableRefreshTimeout = TimeSpan.FromSeconds(1);
-                o.IAmAliveTablePublishTimeout = TimeSpan.FromSeconds(1);
-            });
-            silo.Configure<SiloMessagingOptions>(o => o.ResponseTimeout = TimeSpan.FromSeconds(5));
+            FastFailover.Configure(silo); // a killed silo is declared dead within seconds
         });
-        builder.ConfigureClient(client => client.Configure<ClientMessagingOptions>(o => o.ResponseTimeout = TimeSpan.FromSeconds(5)));
+        FastFailover.ConfigureClient(builder);
         _cluster = builder.Build();
         await _cluster.DeployAsync();
     }

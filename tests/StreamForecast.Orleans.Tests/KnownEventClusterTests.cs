@@ -5,6 +5,7 @@ using StreamForecast.Alerts;
 using StreamForecast.Forecasting;
 using StreamForecast.Periods;
 using StreamForecast.Streaming;
+using StreamForecast.Tests.Clusters;
 
 namespace StreamForecast.Orleans.Tests;
 
@@ -34,17 +35,9 @@ public sealed class KnownEventClusterTests : IAsyncLifetime
         builder.ConfigureSilo((_, silo) =>
         {
             silo.AddForecastBuckets(Options(), SnapshotKeyCodecs.Utf8String, Cluster).AddSqliteCheckpointGrainStorage(path);
-            silo.Configure<ClusterMembershipOptions>(o =>
-            {
-                o.ProbeTimeout = TimeSpan.FromMilliseconds(500);
-                o.NumMissedProbesLimit = 2;
-                o.NumVotesForDeathDeclaration = 1;
-                o.TableRefreshTimeout = TimeSpan.FromSeconds(1);
-                o.IAmAliveTablePublishTimeout = TimeSpan.FromSeconds(1);
-            });
-            silo.Configure<SiloMessagingOptions>(o => o.ResponseTimeout = TimeSpan.FromSeconds(5));
+            FastFailover.Configure(silo); // a killed silo is declared dead within seconds
         });
-        builder.ConfigureClient(client => client.Configure<ClientMessagingOptions>(o => o.ResponseTimeout = TimeSpan.FromSeconds(5)));
+        FastFailover.ConfigureClient(builder);
         _cluster = builder.Build();
         await _cluster.DeployAsync();
     }

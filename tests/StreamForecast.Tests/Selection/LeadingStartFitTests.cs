@@ -24,24 +24,6 @@ public class LeadingStartFitTests
         return y;
     }
 
-    private static double Sse(double[] series, ForecasterOptions method, int from)
-    {
-        Forecaster f = method.CreateForecaster();
-        double sse = 0;
-        for (int t = 0; t < series.Length; t++)
-        {
-            if (t >= from)
-            {
-                double e = series[t] - f.Forecast(1);
-                sse += e * e;
-            }
-
-            f.Update(series[t]);
-        }
-
-        return sse;
-    }
-
     private static bool SameWeights(HoltWintersOptions a, HoltWintersOptions b) =>
         a.Seasonality == b.Seasonality && a.LevelWeight == b.LevelWeight && a.TrendWeight == b.TrendWeight
         && a.SeasonalWeight == b.SeasonalWeight && a.Damping == b.Damping;
@@ -78,12 +60,12 @@ public class LeadingStartFitTests
         var fixedOptions = Assert.IsType<HoltWintersOptions>(fixedStart.Method);
         var options = Assert.IsType<HoltWintersOptions>(refined.Method);
         Assert.True(SameWeights(fixedOptions, options));
-        Assert.True(Sse(y, options, 26) <= fixedStart.SumOfSquaredErrors * (1 + 1e-12), $"{refined} vs {fixedStart}");
+        Assert.True(OneStepError.Sse(y, options, 26) <= fixedStart.SumOfSquaredErrors * (1 + 1e-12), $"{refined} vs {fixedStart}");
         if (options.Start.Kind == HoltWintersStartKind.Given)
         {
             // A given start is scored from period 1, like the joint fit's.
             Assert.Equal(y.Length, refined.ErrorCount);
-            Assert.Equal(Sse(y, options, 0), refined.SumOfSquaredErrors, 1e-9 * refined.SumOfSquaredErrors);
+            Assert.Equal(OneStepError.Sse(y, options, 0), refined.SumOfSquaredErrors, 1e-9 * refined.SumOfSquaredErrors);
         }
     }
 

@@ -19,24 +19,6 @@ public class StartValueFitTests
         return y;
     }
 
-    private static double Sse(double[] series, ForecasterOptions method, int from)
-    {
-        Forecaster f = method.CreateForecaster();
-        double sse = 0;
-        for (int t = 0; t < series.Length; t++)
-        {
-            if (t >= from)
-            {
-                double e = series[t] - f.Forecast(1);
-                sse += e * e;
-            }
-
-            f.Update(series[t]);
-        }
-
-        return sse;
-    }
-
     [Theory]
     [InlineData(Seasonality.Additive, 1)]
     [InlineData(Seasonality.Additive, 2)]
@@ -49,7 +31,7 @@ public class StartValueFitTests
         FittedMethod fitted = MethodFitter.FitHoltWinters(y, 12, seasonality, fitStartValues: true);
 
         // The fitter's guarantee, over the periods the fixed start scores (25 … 96).
-        Assert.True(Sse(y, fitted.Method, 24) <= fixedStart.SumOfSquaredErrors * (1 + 1e-12));
+        Assert.True(OneStepError.Sse(y, fitted.Method, 24) <= fixedStart.SumOfSquaredErrors * (1 + 1e-12));
         var method = Assert.IsType<HoltWintersOptions>(fitted.Method);
         if (method.Start.Kind == HoltWintersStartKind.Given)
         {
@@ -68,7 +50,7 @@ public class StartValueFitTests
         double[] y = Sensor(120, 5);
         var method = Assert.IsType<HoltWintersOptions>(MethodFitter.FitHoltWinters(y, 12, fitStartValues: true).Method);
         Assert.Equal(HoltWintersStartKind.Given, method.Start.Kind);
-        double best = Sse(y, method, 0);
+        double best = OneStepError.Sse(y, method, 0);
         double[] indices = [.. method.Start.SeasonalIndices];
         for (int j = 0; j < 13; j++)
         {
@@ -92,7 +74,7 @@ public class StartValueFitTests
 
                 var perturbed = new HoltWintersOptions(12, Seasonality.Additive, method.LevelWeight, method.TrendWeight, method.SeasonalWeight,
                     method.Damping, start: HoltWintersStart.Given(level, trend, moved));
-                Assert.True(Sse(y, perturbed, 0) >= best * (1 - 1e-9), $"state number {j} moved by {delta}");
+                Assert.True(OneStepError.Sse(y, perturbed, 0) >= best * (1 - 1e-9), $"state number {j} moved by {delta}");
             }
         }
     }
