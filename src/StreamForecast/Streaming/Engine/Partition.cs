@@ -179,14 +179,9 @@ internal sealed class Partition<TKey> : ISeriesSink<TKey>, ISeriesBudget
             _table.EndSweep();
             message.Done?.TrySetResult();
         }
-        catch (Exception ex) when (message.Done is not null)
+        catch (Exception ex) when (message.Done is not null || ex is not OutOfMemoryException)
         {
-            message.Done.TrySetException(ex);
-        }
-        catch (Exception ex) when (ex is not OutOfMemoryException)
-        {
-            _engine.CountRejected();
-            _engine.PublishFault(new SeriesFault<TKey>(message.Observation.Key, 0, SeriesFaultKind.InternalError, ex.ToString()));
+            Fail(in message, ex);
         }
     }
 
@@ -244,16 +239,26 @@ internal sealed class Partition<TKey> : ISeriesSink<TKey>, ISeriesBudget
 
             message.Done?.TrySetResult();
         }
-        catch (Exception ex) when (message.Done is not null)
+        catch (Exception ex) when (message.Done is not null || ex is not OutOfMemoryException)
+        {
+            Fail(in message, ex);
+        }
+    }
+
+    /// <summary>
+    /// A message whose handling threw: a command's caller gets the exception; an observation's failure (a defect, which
+    /// must not end the loop that owns every other series of this partition) is counted and reported as a fault.
+    /// </summary>
+    private void Fail(in Message message, Exception ex)
+    {
+        if (message.Done is not null)
         {
             message.Done.TrySetException(ex);
+            return;
         }
-        catch (Exception ex) when (ex is not OutOfMemoryException)
-        {
-            // A defect must not end the loop that owns every other series of this partition: report it as a fault.
-            _engine.CountRejected();
-            _engine.PublishFault(new SeriesFault<TKey>(message.Observation.Key, 0, SeriesFaultKind.InternalError, ex.ToString()));
-        }
+
+        _engine.CountRejected();
+        _engine.PublishFault(new SeriesFault<TKey>(message.Observation.Key, 0, SeriesFaultKind.InternalError, ex.ToString()));
     }
 
     /// <summary>One queue item: an observation, or a command ordered with the observations.</summary>

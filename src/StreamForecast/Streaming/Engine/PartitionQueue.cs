@@ -2,6 +2,7 @@ using System.Diagnostics;
 using System.Runtime.CompilerServices;
 using System.Threading.Channels;
 using System.Threading.Tasks.Sources;
+using StreamForecast.Internal;
 
 namespace StreamForecast.Streaming;
 
@@ -160,29 +161,12 @@ internal sealed class PartitionQueue<T> : IValueTaskSource<bool>
         int n;
         lock (_lock)
         {
-            n = Math.Min(_count, batch.Length);
+            n = RingTake.Take(_ring, ref _head, ref _count, batch);
             if (n == 0)
             {
                 return 0;
             }
 
-            T[] ring = _ring;
-            int first = Math.Min(n, ring.Length - _head);
-            Array.Copy(ring, _head, batch, 0, first);
-            Array.Copy(ring, 0, batch, first, n - first);
-            if (RuntimeHelpers.IsReferenceOrContainsReferences<T>())
-            {
-                Array.Clear(ring, _head, first);
-                Array.Clear(ring, 0, n - first);
-            }
-
-            _head += n;
-            if (_head >= ring.Length)
-            {
-                _head -= ring.Length;
-            }
-
-            _count -= n;
             if (_room is not null && _count <= _resumeAt)
             {
                 room = _room;

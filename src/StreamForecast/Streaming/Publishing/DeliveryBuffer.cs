@@ -1,5 +1,6 @@
 using System.Diagnostics;
 using System.Runtime.CompilerServices;
+using StreamForecast.Internal;
 
 namespace StreamForecast.Streaming;
 
@@ -269,30 +270,12 @@ internal sealed class DeliveryBuffer<T>
         int n;
         lock (_lock)
         {
-            n = Math.Min(_count, batch.Length);
+            n = RingTake.Take(_ring, ref _head, ref _count, batch);
             if (n == 0)
             {
                 return 0;
             }
 
-            T[] ring = _ring;
-            int first = Math.Min(n, ring.Length - _head);
-            Array.Copy(ring, _head, batch, 0, first);
-            Array.Copy(ring, 0, batch, first, n - first);
-            if (RuntimeHelpers.IsReferenceOrContainsReferences<T>())
-            {
-                // Let the taken items' references go with the batch, not stay reachable from the ring.
-                Array.Clear(ring, _head, first);
-                Array.Clear(ring, 0, n - first);
-            }
-
-            _head += n;
-            if (_head >= ring.Length)
-            {
-                _head -= ring.Length;
-            }
-
-            _count -= n;
             if (_roomWaiter is not null && _capacity - _count >= _roomWanted)
             {
                 waiter = _roomWaiter;
