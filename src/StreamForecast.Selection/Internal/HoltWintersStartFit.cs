@@ -42,9 +42,11 @@ internal static class HoltWintersStartFit
 
         double scale = Scale(series);
         int iterations = multiplicative ? 4 : 1;
+        var residuals = new GivenStartResiduals(series, m, seasonality);
+        var solver = new StartStateSolver(series.Length, seed.Length);
         Func<double[], ForecasterOptions> create = weights =>
         {
-            (double[] State, double Sse)? solved = StartStateSolver.Solve(series, seed, scale, state => Options(m, seasonality, weights, damped, state), iterations);
+            (double[] State, double Sse)? solved = solver.Solve(seed, scale, (state, errors) => residuals.TryRun(weights, damped, state, errors), iterations);
             if (solved is null)
             {
                 throw new ArgumentOutOfRangeException(nameof(weights), "no start state runs over the history with these weights");
@@ -90,8 +92,9 @@ internal static class HoltWintersStartFit
         int iterations = fixedOptions.Seasonality == Seasonality.Multiplicative ? 4 : 1;
         try
         {
-            (double[] State, double Sse)? solved = StartStateSolver.Solve(series, seed, Scale(series),
-                state => Options(m, fixedOptions.Seasonality, weights, damped, state), iterations);
+            var residuals = new GivenStartResiduals(series, m, fixedOptions.Seasonality);
+            (double[] State, double Sse)? solved = new StartStateSolver(series.Length, seed.Length).Solve(seed, Scale(series),
+                (state, errors) => residuals.TryRun(weights, damped, state, errors), iterations);
             if (solved is null)
             {
                 return fixedStart;
