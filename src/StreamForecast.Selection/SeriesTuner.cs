@@ -249,14 +249,14 @@ public static class SeriesTuner
             if (fits[i] is { } fit)
             {
                 add(fit.Method);
-                if (options.FitStartValues)
+                FittedMethod? atFixedWeights = options.FitStartValues ? TryFit(() => HoltWintersStartFit.FitAtFixedWeights(training, fit)) : null;
+                if (atFixedWeights is not null)
                 {
-                    TryAdd(add, () => HoltWintersStartFit.FitAtFixedWeights(training, fit));
-                }
-
-                if (refine[i])
-                {
-                    TryAdd(add, () => MethodFitter.RefineHoltWintersStart(training, fit));
+                    add(atFixedWeights.Method);
+                    if (refine[i])
+                    {
+                        TryAdd(add, () => HoltWintersStartFit.FitAlternating(training, fit, atFixedWeights));
+                    }
                 }
             }
         }
