@@ -60,7 +60,7 @@ public sealed record TuningOptions
     /// variant with its fixed-start weights kept (one least-squares solve), and for the variant with the lowest fixed-start
     /// error also with its weights refined once with that start held and the start then solved again for the new weights
     /// (one round of block-coordinate descent on the one-step squared error); default false. It lowers the in-sample error;
-    /// on invented two-year daily series with a weekly season it costs about 1.1–1.3 times the CPU of tuning without it and
+    /// on invented two-year daily series with a weekly season it costs about 1.2–1.3 times the CPU of tuning without it and
     /// lowers the average backtest error (benchmarks/README.md, issue 15 target 5), and the backtest keeps the fixed-start fit
     /// where that forecasts better out of sample. <see cref="MethodFitter.FitHoltWinters"/> with fitStartValues is the full
     /// joint fit (a start solved for every trial of weights), several times costlier.

@@ -8,7 +8,7 @@ namespace StreamForecast.Selection.Internal;
 /// forecaster per run: the start is checked and floored as <see cref="HoltWintersOptions"/> and <see cref="HoltWinters"/>
 /// check and floor a <see cref="HoltWintersStart.Given"/> start, and every period runs through
 /// <see cref="HoltWintersEquations"/>, the code the forecaster runs, in the same order, so the errors are the forecaster's
-/// bit for bit (tested against it in <c>GivenStartResidualsTests</c>).
+/// bit for bit (tested against it in <c>LeadingStartFitTests</c>).
 /// </summary>
 /// <remarks>
 /// A run fails (returns false) exactly where creating the options or running the forecaster would fail: weights out of
