@@ -122,9 +122,9 @@ internal static class HoltWintersStartFit
     /// <see cref="FitAtFixedWeights"/> result of <paramref name="fixedStart"/>): block-coordinate descent on the same sum of
     /// squared one-step errors (periods 1 … n) as the joint fit of <see cref="Fit"/>. One round: the weights searched with
     /// that start held (the simplex of <see cref="ParameterSearch"/>, one pass from the fixed-start weights, each trial one run
-    /// over the history), then the start solved once for the new weights (<see cref="FitAtFixedWeights"/>). Each step lowers
-    /// the error or is not taken, so the result is at least as good as <paramref name="atFixedWeights"/> over periods 1 … n,
-    /// and it keeps <see cref="Fit"/>'s guarantee against <paramref name="fixedStart"/>. About a fixed-start fit's cost plus
+    /// over the history), then the start solved once for the new weights (<see cref="FitAtFixedWeights"/>, from the
+    /// decomposition seed). The round is kept only when it lowers the error over periods 1 … n, so the result is at least as
+    /// good as <paramref name="atFixedWeights"/> there, and it keeps <see cref="Fit"/>'s guarantee against <paramref name="fixedStart"/>. About a fixed-start fit's cost plus
     /// one start solve, instead of a start solve per trial of weights (benchmarks/README.md, issue 15 target 5).
     /// </summary>
     /// <returns>The refined fit; <paramref name="atFixedWeights"/> when the round does not lower its error or it has no fitted start.</returns>

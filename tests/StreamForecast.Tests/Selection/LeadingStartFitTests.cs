@@ -101,7 +101,7 @@ public class LeadingStartFitTests
 
         FittedMethod refined = HoltWintersStartFit.FitAlternating(y, fixedStart, atFixedWeights);
 
-        // Block-coordinate descent on the error over periods 1 … n: each accepted step lowers it.
+        // Block-coordinate descent on the error over periods 1 … n: the round is kept only when it lowers it.
         var options = Assert.IsType<HoltWintersOptions>(refined.Method);
         if (atFixedWeights.Method is not HoltWintersOptions { Start.Kind: HoltWintersStartKind.Given })
         {
