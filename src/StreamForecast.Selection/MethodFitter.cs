@@ -291,20 +291,6 @@ public static class MethodFitter
     }
 
     /// <summary>
-    /// The fitted-start step of <see cref="FitHoltWinters"/> alone, from a fixed-start fit already made on the same history
-    /// (<c>FitHoltWinters(series, m, seasonality, damped)</c>): the same result as fitting again with fitStartValues true, without
-    /// repeating the fixed-start search.
-    /// </summary>
-    internal static FittedMethod RefineHoltWintersStart(double[] history, FittedMethod fixedStart)
-    {
-        var options = (HoltWintersOptions)fixedStart.Method;
-        bool damped = options.Damping < 1;
-        double[] lower = damped ? [MinLevelWeight, 0, 0, MinDamping] : [MinLevelWeight, 0, 0];
-        double[] upper = damped ? [1, 1, 1, MaxDamping] : [1, 1, 1];
-        return HoltWintersStartFit.Fit(history, options.SeasonLength, options.Seasonality, damped, lower, upper, fixedStart);
-    }
-
-    /// <summary>
     /// Fits Holt-Winters with two seasonal cycles (<see cref="TwoSeasonHoltWintersOptions"/>) without a trend component: the
     /// level weight α in [<see cref="MinLevelWeight"/>, 1], the two cycle weights in [0, 1] and the first-order error
     /// adjustment λ in [0, <see cref="MaxErrorAdjustment"/>].

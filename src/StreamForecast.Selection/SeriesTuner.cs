@@ -25,9 +25,9 @@ namespace StreamForecast.Selection;
 /// above zero; with <see cref="TuningOptions.IncludeTrend"/> each also with a damped trend. With
 /// <see cref="TuningOptions.FitStartValues"/>, beside each fixed-start fit: the same weights with the start level, trend and
 /// indices fitted by least squares; and for the variant with the lowest fixed-start error on the fitting window (the leading
-/// one) the start fitted jointly with the weights (<see cref="MethodFitter.FitHoltWinters"/>). A fitted start is kept only where
-/// it is no worse in sample than the fixed start, but it can forecast worse out of sample (it lets the seasonal weight fall
-/// towards 0), so the backtest decides.</description></item>
+/// one) one round of block-coordinate descent from there: its weights searched again with that fitted start held, then the
+/// start solved again for the new weights. A fitted start is kept only where it is no worse in sample than the fixed start,
+/// but it can forecast worse out of sample (it lets the seasonal weight fall towards 0), so the backtest decides.</description></item>
 /// <item><description>When <see cref="TuningOptions.PeriodLength"/> divides a day into m₁ ≥ 2 periods, Holt-Winters with two
 /// seasonal cycles (the day m₁ and the week 7·m₁), fitted additive, and multiplicative under the same condition.</description></item>
 /// <item><description>When the fitting window is non-negative and its demand class (<see cref="DemandClassifier"/>) is
@@ -48,10 +48,11 @@ public static class SeriesTuner
     private const SuggestedMethods IntermittentFamilies = SuggestedMethods.Croston | SuggestedMethods.SyntetosBoylan | SuggestedMethods.Tsb;
 
     /// <summary>
-    /// With <see cref="TuningOptions.FitStartValues"/>, how many Holt-Winters variants get the start fitted jointly with the
-    /// weights (see <see cref="AddHoltWinters"/>): the leading one only. Measured on 40 invented daily series (benchmarks/README.md,
-    /// issue 15 target 5): the joint fit for every variant cost 5.4 times the CPU of tuning without fitted starts, for the
-    /// leader alone (with the start-only fit for the others) 2.6 times.
+    /// With <see cref="TuningOptions.FitStartValues"/>, how many Holt-Winters variants get their weights refined with their
+    /// fitted start (see <see cref="AddHoltWinters"/>): the leading one only. Measured on invented daily series
+    /// (benchmarks/README.md, issue 15 target 5): the joint fit of start and weights for every variant cost 5.4 times the CPU
+    /// of tuning without fitted starts, for the leader alone 2.6 times (5.0 times against the later, faster fixed-start
+    /// fits); the one-round refinement that replaced it costs about as much as one fixed-start fit.
     /// </summary>
     private const int LeadingStartFits = 1;
 
@@ -201,9 +202,11 @@ public static class SeriesTuner
     /// The fixed-start Holt-Winters fits (additive, multiplicative when <paramref name="positive"/>, each also damped with
     /// <see cref="TuningOptions.IncludeTrend"/>). With <see cref="TuningOptions.FitStartValues"/>, right after each fixed-start
     /// fit: its start state fitted with its weights kept (one least-squares solve), and for the <see cref="LeadingStartFits"/>
-    /// variant(s) with the lowest fixed-start error on the fitting window, the start fitted jointly with the weights
-    /// (<see cref="MethodFitter.FitHoltWinters"/> with fitStartValues, refined from the fixed-start fit already made). Each
-    /// fitted start is kept only where it is no worse in sample than its fixed start; the backtest then chooses.
+    /// variant(s) with the lowest fixed-start error on the fitting window, one round of block-coordinate descent from that
+    /// start (<see cref="HoltWintersStartFit.FitAlternating"/>: the weights searched with the start held, then the start solved
+    /// for the new weights; before issue 15's tuning-speed work, the joint fit of <see cref="MethodFitter.FitHoltWinters"/>
+    /// with fitStartValues, which solved a start for every trial of weights and cost 3 to 10 times as much). Each fitted start
+    /// is kept only where it is no worse in sample than its fixed start; the backtest then chooses.
     /// </summary>
     private static void AddHoltWinters(Action<ForecasterOptions> add, double[] training, int m, TuningOptions options, bool positive)
     {
@@ -249,14 +252,14 @@ public static class SeriesTuner
             if (fits[i] is { } fit)
             {
                 add(fit.Method);
-                if (options.FitStartValues)
+                FittedMethod? atFixedWeights = options.FitStartValues ? TryFit(() => HoltWintersStartFit.FitAtFixedWeights(training, fit)) : null;
+                if (atFixedWeights is not null)
                 {
-                    TryAdd(add, () => HoltWintersStartFit.FitAtFixedWeights(training, fit));
-                }
-
-                if (refine[i])
-                {
-                    TryAdd(add, () => MethodFitter.RefineHoltWintersStart(training, fit));
+                    add(atFixedWeights.Method);
+                    if (refine[i])
+                    {
+                        TryAdd(add, () => HoltWintersStartFit.FitAlternating(training, fit, atFixedWeights));
+                    }
                 }
             }
         }

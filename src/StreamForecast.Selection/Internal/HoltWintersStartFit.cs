@@ -42,9 +42,11 @@ internal static class HoltWintersStartFit
 
         double scale = Scale(series);
         int iterations = multiplicative ? 4 : 1;
+        var residuals = new GivenStartResiduals(series, m, seasonality);
+        var solver = new StartStateSolver(series.Length, seed.Length);
         Func<double[], ForecasterOptions> create = weights =>
         {
-            (double[] State, double Sse)? solved = StartStateSolver.Solve(series, seed, scale, state => Options(m, seasonality, weights, damped, state), iterations);
+            (double[] State, double Sse)? solved = solver.Solve(seed, scale, (state, errors) => residuals.TryRun(weights, damped, state, errors), iterations);
             if (solved is null)
             {
                 throw new ArgumentOutOfRangeException(nameof(weights), "no start state runs over the history with these weights");
@@ -90,8 +92,9 @@ internal static class HoltWintersStartFit
         int iterations = fixedOptions.Seasonality == Seasonality.Multiplicative ? 4 : 1;
         try
         {
-            (double[] State, double Sse)? solved = StartStateSolver.Solve(series, seed, Scale(series),
-                state => Options(m, fixedOptions.Seasonality, weights, damped, state), iterations);
+            var residuals = new GivenStartResiduals(series, m, fixedOptions.Seasonality);
+            (double[] State, double Sse)? solved = new StartStateSolver(series.Length, seed.Length).Solve(seed, Scale(series),
+                (state, errors) => residuals.TryRun(weights, damped, state, errors), iterations);
             if (solved is null)
             {
                 return fixedStart;
@@ -111,6 +114,80 @@ internal static class HoltWintersStartFit
         {
             // A start state the method refuses, or one its forecaster rejects an actual from: keep the fixed start.
             return fixedStart;
+        }
+    }
+
+    /// <summary>
+    /// The start and the weights refined in turn from the start fitted at fixed weights (<paramref name="atFixedWeights"/>, a
+    /// <see cref="FitAtFixedWeights"/> result of <paramref name="fixedStart"/>): block-coordinate descent on the same sum of
+    /// squared one-step errors (periods 1 … n) as the joint fit of <see cref="Fit"/>. One round: the weights searched with
+    /// that start held (the simplex of <see cref="ParameterSearch"/>, one pass from the fixed-start weights, each trial one run
+    /// over the history), then the start solved once for the new weights (<see cref="FitAtFixedWeights"/>, from the
+    /// decomposition seed). The round is kept only when it lowers the error over periods 1 … n, so the result is at least as
+    /// good as <paramref name="atFixedWeights"/> there, and it keeps <see cref="Fit"/>'s guarantee against <paramref name="fixedStart"/>. About a fixed-start fit's cost plus
+    /// one start solve, instead of a start solve per trial of weights (benchmarks/README.md, issue 15 target 5).
+    /// </summary>
+    /// <returns>The refined fit; <paramref name="atFixedWeights"/> when the round does not lower its error or it has no fitted start.</returns>
+    public static FittedMethod FitAlternating(double[] series, FittedMethod fixedStart, FittedMethod atFixedWeights)
+    {
+        var fixedOptions = (HoltWintersOptions)fixedStart.Method;
+        if (atFixedWeights.Method is not HoltWintersOptions { Start.Kind: HoltWintersStartKind.Given } startOptions)
+        {
+            return atFixedWeights;
+        }
+
+        int m = fixedOptions.SeasonLength;
+        Seasonality seasonality = fixedOptions.Seasonality;
+        bool damped = fixedOptions.Damping < 1;
+        HoltWintersStart start = startOptions.Start;
+        var state = new double[m + 1];
+        state[0] = start.Level!.Value;
+        state[1] = start.Trend!.Value;
+        for (int i = 0; i < m - 1; i++)
+        {
+            state[i + 2] = start.SeasonalIndices[i];
+        }
+
+        var residuals = new GivenStartResiduals(series, m, seasonality);
+        var errors = new double[series.Length];
+        double[] lower = damped ? [MethodFitter.MinLevelWeight, 0, 0, MethodFitter.MinDamping] : [MethodFitter.MinLevelWeight, 0, 0];
+        double[] upper = damped ? [1, 1, 1, MethodFitter.MaxDamping] : [1, 1, 1];
+        try
+        {
+            // The weights with the start held: each trial is one run of the equations (the forecaster's SSE bit for bit).
+            var search = new ParameterSearch(series, lower, upper, weights => Options(m, seasonality, weights, damped, state), MaxIterations, passes: 1,
+                tryObjective: (double[] weights, out double sse, out long count) =>
+                {
+                    sse = 0;
+                    count = 0;
+                    if (!residuals.TryRun(weights, damped, state, errors))
+                    {
+                        return false;
+                    }
+
+                    var sum = default(SquaredErrorSum);
+                    foreach (double error in errors)
+                    {
+                        sum.Add(error, 0);
+                    }
+
+                    sse = sum.Value;
+                    count = sum.Count;
+                    return true;
+                });
+            var weightsFit = (HoltWintersOptions)search.Fit([Weights(startOptions, damped)]).Method;
+
+            // The start for the new weights, from the decomposition seed as for every fitted start.
+            var newWeights = new HoltWintersOptions(m, seasonality, weightsFit.LevelWeight, weightsFit.TrendWeight, weightsFit.SeasonalWeight, weightsFit.Damping);
+            FittedMethod refined = FitAtFixedWeights(series, new FittedMethod(newWeights, fixedStart.SumOfSquaredErrors, fixedStart.ErrorCount, 1));
+            return refined.Method is HoltWintersOptions { Start.Kind: HoltWintersStartKind.Given } && refined.SumOfSquaredErrors < atFixedWeights.SumOfSquaredErrors
+                ? refined
+                : atFixedWeights;
+        }
+        catch (ArgumentException)
+        {
+            // Weights the method refuses for this history: keep the start fitted at fixed weights.
+            return atFixedWeights;
         }
     }
 

@@ -1,5 +1,4 @@
 using MathNet.Numerics.LinearAlgebra;
-using StreamForecast.Forecasting;
 
 namespace StreamForecast.Selection.Internal;
 
@@ -13,61 +12,86 @@ namespace StreamForecast.Selection.Internal;
 /// squares start (the usual state-space practice of estimating the initial states, here concentrated out of the weight
 /// search; common practice). Multiplicative seasonality is not linear in the start: a few damped Gauss–Newton steps from the
 /// seed, each accepted only when it lowers the error.</para>
-/// <para><b>Method.</b> The Jacobian is formed by forward differences, one run of the forecaster per state number; the step
+/// <para><b>Method.</b> The Jacobian is formed by forward differences, one run over the history per state number; the step
 /// solves the linearised problem through its small normal equations (MathNet's LU; its SVD when LU meets a singular system). Every
-/// residual comes from running a fresh forecaster created from the trial start, so the fitted start and the live numbers
-/// cannot differ. Cost: (p + 1) runs of O(n) per iteration for p state numbers.</para>
+/// residual comes from the caller's run (<see cref="GivenStartResiduals"/>, the forecaster's own equations from the trial start,
+/// the same numbers as a fresh forecaster bit for bit), so the fitted start and the live numbers cannot differ. Cost: (p + 1)
+/// runs of O(n) per iteration for p state numbers; the residual and Jacobian buffers are allocated once per solver.</para>
 /// </remarks>
-internal static class StartStateSolver
+internal sealed class StartStateSolver
 {
+    private readonly double[][] _jacobian;
+    private readonly double[] _shifted;
+    private double[] _residuals;
+    private double[] _trial;
+
+    /// <summary>
+    /// Creates a solver for <paramref name="stateLength"/> state numbers and histories of <paramref name="length"/> errors; its
+    /// buffers are reused by every <see cref="Solve"/>, so one solver serves a whole fit (not thread-safe).
+    /// </summary>
+    public StartStateSolver(int length, int stateLength)
+    {
+        _jacobian = new double[stateLength][];
+        for (int j = 0; j < stateLength; j++)
+        {
+            _jacobian[j] = new double[length];
+        }
+
+        _shifted = new double[stateLength];
+        _residuals = new double[length];
+        _trial = new double[length];
+    }
+
+    /// <summary>
+    /// Writes the one-step error of every period for the state numbers into the array; false for a state the method refuses
+    /// or a run that fails (the array's contents are then ignored).
+    /// </summary>
+    public delegate bool ResidualRun(double[] state, double[] residuals);
+
     /// <summary>Solves for the start state.</summary>
-    /// <param name="series">The history.</param>
     /// <param name="seed">The starting state numbers.</param>
     /// <param name="scale">A typical magnitude of the state numbers (for the difference steps).</param>
-    /// <param name="create">Options from state numbers; throws <see cref="ArgumentException"/> for a state the method refuses.</param>
+    /// <param name="run">The residuals of a state (<see cref="GivenStartResiduals.TryRun"/>: the forecaster's bit for bit).</param>
     /// <param name="maxIterations">Gauss–Newton iterations (1 suffices for a linear problem).</param>
     /// <returns>The best state found (the seed when nothing improved on it) and its SSE, or null when even the seed cannot run.</returns>
-    public static (double[] State, double Sse)? Solve(double[] series, double[] seed, double scale, Func<double[], ForecasterOptions> create, int maxIterations)
+    public (double[] State, double Sse)? Solve(double[] seed, double scale, ResidualRun run, int maxIterations)
     {
         int p = seed.Length;
         double[] theta = (double[])seed.Clone();
-        double[]? residuals = Residuals(series, theta, create);
-        if (residuals is null)
+        double[] residuals = _residuals;
+        if (!run(theta, residuals))
         {
             return null;
         }
 
         double sse = SumOfSquares(residuals);
         int n = residuals.Length;
+        double[][] jacobian = _jacobian;
+        double[] shifted = _shifted;
         for (int iteration = 0; iteration < maxIterations; iteration++)
         {
-            var jacobian = new double[p][];
             bool ok = true;
-            for (int j = 0; j < p && ok; j++)
+            for (int j = 0; j < p; j++)
             {
                 double h = 1e-4 * Math.Max(Math.Abs(theta[j]), scale);
-                double[] shifted = (double[])theta.Clone();
+                theta.CopyTo(shifted, 0);
                 shifted[j] += h;
-                double[]? r = Residuals(series, shifted, create);
-                if (r is null || r.Length != n)
+                double[] r = jacobian[j];
+                if (!run(shifted, r))
                 {
                     h = -h;
                     shifted[j] = theta[j] + h;
-                    r = Residuals(series, shifted, create);
-                }
-
-                if (r is null || r.Length != n)
-                {
-                    ok = false;
-                    break;
+                    if (!run(shifted, r))
+                    {
+                        ok = false;
+                        break;
+                    }
                 }
 
                 for (int i = 0; i < n; i++)
                 {
                     r[i] = (r[i] - residuals[i]) / h;
                 }
-
-                jacobian[j] = r;
             }
 
             if (!ok)
@@ -82,7 +106,8 @@ internal static class StartStateSolver
             }
 
             bool improved = false;
-            for (double length = 1; length >= 1.0 / 64 && !improved; length /= 2)
+            bool tiny = false;
+            for (double length = 1; length >= 1.0 / 64 && !improved && !tiny; length /= 2)
             {
                 double[] trial = (double[])theta.Clone();
                 for (int j = 0; j < p; j++)
@@ -90,20 +115,17 @@ internal static class StartStateSolver
                     trial[j] += length * step[j];
                 }
 
-                double[]? r = Residuals(series, trial, create);
-                if (r is not null && r.Length == n)
+                if (run(trial, _trial))
                 {
-                    double trialSse = SumOfSquares(r);
+                    double trialSse = SumOfSquares(_trial);
                     if (trialSse < sse)
                     {
+                        // Accepted; an improvement below 1e-12 of the SSE ends the solve here.
                         improved = sse - trialSse > 1e-12 * sse;
+                        tiny = !improved;
                         theta = trial;
-                        residuals = r;
+                        (residuals, _trial) = (_trial, residuals);
                         sse = trialSse;
-                        if (!improved)
-                        {
-                            return (theta, sse);
-                        }
                     }
                 }
             }
@@ -114,49 +136,8 @@ internal static class StartStateSolver
             }
         }
 
+        _residuals = residuals;
         return (theta, sse);
-    }
-
-    private static double[]? Residuals(double[] series, double[] theta, Func<double[], ForecasterOptions> create)
-    {
-        Forecaster forecaster;
-        try
-        {
-            forecaster = create(theta).CreateForecaster();
-        }
-        catch (ArgumentException)
-        {
-            return null;
-        }
-
-        var residuals = new double[series.Length];
-        int count = 0;
-        foreach (double actual in series)
-        {
-            if (forecaster.TryForecast(1, out double forecast))
-            {
-                residuals[count++] = actual - forecast;
-            }
-
-            try
-            {
-                forecaster.Update(actual);
-            }
-            catch (ArgumentOutOfRangeException)
-            {
-                return null;
-            }
-        }
-
-        foreach (double r in residuals.AsSpan(0, count))
-        {
-            if (!double.IsFinite(r))
-            {
-                return null;
-            }
-        }
-
-        return count == series.Length ? residuals : residuals[..count];
     }
 
     /// <summary>

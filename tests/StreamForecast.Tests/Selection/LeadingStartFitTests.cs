@@ -6,7 +6,8 @@ namespace StreamForecast.Tests.Selection;
 
 /// <summary>
 /// Tuning with fitted Holt-Winters starts (<see cref="TuningOptions.FitStartValues"/>): the fixed-start fits are reused, every
-/// variant gets its start fitted at its fixed weights, and only the leading variant the joint fit of start and weights.
+/// variant gets its start fitted at its fixed weights, and only the leading variant a round of weights refined with that start
+/// held and the start solved again (<see cref="HoltWintersStartFit.FitAlternating"/>).
 /// Behaviour tests on invented data (the CO2 checks against published numbers are in <see cref="Co2StartFitTests"/>).
 /// </summary>
 public class LeadingStartFitTests
@@ -29,20 +30,101 @@ public class LeadingStartFitTests
         && a.SeasonalWeight == b.SeasonalWeight && a.Damping == b.Damping;
 
     [Theory]
-    [InlineData(Seasonality.Additive, false)]
-    [InlineData(Seasonality.Additive, true)]
-    [InlineData(Seasonality.Multiplicative, false)]
-    public void RefineHoltWintersStart_FromFixedStartFit_EqualsFittingWithStartValues(Seasonality seasonality, bool damped)
+    [InlineData(Seasonality.Additive, false, 1)]
+    [InlineData(Seasonality.Additive, true, 2)]
+    [InlineData(Seasonality.Multiplicative, false, 3)]
+    [InlineData(Seasonality.Multiplicative, true, 4)]
+    public void GivenStartResiduals_FittedStart_EqualsTheForecastersErrorsBitForBit(Seasonality seasonality, bool damped, int seed)
     {
-        double[] y = Orders(5);
-
+        double[] y = Orders(seed);
         FittedMethod fixedStart = MethodFitter.FitHoltWinters(y, 13, seasonality, damped);
-        FittedMethod refined = MethodFitter.RefineHoltWintersStart(y, fixedStart);
-        FittedMethod direct = MethodFitter.FitHoltWinters(y, 13, seasonality, damped, fitStartValues: true);
+        var options = Assert.IsType<HoltWintersOptions>(HoltWintersStartFit.FitAtFixedWeights(y, fixedStart).Method);
+        Assert.Equal(HoltWintersStartKind.Given, options.Start.Kind);
+        double[] weights = damped
+            ? [options.LevelWeight, options.TrendWeight, options.SeasonalWeight, options.Damping]
+            : [options.LevelWeight, options.TrendWeight, options.SeasonalWeight];
+        var state = new double[14];
+        state[0] = options.Start.Level!.Value;
+        state[1] = options.Start.Trend!.Value;
+        for (int i = 0; i < 12; i++)
+        {
+            state[i + 2] = options.Start.SeasonalIndices[i];
+        }
 
-        Assert.Equal(direct.Method, refined.Method);
-        Assert.Equal(direct.SumOfSquaredErrors, refined.SumOfSquaredErrors);
-        Assert.Equal(direct.ErrorCount, refined.ErrorCount);
+        var errors = new double[y.Length];
+        Assert.True(new GivenStartResiduals(y, 13, seasonality).TryRun(weights, damped, state, errors));
+
+        // The forecaster of the same options, run period by period: every error identical.
+        Forecaster forecaster = options.CreateForecaster();
+        for (int t = 0; t < y.Length; t++)
+        {
+            Assert.True(forecaster.TryForecast(1, out double forecast));
+            Assert.Equal(BitConverter.DoubleToInt64Bits(y[t] - forecast), BitConverter.DoubleToInt64Bits(errors[t]));
+            forecaster.Update(y[t]);
+        }
+    }
+
+    [Fact]
+    public void GivenStartResiduals_StateTheOptionsRefuse_Fails()
+    {
+        double[] y = Orders(6);
+        var errors = new double[y.Length];
+        var state = new double[14];
+        state[0] = 120;
+        state[2] = 1;
+        var multiplicative = new GivenStartResiduals(y, 13, Seasonality.Multiplicative);
+
+        // Indices 1 … 12 give a last index of 13 − 1 = 12 with the rest 0: HoltWintersOptions refuses a multiplicative index of 0.
+        Assert.Throws<ArgumentException>(() => new HoltWintersOptions(13, Seasonality.Multiplicative, 0.3, 0.1, 0.2,
+            start: HoltWintersStart.Given(120, 0, [1, 0, 0, 0, 0, 0, 0, 0, 0, 0, 0, 0, 12])));
+        Assert.False(multiplicative.TryRun([0.3, 0.1, 0.2], false, state, errors));
+
+        // A level beyond NumericDomain.MaxMagnitude, and a weight out of range, fail for additive seasonality as well.
+        var additive = new GivenStartResiduals(y, 13, Seasonality.Additive);
+        state[0] = 2e15;
+        Assert.False(additive.TryRun([0.3, 0.1, 0.2], false, state, errors));
+        state[0] = 120;
+        Assert.True(additive.TryRun([0.3, 0.1, 0.2], false, state, errors));
+        Assert.False(additive.TryRun([0.3, 1.5, 0.2], false, state, errors));
+    }
+
+    [Theory]
+    [InlineData(Seasonality.Additive, false, 7)]
+    [InlineData(Seasonality.Additive, true, 8)]
+    [InlineData(Seasonality.Multiplicative, false, 9)]
+    [InlineData(Seasonality.Multiplicative, true, 10)]
+    public void FitAlternating_SeasonalHistory_NeverWorseThanTheStartAtFixedWeightsNorTheFixedStart(Seasonality seasonality, bool damped, int seed)
+    {
+        double[] y = Orders(seed);
+        FittedMethod fixedStart = MethodFitter.FitHoltWinters(y, 13, seasonality, damped);
+        FittedMethod atFixedWeights = HoltWintersStartFit.FitAtFixedWeights(y, fixedStart);
+
+        FittedMethod refined = HoltWintersStartFit.FitAlternating(y, fixedStart, atFixedWeights);
+
+        // Block-coordinate descent on the error over periods 1 … n: the round is kept only when it lowers it.
+        var options = Assert.IsType<HoltWintersOptions>(refined.Method);
+        if (atFixedWeights.Method is not HoltWintersOptions { Start.Kind: HoltWintersStartKind.Given })
+        {
+            Assert.Same(atFixedWeights, refined);
+            return;
+        }
+
+        Assert.Equal(HoltWintersStartKind.Given, options.Start.Kind);
+        Assert.True(refined.SumOfSquaredErrors <= atFixedWeights.SumOfSquaredErrors, $"{refined} vs {atFixedWeights}");
+        Assert.Equal(OneStepError.Sse(y, options, 0), refined.SumOfSquaredErrors, 1e-9 * refined.SumOfSquaredErrors);
+
+        // The fixed-start guarantee: no worse over the periods the fixed-start fit is scored on.
+        Assert.True(OneStepError.Sse(y, options, 26) <= fixedStart.SumOfSquaredErrors * (1 + 1e-12), $"{refined} vs {fixedStart}");
+    }
+
+    [Fact]
+    public void FitAlternating_FixedStartKept_ReturnsItUnchanged()
+    {
+        double[] y = Orders(3);
+        FittedMethod fixedStart = MethodFitter.FitHoltWinters(y, 13);
+
+        // Nothing to alternate from when the start at fixed weights was not kept.
+        Assert.Same(fixedStart, HoltWintersStartFit.FitAlternating(y, fixedStart, fixedStart));
     }
 
     [Theory]
@@ -72,7 +154,7 @@ public class LeadingStartFitTests
     [Theory]
     [InlineData(11)]
     [InlineData(12)]
-    public void Tune_FitStartValues_JointFitForTheLeadingVariantOnlyAndNeverWorseThanWithout(int seed)
+    public void Tune_FitStartValues_NewWeightsForTheLeadingVariantOnlyAndNeverWorseThanWithout(int seed)
     {
         double[] y = Orders(seed);
         var plainOptions = new TuningOptions(seasonLength: 13);
@@ -85,7 +167,7 @@ public class LeadingStartFitTests
         Assert.Equal(4, fixedStarts.Count); // additive, multiplicative, each undamped and damped
         Assert.NotEmpty(givenStarts);
 
-        // Starts fitted at fixed weights share a fixed-start candidate's weights; a joint fit (new weights) is made once at most.
+        // Starts fitted at fixed weights share a fixed-start candidate's weights; the leading variant's refinement (new weights) is made once at most.
         Assert.True(givenStarts.Count(g => !fixedStarts.Any(f => SameWeights(f, g))) <= 1);
 
         // Every candidate of the plain run is still there, so the choice is never worse in the backtest.
