@@ -15,6 +15,8 @@ using StreamForecast.Benchmarks;
 //   dotnet run -c Release --project benchmarks/StreamForecast.Benchmarks -- tune-rate [series] [fit-starts|today] [workers, e.g. 1,2]
 // The EngineThroughputBenchmarks workload (one partition) as a plain program, for valgrind (see benchmarks/README.md):
 //   dotnet run -c Release --project benchmarks/StreamForecast.Benchmarks -- engine-instructions <keys> <rounds> [warm rounds]
+// The ClusterThroughputBenchmarks workload as a plain program, to profile (issue 15 target 4):
+//   dotnet run -c Release --project benchmarks/StreamForecast.Benchmarks -- cluster-profile <sqlite|postgresql|engine> <batch> <rounds>
 // Charts from the result CSVs of a run:
 //   dotnet run -c Release --project benchmarks/StreamForecast.Benchmarks -- chart <results folder> <output folder>
 if (args.Length > 0 && args[0] == "memory")
@@ -48,6 +50,11 @@ if (args.Length is 3 or 4 && args[0] == "engine-instructions")
         int.Parse(args[1], System.Globalization.CultureInfo.InvariantCulture),
         int.Parse(args[2], System.Globalization.CultureInfo.InvariantCulture),
         args.Length > 3 ? int.Parse(args[3], System.Globalization.CultureInfo.InvariantCulture) : 1).ConfigureAwait(false);
+}
+
+if (args.Length == 4 && args[0] == "cluster-profile")
+{
+    return ClusterProfile.Run(args[1], int.Parse(args[2], System.Globalization.CultureInfo.InvariantCulture), int.Parse(args[3], System.Globalization.CultureInfo.InvariantCulture));
 }
 
 if (args.Length > 0 && args[0] == "chart")

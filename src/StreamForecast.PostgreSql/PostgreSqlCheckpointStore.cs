@@ -146,8 +146,9 @@ public sealed partial class PostgreSqlCheckpointStore : IConditionalCheckpointSt
     /// <remarks>
     /// <para><b>Newest.</b> Damaged rows are skipped exactly as <see cref="LoadLatestAsync"/> skips them, so a position
     /// just loaded is always a matching expectation.</para>
-    /// <para>Cost: that of <see cref="SaveAsync"/>, plus reading and hashing the stream's newest stored snapshot, in the
-    /// round trip that takes the locks (one more round trip per older one, read only while the newer are damaged; none
+    /// <para>Cost: that of <see cref="SaveAsync"/>, plus the server hashing the stream's newest stored snapshot
+    /// (PostgreSQL's <c>sha256</c>, compared there with the stored hash, so the snapshot is not sent back), in the round
+    /// trip that takes the locks (one more round trip per older one, checked only while the newer are damaged; none
     /// when an earlier save of the same group wrote the stream).</para>
     /// <para><b>Thread safety.</b> Atomic with respect to every save to the stream, from this instance, other instances
     /// or other machines, grouped or not: of several conditional saves made with the same expectation, at most one
@@ -256,7 +257,7 @@ public sealed partial class PostgreSqlCheckpointStore : IConditionalCheckpointSt
     internal async Task<long?> NewestValidPositionAsync(NpgsqlConnection connection, NpgsqlTransaction transaction, CancellationToken cancellationToken)
     {
         long before = long.MaxValue;
-        while (await ReadOlderRowAsync(connection, transaction, before, cancellationToken).ConfigureAwait(false) is StoredRow row)
+        while (await CheckOlderRowAsync(connection, transaction, before, cancellationToken).ConfigureAwait(false) is StoredRow row)
         {
             if (row.Problem is null)
             {
@@ -280,6 +281,21 @@ public sealed partial class PostgreSqlCheckpointStore : IConditionalCheckpointSt
             await using (reader.ConfigureAwait(false))
             {
                 return await ReadRowAsync(reader, cancellationToken).ConfigureAwait(false);
+            }
+        }
+    }
+
+    // Checks the stream's newest row with a sequence below `before` on the server, without reading its bytes; null when there is none.
+    private async Task<StoredRow?> CheckOlderRowAsync(NpgsqlConnection connection, NpgsqlTransaction transaction, long before, CancellationToken cancellationToken)
+    {
+        var select = new NpgsqlBatch(connection, transaction);
+        await using (select.ConfigureAwait(false))
+        {
+            select.BatchCommands.Add(CheckedRowCommand(before));
+            NpgsqlDataReader reader = await select.ExecuteReaderAsync(cancellationToken).ConfigureAwait(false);
+            await using (reader.ConfigureAwait(false))
+            {
+                return await ReadCheckedRowAsync(reader, _options.MaxSnapshotLength, cancellationToken).ConfigureAwait(false);
             }
         }
     }

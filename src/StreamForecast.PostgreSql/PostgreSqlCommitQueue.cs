@@ -172,21 +172,22 @@ internal sealed class PostgreSqlCommitQueue
 
                     foreach (PendingSave save in reads)
                     {
-                        lockAndRead.BatchCommands.Add(save.Store.OlderRowCommand(long.MaxValue));
+                        lockAndRead.BatchCommands.Add(save.Store.CheckedRowCommand(long.MaxValue));
                     }
 
                     NpgsqlDataReader reader = await lockAndRead.ExecuteReaderAsync(cancellationToken).ConfigureAwait(false);
                     await using (reader.ConfigureAwait(false))
                     {
-                        // The results in statement order; only the reads return six columns (a non-query returns no
-                        // result set, the locks' SELECT one column).
+                        // The results in statement order; only the reads return five columns (a non-query returns no
+                        // result set, the locks' SELECT one column). The server checks each newest row's length and
+                        // SHA-256, so its bytes are not sent here.
                         int next = 0;
                         do
                         {
-                            if (reader.FieldCount == PostgreSqlCheckpointStore.RowColumnCount)
+                            if (reader.FieldCount == PostgreSqlCheckpointStore.CheckedRowColumnCount)
                             {
                                 PendingSave read = reads[next++];
-                                newest[new ReadKey(read.Store.Key, read.Store.Options.MaxSnapshotLength)] = await read.Store.ReadRowAsync(reader, cancellationToken).ConfigureAwait(false);
+                                newest[new ReadKey(read.Store.Key, read.Store.Options.MaxSnapshotLength)] = await PostgreSqlCheckpointStore.ReadCheckedRowAsync(reader, read.Store.Options.MaxSnapshotLength, cancellationToken).ConfigureAwait(false);
                             }
                         }
                         while (await reader.NextResultAsync(cancellationToken).ConfigureAwait(false));
