@@ -31,9 +31,6 @@ internal sealed class DeliveryBuffer<T>
 
     private const int InitialSize = 64;
 
-    /// <summary>How many <see cref="SpinWait.SpinOnce(int)"/> rounds a reader that found the ring empty waits before it sleeps.</summary>
-    private const int SpinIterations = 20;
-
     private readonly Lock _lock = new();
     private readonly int _capacity;
     // The reader sleeps on this monitor until a writer sets _woken (Monitor.Wait/Pulse: nothing to dispose).
@@ -234,7 +231,6 @@ internal sealed class DeliveryBuffer<T>
     {
         while (true)
         {
-            SpinBeforeSleep();
             lock (_lock)
             {
                 if (_count > 0)
@@ -263,23 +259,6 @@ internal sealed class DeliveryBuffer<T>
                     Monitor.Wait(_sleep);
                 }
             }
-        }
-    }
-
-    /// <summary>
-    /// Reader only: before going to sleep on an empty ring, spins and yields for up to <see cref="SpinIterations"/>
-    /// rounds while no item arrives, so that a reader that has just caught up takes the next items without a sleep and
-    /// a wake-up (a kernel call on the publishing thread and a wait for the reader's thread to be scheduled again).
-    /// </summary>
-    /// <remarks>The later rounds yield the core (<see cref="SpinWait"/>), so on a machine with fewer cores than busy
-    /// threads the publisher and the other delivery threads run meanwhile. Bounded: a few microseconds of spinning
-    /// and a handful of yields per idle period, then the reader sleeps as before.</remarks>
-    private void SpinBeforeSleep()
-    {
-        SpinWait spin = default;
-        for (int i = 0; i < SpinIterations && Volatile.Read(ref _count) == 0 && !Volatile.Read(ref _closed); i++)
-        {
-            spin.SpinOnce(sleep1Threshold: -1);
         }
     }
 
