@@ -22,7 +22,12 @@ public sealed partial class SeriesStep<TKey>
             DriftRule rule = RuleAt(i);
             if (rule.CanRead(input))
             {
-                Publish(i, rule.Evaluate(input), period, sink, counters, errors, start);
+                // Most scored periods change no episode: skip the call and the copy of the summary it takes.
+                DriftTransition transition = rule.Evaluate(input);
+                if (!transition.IsNone)
+                {
+                    Publish(i, transition, period, sink, counters, errors, start);
+                }
             }
         }
     }
