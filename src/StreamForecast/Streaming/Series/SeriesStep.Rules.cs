@@ -9,7 +9,7 @@ namespace StreamForecast.Streaming;
 public sealed partial class SeriesStep<TKey>
 {
     /// <summary>Shows one model's scored period to every rule that watches that model and can read the input.</summary>
-    private void EvaluateRules(WatchedModel watched, ErrorSummary errors, double error, long period, ISeriesSink<TKey> sink, SeriesCounters? counters, DateTimeOffset start)
+    private void EvaluateRules(WatchedModel watched, in ErrorSummary errors, double error, long period, ISeriesSink<TKey> sink, SeriesCounters? counters, DateTimeOffset start)
     {
         DriftInput input = errors.ToDriftInput(error);
         for (int i = 0, count = RuleCount; i < count; i++)
