@@ -315,22 +315,6 @@ internal sealed partial class SeriesState<TKey>
         return (int)(m < 0 ? m + capacity : m);
     }
 
-    /// <summary>The ring slot of open period <paramref name="period"/> (inside the open range).</summary>
-    /// <remarks>
-    /// The inline pair's slot is the period's parity, <see cref="Slot"/> with a capacity of 2 without its division (read
-    /// on every observation and close; issue 15, engine cost per observation).
-    /// </remarks>
-    [MethodImpl(MethodImplOptions.AggressiveInlining)]
-    private ref OpenPeriod OpenSlot(long period)
-    {
-        if (OpenSpill is { } spill)
-        {
-            return ref spill[Slot(period, spill.Length)];
-        }
-
-        return ref _openInline[(int)(period & 1)];
-    }
-
     private void CloseNext(ISeriesOutput<TKey> output)
     {
         long period = _nextToClose;
