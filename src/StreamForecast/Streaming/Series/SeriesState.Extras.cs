@@ -1,3 +1,5 @@
+using System.Runtime.CompilerServices;
+
 namespace StreamForecast.Streaming;
 
 // The parts of a series' state that most series never use, in one object created only for a series that uses one of
@@ -12,6 +14,22 @@ internal sealed partial class SeriesState<TKey>
 
     /// <summary>The remembered event ids, or null until the first id arrives.</summary>
     private EventIdWindow? Ids => _extras?.Ids;
+
+    /// <summary>The ring slot of open period <paramref name="period"/> (inside the open range).</summary>
+    /// <remarks>
+    /// The inline pair's slot is the period's parity, <see cref="Slot"/> with a capacity of 2 without its division (read
+    /// on every observation and close; issue 15, engine cost per observation).
+    /// </remarks>
+    [MethodImpl(MethodImplOptions.AggressiveInlining)]
+    private ref OpenPeriod OpenSlot(long period)
+    {
+        if (OpenSpill is { } spill)
+        {
+            return ref spill[Slot(period, spill.Length)];
+        }
+
+        return ref _openInline[(int)(period & 1)];
+    }
 
     /// <summary>The rarely used parts of one series' state: each null when unused.</summary>
     private sealed class Extras

@@ -116,11 +116,12 @@ internal sealed partial class SeriesState<TKey>
     {
         // Too late for any restatement: decided before the id window sees the id, so a dropped event does not consume
         // it. An event that moves the watermark is never too late (its own period ends after the watermark it sets).
+        SeriesCounters counters = output.Counters; // an interface call: read once per observation
         if (_started && period < _nextToClose - ClosedCount)
         {
             _lastArrival = arrivalTimestamp;
-            output.Counters.Observations++;
-            output.Counters.Late++;
+            counters.Observations++;
+            counters.Late++;
             return null;
         }
 
@@ -135,14 +136,14 @@ internal sealed partial class SeriesState<TKey>
             extras.Ids ??= new EventIdWindow(Options.DuplicateWindow);
             if (!extras.Ids.TryAdd(eventId, period))
             {
-                output.Counters.Duplicates++;
+                counters.Duplicates++;
                 return null;
             }
         }
 
         _lastArrival = arrivalTimestamp;
         long ticks = timestamp.UtcTicks;
-        output.Counters.Observations++;
+        counters.Observations++;
         if (!_started)
         {
             _started = true;
@@ -171,7 +172,7 @@ internal sealed partial class SeriesState<TKey>
             CloseNext(output);
         }
 
-        ref OpenPeriod open = ref Open[Slot(period, capacity)];
+        ref OpenPeriod open = ref OpenSlot(period);
         open.Sum += quantity;
         open.Has = true;
         return null;
@@ -188,7 +189,7 @@ internal sealed partial class SeriesState<TKey>
         if (period >= _nextToClose)
         {
             int capacity = OpenPeriodCapacity;
-            return period - _nextToClose < capacity ? Open[Slot(period, capacity)].Sum : 0;
+            return period - _nextToClose < capacity ? OpenSlot(period).Sum : 0;
         }
 
         Restatement r = Restating!; // the caller has already counted periods beyond the restatement horizon as late
@@ -317,14 +318,15 @@ internal sealed partial class SeriesState<TKey>
     private void CloseNext(ISeriesOutput<TKey> output)
     {
         long period = _nextToClose;
-        ref OpenPeriod open = ref Open[Slot(period, OpenPeriodCapacity)];
+        ref OpenPeriod open = ref OpenSlot(period);
         bool has = open.Has;
         double sum = open.Sum;
         open = default;
         _nextToClose = period + 1;
         // After the calendar's last period nothing can close: no instant lies beyond it.
         _nextCloseEndTicks = period < Options.Calendar.MaxPeriod ? Options.Calendar.EndOf(period + 1).UtcTicks : long.MaxValue;
-        output.Counters.PeriodsClosed++;
+        SeriesCounters counters = output.Counters;
+        counters.PeriodsClosed++;
         _quietPeriods = has ? 0 : _quietPeriods + 1;
 
         if (Restating is { } restating)
@@ -334,7 +336,7 @@ internal sealed partial class SeriesState<TKey>
 
         // Repeats of events in periods that can no longer change are late anyway: stop remembering their ids.
         Ids?.ForgetBefore(_nextToClose - ClosedCount);
-        _step.Apply(period, has, sum, StepMode.Live, output, output.Counters);
+        _step.Apply(period, has, sum, StepMode.Live, output, counters);
     }
 
     /// <summary>The series as it stands now (see <see cref="SeriesStatus{TKey}"/>). Allocates the status's episode list.</summary>

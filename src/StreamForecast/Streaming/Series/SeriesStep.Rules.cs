@@ -9,7 +9,7 @@ namespace StreamForecast.Streaming;
 public sealed partial class SeriesStep<TKey>
 {
     /// <summary>Shows one model's scored period to every rule that watches that model and can read the input.</summary>
-    private void EvaluateRules(WatchedModel watched, ErrorSummary errors, double error, long period, ISeriesSink<TKey> sink, SeriesCounters? counters, DateTimeOffset start)
+    private void EvaluateRules(WatchedModel watched, in ErrorSummary errors, double error, long period, ISeriesSink<TKey> sink, SeriesCounters? counters, DateTimeOffset start)
     {
         DriftInput input = errors.ToDriftInput(error);
         for (int i = 0, count = RuleCount; i < count; i++)
@@ -22,7 +22,12 @@ public sealed partial class SeriesStep<TKey>
             DriftRule rule = RuleAt(i);
             if (rule.CanRead(input))
             {
-                Publish(i, rule.Evaluate(input), period, sink, counters, errors, start);
+                // Most scored periods change no episode: skip the call and the copy of the summary it takes.
+                DriftTransition transition = rule.Evaluate(input);
+                if (!transition.IsNone)
+                {
+                    Publish(i, transition, period, sink, counters, errors, start);
+                }
             }
         }
     }
