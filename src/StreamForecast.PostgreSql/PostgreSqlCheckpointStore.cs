@@ -271,31 +271,29 @@ public sealed partial class PostgreSqlCheckpointStore : IConditionalCheckpointSt
     }
 
     // Reads the stream's newest row with a sequence below `before`, and checks it; null when there is none.
-    private async Task<StoredRow?> ReadOlderRowAsync(NpgsqlConnection connection, NpgsqlTransaction transaction, long before, CancellationToken cancellationToken)
-    {
-        var select = new NpgsqlBatch(connection, transaction);
-        await using (select.ConfigureAwait(false))
-        {
-            select.BatchCommands.Add(OlderRowCommand(before));
-            NpgsqlDataReader reader = await select.ExecuteReaderAsync(cancellationToken).ConfigureAwait(false);
-            await using (reader.ConfigureAwait(false))
-            {
-                return await ReadRowAsync(reader, cancellationToken).ConfigureAwait(false);
-            }
-        }
-    }
+    private Task<StoredRow?> ReadOlderRowAsync(NpgsqlConnection connection, NpgsqlTransaction transaction, long before, CancellationToken cancellationToken) =>
+        QueryRowAsync(connection, transaction, OlderRowCommand(before), ReadRowAsync, cancellationToken);
 
     // Checks the stream's newest row with a sequence below `before` on the server, without reading its bytes; null when there is none.
-    private async Task<StoredRow?> CheckOlderRowAsync(NpgsqlConnection connection, NpgsqlTransaction transaction, long before, CancellationToken cancellationToken)
+    private Task<StoredRow?> CheckOlderRowAsync(NpgsqlConnection connection, NpgsqlTransaction transaction, long before, CancellationToken cancellationToken) =>
+        QueryRowAsync(connection, transaction, CheckedRowCommand(before), (reader, ct) => ReadCheckedRowAsync(reader, _options.MaxSnapshotLength, ct), cancellationToken);
+
+    // Runs one row query in the transaction and reads its result with `read`.
+    private static async Task<StoredRow?> QueryRowAsync(
+        NpgsqlConnection connection,
+        NpgsqlTransaction transaction,
+        NpgsqlBatchCommand command,
+        Func<NpgsqlDataReader, CancellationToken, Task<StoredRow?>> read,
+        CancellationToken cancellationToken)
     {
         var select = new NpgsqlBatch(connection, transaction);
         await using (select.ConfigureAwait(false))
         {
-            select.BatchCommands.Add(CheckedRowCommand(before));
+            select.BatchCommands.Add(command);
             NpgsqlDataReader reader = await select.ExecuteReaderAsync(cancellationToken).ConfigureAwait(false);
             await using (reader.ConfigureAwait(false))
             {
-                return await ReadCheckedRowAsync(reader, _options.MaxSnapshotLength, cancellationToken).ConfigureAwait(false);
+                return await read(reader, cancellationToken).ConfigureAwait(false);
             }
         }
     }
