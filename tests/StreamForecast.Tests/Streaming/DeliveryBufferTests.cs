@@ -42,6 +42,32 @@ public sealed class DeliveryBufferTests
         Assert.True(buffer.Count == 0);
     }
 
+    [Fact]
+    public void Pending_BatchTakenAndNotEnded_CountsItsItemsUntilEndBatch()
+    {
+        // The reader's batch moves from Count to Pending's in-flight part in one step (the alert-forwarder sample's
+        // "waiting" figure once read 0 while a stuck subscriber's first item sat between the ring and the reader).
+        var buffer = new DeliveryBuffer<int>(16);
+        for (int i = 0; i < 5; i++)
+        {
+            buffer.Write(i, out _);
+        }
+
+        int[] batch = new int[3];
+        Assert.Equal(5, buffer.Pending);
+        Assert.Equal(3, buffer.Take(batch));
+        Assert.Equal(2, buffer.Count);
+        Assert.Equal(5, buffer.Pending); // the taken batch is still pending
+        buffer.Write(5, out _);
+        Assert.Equal(6, buffer.Pending);
+        buffer.EndBatch();
+        Assert.Equal(3, buffer.Pending);
+        Assert.Equal(3, buffer.Take(batch));
+        buffer.EndBatch();
+        Assert.Equal(0, buffer.Take(batch));
+        Assert.Equal(0, buffer.Pending);
+    }
+
     private static readonly TimeSpan s_guard = TimeSpan.FromSeconds(30);
 
     [Fact]

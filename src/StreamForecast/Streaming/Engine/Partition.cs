@@ -162,19 +162,24 @@ internal sealed class Partition<TKey> : ISeriesSink<TKey>, ISeriesBudget
         try
         {
             _table.BeginSweep();
-            while (_table.SweepSlice(flush, ticks, _sweepSlice, this))
+            bool more;
+            do
             {
+                more = _table.SweepSlice(flush, ticks, _sweepSlice, this);
+
+                // The last slice's outputs too are handed to the publishers before the command completes.
                 if (_pendingForecasts.Count > 0 || _pendingAlerts.Count > 0)
                 {
                     WakeSubscribers();
                     await DrainPendingAsync().ConfigureAwait(false);
                 }
 
-                if (pace)
+                if (more && pace)
                 {
                     pace = await WaitForRoomAsync().ConfigureAwait(false);
                 }
             }
+            while (more);
 
             _table.EndSweep();
             message.Done?.TrySetResult();

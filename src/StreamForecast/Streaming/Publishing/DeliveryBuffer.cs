@@ -39,6 +39,7 @@ internal sealed class DeliveryBuffer<T>
     private T[] _ring;
     private int _head;
     private int _count;
+    private int _inFlight; // taken by the reader and not yet delivered: set under _lock by Take, cleared by EndBatch
     private bool _closed;
     private bool _readerWaiting;
 
@@ -64,6 +65,25 @@ internal sealed class DeliveryBuffer<T>
             }
         }
     }
+
+    /// <summary>
+    /// How many items wait in the ring plus those of the batch the reader has taken and not yet finished
+    /// (<see cref="EndBatch"/>); exact at every moment, since <see cref="Take"/> moves items from one to the other under
+    /// the lock this reads them under.
+    /// </summary>
+    public int Pending
+    {
+        get
+        {
+            lock (_lock)
+            {
+                return _count + Volatile.Read(ref _inFlight);
+            }
+        }
+    }
+
+    /// <summary>Reader only: the batch of the last <see cref="Take"/> is finished (delivered or discarded).</summary>
+    public void EndBatch() => Volatile.Write(ref _inFlight, 0);
 
     /// <summary>
     /// Adds an item at the end. When the ring is full, the oldest item makes room: it is returned in
@@ -262,7 +282,10 @@ internal sealed class DeliveryBuffer<T>
         }
     }
 
-    /// <summary>Reader only: moves up to <c>batch.Length</c> of the oldest items into <paramref name="batch"/>.</summary>
+    /// <summary>
+    /// Reader only: moves up to <c>batch.Length</c> of the oldest items into <paramref name="batch"/>; they count in
+    /// <see cref="Pending"/> until <see cref="EndBatch"/>.
+    /// </summary>
     /// <returns>How many items were taken (0 when the ring is empty).</returns>
     public int Take(T[] batch)
     {
@@ -271,6 +294,7 @@ internal sealed class DeliveryBuffer<T>
         lock (_lock)
         {
             n = RingTake.Take(_ring, ref _head, ref _count, batch);
+            _inFlight = n; // in the same lock as the count, so Pending never misses a batch between ring and reader
             if (n == 0)
             {
                 return 0;

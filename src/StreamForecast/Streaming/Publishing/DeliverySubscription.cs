@@ -49,8 +49,9 @@ public sealed class DeliverySubscription : IDisposable
     /// <summary>
     /// How many items this subscriber has been given and not yet had delivered: those in its buffer plus those of the
     /// batch its delivery loop is working through (the item whose <see cref="IObserver{T}.OnNext"/> is running included).
-    /// The backlog a monitor should watch; while the loop is inside an observer call it is exact, otherwise a snapshot
-    /// that may be off by one batch while the loop moves between batches. O(1); takes the buffer's lock briefly.
+    /// The backlog a monitor should watch. Exact: the loop takes a batch from the buffer and counts it here in one step
+    /// under the buffer's lock, and a finished batch leaves this count just before <see cref="DeliveredCount"/> takes it
+    /// in (so for a moment an item may be in neither). O(1); takes the buffer's lock briefly.
     /// </summary>
     public int PendingCount => _control.PendingCount;
 

@@ -38,7 +38,6 @@ internal sealed partial class Publisher<T>
         private readonly T[] _batch;
         private readonly TaskCompletionSource _loopEnded = new(TaskCreationOptions.RunContinuationsAsynchronously);
         private volatile bool _stopped;
-        private volatile int _inBatch; // items of the batch being delivered that were not yet counted as delivered
 
         public PushSubscriber(Publisher<T> owner, IObserver<T> observer, long id)
         {
@@ -53,7 +52,7 @@ internal sealed partial class Publisher<T>
 
         public int BufferedCount => _buffer.Count;
 
-        public int PendingCount => _buffer.Count + _inBatch;
+        public int PendingCount => _buffer.Pending;
 
         public Task Completion => _loopEnded.Task;
 
@@ -150,7 +149,6 @@ internal sealed partial class Publisher<T>
 
         private void Deliver(T[] batch, int count)
         {
-            _inBatch = count; // once per batch: nothing is added per item
             int delivered = 0;
             int i = 0;
             while (i < count && !_stopped)
@@ -172,8 +170,8 @@ internal sealed partial class Publisher<T>
                 }
             }
 
+            _buffer.EndBatch(); // once per batch: nothing is counted per item
             Handle.CountDelivered(delivered);
-            _inBatch = 0;
             if (RuntimeHelpers.IsReferenceOrContainsReferences<T>())
             {
                 Array.Clear(batch, 0, count);
