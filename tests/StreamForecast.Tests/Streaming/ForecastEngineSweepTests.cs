@@ -129,6 +129,94 @@ public sealed class ForecastEngineSweepTests
         }
     }
 
+    [Fact]
+    public async Task Post_WatermarksThatEvictMixedIntoBatchesOfObservations_SameUpdatesAsTheSetDrivenDirectly()
+    {
+        // A partition finds the series of a run of observations before applying them (issue 15, end to end); a watermark
+        // that evicts quiet series sits between such runs. Everything is posted without waiting, so the partition's
+        // batches hold observations and watermarks together, and evicted keys come back after the watermark that evicted
+        // them: the engine must publish exactly what the set driven directly does, and count the same evictions.
+        var time = new FakeTimeProvider(new DateTimeOffset(2027, 1, 15, 0, 0, 0, TimeSpan.Zero));
+        var options = new ForecastEngineOptions<string>(
+            new SeriesOptions(new MovingAverageOptions(3), PeriodCalendar.FixedInterval(TimeSpan.FromMinutes(1)), rules: [new TrackingSignalRuleOptions()]),
+            partitions: 1, timeProvider: time, evictAfterQuietPeriods: 2, publishing: new PublishingOptions(1_000_000));
+        var script = new List<(Observation<string>? Observation, DateTimeOffset Watermark)>();
+        for (int m = 0; m < 40; m++)
+        {
+            // Invented: 60 bakery series; each sells in some minutes only (k + m) % 5 != 0 and goes quiet in a block of
+            // minutes now and then, so the watermarks evict it and a later sale brings it back as a new series.
+            for (int k = 0; k < 60; k++)
+            {
+                bool quietBlock = (m / 6 + k) % 4 == 0;
+                if (!quietBlock && (k + m) % 5 != 0)
+                {
+                    script.Add((new Observation<string>($"shop-{k % 7}/loaf-{k}", s_start.AddMinutes(m).AddSeconds(k % 60), 1 + ((k * 5 + m) % 9)), default));
+                }
+            }
+
+            if (m % 3 == 2)
+            {
+                script.Add((null, s_start.AddMinutes(m)));
+            }
+        }
+
+        var recorder = new ListObserver();
+        await using var engine = new ForecastEngine<string>(options);
+        using var subscription = (DeliverySubscription)engine.Forecasts.Subscribe(recorder);
+        var commands = new List<Task>();
+        foreach (var (observation, watermark) in script)
+        {
+            if (observation is { } o)
+            {
+                Assert.True(engine.TryPost(o));
+            }
+            else
+            {
+                commands.Add(engine.AdvanceAsync(watermark));
+            }
+        }
+
+        await Task.WhenAll(commands).WaitAsync(s_guard);
+        await engine.FlushAsync().WaitAsync(s_guard);
+        EngineCounters counters = engine.GetCounters();
+        await engine.DisposeAsync();
+        await subscription.Completion.WaitAsync(s_guard);
+
+        var set = new SeriesSet<string>(options);
+        var sink = new ListSink();
+        foreach (var (observation, watermark) in script)
+        {
+            if (observation is { } o)
+            {
+                set.Post(o, sink);
+            }
+            else
+            {
+                set.Advance(watermark, sink);
+            }
+        }
+
+        set.Flush(sink);
+        Assert.True(counters.Evictions > 20, $"the script should evict often; it evicted {counters.Evictions}");
+        Assert.Equal(set.GetCounters().Evictions, counters.Evictions);
+        Assert.Equal(sink.Forecasts, recorder.Received);
+    }
+
+    private sealed class ListObserver : IObserver<ForecastUpdate<string>>
+    {
+        public List<ForecastUpdate<string>> Received { get; } = [];
+
+        public void OnCompleted()
+        {
+        }
+
+        public void OnError(Exception error)
+        {
+        }
+
+        public void OnNext(ForecastUpdate<string> value) => Received.Add(value);
+    }
+
     private sealed class ListSink : ISeriesSink<string>
     {
         public List<ForecastUpdate<string>> Forecasts { get; } = [];

@@ -20,6 +20,8 @@ internal sealed class Partition<TKey> : ISeriesSink<TKey>, ISeriesBudget
 
     private readonly PartitionQueue<Message> _queue;
     private readonly Message[] _batch;
+    private readonly SeriesState<TKey>?[] _known; // the series of each observation of the batch, found ahead (ResolveAhead)
+    private long _warm; // written by ResolveAhead only so that its reads stay; never read
     private readonly SeriesSet<TKey> _table;
     private readonly Queue<ForecastUpdate<TKey>> _pendingForecasts = new();
     private readonly Queue<DriftAlert<TKey>> _pendingAlerts = new();
@@ -37,6 +39,7 @@ internal sealed class Partition<TKey> : ISeriesSink<TKey>, ISeriesBudget
         Index = index;
         _queue = new PartitionQueue<Message>(engine.Options.QueueCapacity);
         _batch = new Message[Math.Min(MaxBatch, engine.Options.QueueCapacity)];
+        _known = new SeriesState<TKey>?[_batch.Length];
         _table = new SeriesSet<TKey>(engine.Options, this);
         _sweepSlice = Math.Clamp(engine.Options.Publishing.SubscriberCapacity / 4, 1, 4096);
     }
@@ -92,6 +95,7 @@ internal sealed class Partition<TKey> : ISeriesSink<TKey>, ISeriesBudget
     {
         PartitionQueue<Message> queue = _queue;
         Message[] batch = _batch;
+        SeriesState<TKey>?[] known = _known;
         while (await queue.WaitToReadAsync().ConfigureAwait(false))
         {
             // A batch per lock: the queue's writers and this loop meet once per batch, not once per item.
@@ -99,19 +103,26 @@ internal sealed class Partition<TKey> : ISeriesSink<TKey>, ISeriesBudget
             while ((taken = queue.Take(batch)) > 0)
             {
                 Volatile.Write(ref _unhandled, taken);
+                int resolvedUntil = 0;
                 for (int i = 0; i < taken; i++)
                 {
+                    if (i >= resolvedUntil)
+                    {
+                        resolvedUntil = ResolveAhead(batch, i, taken);
+                    }
+
                     if (batch[i].Kind is MessageKind.Flush or MessageKind.Advance)
                     {
                         await SweepAsync(batch[i]).ConfigureAwait(false);
                     }
                     else
                     {
-                        Handle(in batch[i]);
+                        Handle(in batch[i], known[i]);
                     }
 
                     // Let go of what the item references (a command's completion, a visitor, the key and event id).
                     batch[i] = default;
+                    known[i] = null;
                     Volatile.Write(ref _unhandled, taken - i - 1);
                     if (_pendingForecasts.Count > 0 || _pendingAlerts.Count > 0)
                     {
@@ -214,14 +225,37 @@ internal sealed class Partition<TKey> : ISeriesSink<TKey>, ISeriesBudget
         }
     }
 
-    private void Handle(in Message message)
+    /// <summary>
+    /// Finds the series of the run of observations that starts at <paramref name="from"/> (up to the first command) in one
+    /// pass of lookups that change nothing, so their cache misses overlap; returns where the run ends. Only a command (a
+    /// sweep's eviction, an idle check, a visitor) can remove a series that exists, and the run stops before the first.
+    /// </summary>
+    private int ResolveAhead(Message[] batch, int from, int taken)
+    {
+        SeriesSet<TKey> table = _table;
+        SeriesState<TKey>?[] known = _known;
+        int i = from;
+        long warm = 0;
+        for (; i < taken && batch[i].Kind == MessageKind.Observation; i++)
+        {
+            if ((known[i] = table.Find(batch[i].Observation.Key)) is { } state)
+            {
+                warm ^= state.Warm();
+            }
+        }
+
+        _warm = warm; // kept, so the reads are not dropped
+        return i;
+    }
+
+    private void Handle(in Message message, SeriesState<TKey>? known)
     {
         try
         {
             switch (message.Kind)
             {
                 case MessageKind.Observation:
-                    _table.Observe(message.Observation, message.Arrival, this);
+                    _table.Observe(message.Observation, message.Arrival, this, known);
                     break;
                 case MessageKind.Advance:
                     _table.Advance(message.Time, this);

@@ -1,4 +1,5 @@
 using System.Runtime.CompilerServices;
+using StreamForecast.Tracking;
 
 namespace StreamForecast.Streaming;
 
@@ -14,6 +15,16 @@ internal sealed partial class SeriesState<TKey>
 
     /// <summary>The remembered event ids, or null until the first id arrives.</summary>
     private EventIdWindow? Ids => _extras?.Ids;
+
+    /// <summary>
+    /// Reads a word of each of this state's cache lines, its step's, its model's, forecaster's and error tracker's (a partition's look-ahead, so that the misses of
+    /// several series overlap before they are applied one after another); the value means nothing.
+    /// </summary>
+    internal long Warm()
+    {
+        TrackedForecaster model = _step.Model;
+        return _nextToClose ^ _lastArrival ^ model.Count ^ model.Tracker.Count;
+    }
 
     /// <summary>The ring slot of open period <paramref name="period"/> (inside the open range).</summary>
     /// <remarks>
