@@ -140,7 +140,7 @@ public class PublishingBenchmarks
 
     /// <summary>
     /// The publisher as the engine's partition loop drives it: <c>TryPublishDeferred</c> (a sleeping subscriber is woken
-    /// after 64 waiting items, not per item) and <c>WakeSubscribers</c> once the run of items ends, as the loop does when
+    /// after 256 waiting items (a quarter of a smaller buffer), not per item) and <c>WakeSubscribers</c> once the run of items ends, as the loop does when
     /// its queue runs empty.
     /// </summary>
     /// <returns>The number of items the first subscriber received so far.</returns>

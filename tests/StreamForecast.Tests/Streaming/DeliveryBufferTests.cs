@@ -114,7 +114,7 @@ public sealed class DeliveryBufferTests
         // Fewer deferred items than the run that wakes by itself: the reader sleeps until WakeIfPending.
         Task<bool> wait = Task.Run(buffer.WaitToRead);
         await AsleepAsync(buffer);
-        for (int i = 0; i < DeliveryBuffer<int>.DeferredWakeItems - 1; i++)
+        for (int i = 0; i < buffer.WakeAt - 1; i++)
         {
             buffer.Write(i, out _, deferWake: true);
         }
@@ -122,20 +122,42 @@ public sealed class DeliveryBufferTests
         Assert.True(buffer.IsReaderWaiting); // only a wake-up clears it
         buffer.WakeIfPending();
         Assert.True(await wait.WaitAsync(s_guard));
-        Assert.Equal(DeliveryBuffer<int>.DeferredWakeItems - 1, buffer.Take(batch));
+        Assert.Equal(buffer.WakeAt - 1, buffer.Take(batch));
 
         // A full run of deferred items wakes the reader without WakeIfPending; WakeIfPending on an empty ring does nothing.
         wait = Task.Run(buffer.WaitToRead);
         await AsleepAsync(buffer);
         buffer.WakeIfPending();
         Assert.True(buffer.IsReaderWaiting);
-        for (int i = 0; i < DeliveryBuffer<int>.DeferredWakeItems; i++)
+        for (int i = 0; i < buffer.WakeAt; i++)
         {
             buffer.Write(i, out _, deferWake: true);
         }
 
         Assert.True(await wait.WaitAsync(s_guard));
-        Assert.Equal(DeliveryBuffer<int>.DeferredWakeItems, buffer.Take(batch));
+        Assert.Equal(buffer.WakeAt, buffer.Take(batch));
+    }
+
+    [Fact]
+    public async Task Write_DeferredWakeInABufferSmallerThanARun_WakesTheReaderAtAQuarterOfItsCapacity()
+    {
+        // A 40-item buffer could never hold a full run of deferred items: its reader must be woken well before it fills
+        // (at 10 items), or a writer that never runs out of work would overflow it while the reader sleeps.
+        var buffer = new DeliveryBuffer<int>(40);
+        Assert.Equal(10, buffer.WakeAt);
+        Assert.Equal(1, new DeliveryBuffer<int>(3).WakeAt);
+        Assert.Equal(DeliveryBuffer<int>.DeferredWakeItems, new DeliveryBuffer<int>(10_000).WakeAt);
+        Task<bool> wait = Task.Run(buffer.WaitToRead);
+        await AsleepAsync(buffer);
+        for (int i = 0; i < 9; i++)
+        {
+            buffer.Write(i, out _, deferWake: true);
+        }
+
+        Assert.True(buffer.IsReaderWaiting);
+        buffer.Write(9, out _, deferWake: true);
+        Assert.True(await wait.WaitAsync(s_guard));
+        Assert.Equal(10, buffer.Take(new int[64]));
     }
 
     [Fact]

@@ -26,8 +26,12 @@ namespace StreamForecast.Streaming;
 /// </remarks>
 internal sealed class DeliveryBuffer<T>
 {
-    /// <summary>How many items a deferred write lets wait before it wakes a sleeping reader itself.</summary>
-    public const int DeferredWakeItems = 64;
+    /// <summary>
+    /// The most items a deferred write lets wait before it wakes a sleeping reader itself (<see cref="WakeAt"/>: a quarter
+    /// of the capacity when that is less). 256, one reader batch: with two push subscribers on 2 cores, 64 cost 11–15× a
+    /// <c>Subject&lt;T&gt;.OnNext</c> per item and 256 about 9× (benchmarks/README.md, issue 15 target 1).
+    /// </summary>
+    public const int DeferredWakeItems = 256;
 
     private const int InitialSize = 64;
 
@@ -52,7 +56,14 @@ internal sealed class DeliveryBuffer<T>
         Debug.Assert(capacity >= 1, "validated by PublishingOptions");
         _capacity = capacity;
         _ring = new T[Math.Min(capacity, InitialSize)];
+        WakeAt = Math.Max(1, Math.Min(DeferredWakeItems, capacity / 4));
     }
+
+    /// <summary>
+    /// How many items a deferred write lets wait before it wakes a sleeping reader itself: <see cref="DeferredWakeItems"/>,
+    /// or a quarter of the capacity (at least 1) when that is less, so a small buffer wakes its reader long before it fills.
+    /// </summary>
+    public int WakeAt { get; }
 
     /// <summary>How many items wait in the ring (not counting a batch the reader has taken).</summary>
     public int Count
@@ -93,7 +104,7 @@ internal sealed class DeliveryBuffer<T>
     /// <param name="item">The item.</param>
     /// <param name="dropped">The item dropped to make room, when the method returns <see langword="true"/>.</param>
     /// <param name="deferWake">
-    /// Leave a sleeping reader asleep until <see cref="DeferredWakeItems"/> items wait or <see cref="WakeIfPending"/> is
+    /// Leave a sleeping reader asleep until <see cref="WakeAt"/> items wait or <see cref="WakeIfPending"/> is
     /// called: for an owner loop that calls <see cref="WakeIfPending"/> whenever it runs out of work, so that a reader
     /// that keeps up is woken once per run of items instead of once per item.
     /// </param>
@@ -134,7 +145,7 @@ internal sealed class DeliveryBuffer<T>
 
             ring[tail] = item;
             _count++;
-            wake = _readerWaiting && (!deferWake || _count >= DeferredWakeItems);
+            wake = _readerWaiting && (!deferWake || _count >= WakeAt);
             _readerWaiting &= !wake;
         }
 

@@ -104,7 +104,7 @@ internal sealed partial class Publisher<T> : IObservable<T>
     public bool TryPublish(in T item) => Publish(in item, deferWake: false);
 
     /// <summary><see cref="TryPublish"/> for an owner loop that calls <see cref="WakeSubscribers"/> whenever it runs out of work: a
-    /// sleeping push subscriber wakes when <see cref="DeliveryBuffer{T}.DeferredWakeItems"/> items wait or at that call.</summary>
+    /// sleeping push subscriber wakes when <see cref="DeliveryBuffer{T}.DeferredWakeItems"/> items (at most a quarter of its buffer) wait or at that call.</summary>
     /// <param name="item">The item.</param>
     /// <returns>As <see cref="TryPublish"/>.</returns>
     public bool TryPublishDeferred(in T item) => Publish(in item, deferWake: true);
