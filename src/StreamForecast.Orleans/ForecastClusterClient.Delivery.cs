@@ -8,20 +8,11 @@ public sealed partial class ForecastClusterClient<TKey>
     private void Deliver(BucketOutput<TKey> output)
     {
         _lastNumber[output.Bucket] = output.Number;
-        foreach (ForecastUpdate<TKey> f in output.Forecasts)
-        {
-            _outputs.Forecast(f);
-        }
 
-        foreach (DriftAlert<TKey> a in output.Alerts)
-        {
-            _outputs.Alert(a);
-        }
-
-        foreach (SeriesFault<TKey> f in output.Faults)
-        {
-            _outputs.Fault(f);
-        }
+        // One wake-up per subscriber per output (or per 256 items), not one per item.
+        _outputs.Forecast(output.Forecasts);
+        _outputs.Alert(output.Alerts);
+        _outputs.Fault(output.Faults);
     }
 
     /// <summary>Delivers the waiting outputs that now follow on without a gap. Under <see cref="_outputGate"/>.</summary>

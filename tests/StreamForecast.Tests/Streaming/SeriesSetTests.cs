@@ -304,6 +304,59 @@ public sealed class SeriesSetTests
         Assert.Contains(recorder.Faults, f => f.Kind == SeriesFaultKind.SubscriberFailed);
     }
 
+    [Fact]
+    public async Task SeriesPublisher_BatchesOfASetsOutput_SubscribersGetTheSameItemsInOrder()
+    {
+        // A buffer of 40 wakes a sleeping subscriber after 10 waiting items, so batches longer than that wake it
+        // mid-batch and at the end; nothing may be lost or reordered either way.
+        var publisher = new SeriesPublisher<string>(new PublishingOptions(subscriberCapacity: 40));
+        var recorder = new EngineRecorder<string>();
+        publisher.Forecasts.Subscribe(recorder);
+        publisher.Alerts.Subscribe(recorder);
+        publisher.Faults.Subscribe(recorder);
+        var set = new SeriesSet<string>(Options(new FakeTimeProvider(Start.AddDays(1))));
+        var direct = new ListSink();
+        set.Post([.. Readings(seed: 7)], direct);
+        set.Flush(direct);
+        Assert.NotEmpty(direct.Alerts);
+        SeriesFault<string>[] faults = [new("room-9", 3, SeriesFaultKind.ObservationRejected, "a refused reading"), new("room-8", 4, SeriesFaultKind.ActualRejected, "another")];
+
+        // Batches of 1 to 30 updates, each waited out so the buffer of 40 never overflows.
+        ForecastUpdate<string>[] updates = [.. direct.Forecasts];
+        int at = 0;
+        for (int size = 1; at < updates.Length; size = size % 30 + 1)
+        {
+            int n = Math.Min(size, updates.Length - at);
+            publisher.Forecast(updates.AsSpan(at, n));
+            at += n;
+            await WaitUntil(() => recorder.Forecasts.Count == at);
+        }
+
+        publisher.Alert([.. direct.Alerts]);
+        publisher.Fault(faults);
+        publisher.Forecast(ReadOnlySpan<ForecastUpdate<string>>.Empty);
+        await publisher.CompleteAsync();
+
+        Assert.Equal(updates, recorder.Forecasts);
+        Assert.Equal(direct.Alerts, recorder.Alerts);
+        Assert.Equal(faults, recorder.Faults);
+        Assert.Equal(3, recorder.Completed);
+        Assert.Throws<InvalidOperationException>(() => publisher.Forecast(updates.AsSpan(0, 1)));
+        Assert.Throws<InvalidOperationException>(() => publisher.Forecast(ReadOnlySpan<ForecastUpdate<string>>.Empty));
+        Assert.Throws<InvalidOperationException>(() => publisher.Alert(ReadOnlySpan<DriftAlert<string>>.Empty));
+        Assert.Throws<InvalidOperationException>(() => publisher.Fault(faults));
+    }
+
+    private static async Task WaitUntil(Func<bool> condition)
+    {
+        var deadline = DateTime.UtcNow.AddSeconds(30);
+        while (!condition())
+        {
+            Assert.True(DateTime.UtcNow < deadline, "the subscriber did not get the batch within 30 s");
+            await Task.Delay(1);
+        }
+    }
+
     private static ForecastEngineOptions<string> Options(TimeProvider time)
     {
         ImmutableArray<DriftRuleOptions> rules = [new TrackingSignalRuleOptions(warmUpPeriods: 3)];

@@ -394,6 +394,6 @@ internal sealed partial class Publisher<T> : IObservable<T>
     }
 
     [DoesNotReturn]
-    private static void ThrowCompleted() =>
+    internal static void ThrowCompleted() =>
         throw new InvalidOperationException("The publisher has been completed; nothing more can be published. Complete it only after every owner loop has stopped publishing.");
 }
