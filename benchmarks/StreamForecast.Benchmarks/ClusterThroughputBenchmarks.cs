@@ -123,6 +123,23 @@ public class ClusterThroughputBenchmarks
         }
     }
 
+    /// <summary>The average length of the bucket states the SQLite case keeps (each bucket's newest writes); 0 in the other cases.</summary>
+    /// <returns>Bytes per stored state (the grain storage's mark and the serialized state).</returns>
+    internal double AverageStoredStateBytes()
+    {
+        string path = Path.Combine(_directory, "buckets.db");
+        if (_directory.Length == 0 || !File.Exists(path))
+        {
+            return 0;
+        }
+
+        using var connection = new Microsoft.Data.Sqlite.SqliteConnection($"Data Source={path};Mode=ReadOnly;Pooling=False");
+        connection.Open();
+        using var command = connection.CreateCommand();
+        command.CommandText = "SELECT avg(snapshot_length) FROM checkpoints";
+        return command.ExecuteScalar() is double average ? average : 0;
+    }
+
     /// <summary>Stops what the setup started.</summary>
     [GlobalCleanup]
     public void Cleanup()
