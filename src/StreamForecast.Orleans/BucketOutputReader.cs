@@ -85,30 +85,11 @@ internal ref struct BucketOutputReader
             strings[i] = ReadString();
         }
 
-        var forecasts = new ForecastUpdate<TKey>[ReadCount(64, "forecast update")];
+        var forecasts = new ForecastUpdate<TKey>[ReadCount(8, "forecast update")];
+        int[] previousStrings = [-1, -1]; // the method's and the event's index in the previous update
         for (int i = 0; i < forecasts.Length; i++)
         {
-            TKey key = ReadKey(codec);
-            long period = ReadInt64();
-            DateTimeOffset start = ReadTime();
-            double actual = ReadDouble();
-            int flags = ReadByte();
-            if ((flags & ~(Imputed | Restatement)) != 0)
-            {
-                throw Invalid($"unknown flags {flags}");
-            }
-
-            double forecastForPeriod = ReadDouble();
-            double error = ReadDouble();
-            ForecastPoint next = ReadPoint();
-            ForecastPoint atHorizon = ReadPoint();
-            ErrorSummary errors = ReadErrors();
-            string method = StringAt(strings, ReadInt32())!;
-            string? eventName = StringAt(strings, ReadInt32());
-            forecasts[i] = new ForecastUpdate<TKey>(key, period, start, actual, (flags & Imputed) != 0, forecastForPeriod, error, next, atHorizon, errors, method, (flags & Restatement) != 0)
-            {
-                Event = eventName is null ? null : KindNamed(eventName),
-            };
+            forecasts[i] = ReadUpdate(codec, strings, i == 0 ? default : forecasts[i - 1], previousStrings);
         }
 
         var alerts = new DriftAlert<TKey>[ReadCount(64, "drift alert")];
@@ -145,28 +126,70 @@ internal ref struct BucketOutputReader
         return new BucketOutput<TKey>(bucket, number, sequence, forecasts, alerts, faults);
     }
 
-    private ForecastPoint ReadPoint()
+    /// <summary>Reads one update: its key, the mask, then each field whose bit is clear (a set bit: the reference's value).</summary>
+    private ForecastUpdate<TKey> ReadUpdate<TKey>(ISnapshotKeyCodec<TKey> codec, string?[] strings, in ForecastUpdate<TKey> p, int[] previousStrings)
+        where TKey : notnull
     {
-        int horizon = ReadInt32();
-        double value = ReadDouble();
-        double lower = ReadDouble();
-        double upper = ReadDouble();
-        int kind = ReadInt32();
+        TKey key = ReadKey(codec);
+        uint mask = unchecked((uint)ReadInt32());
+        long period = Int64(p.Period, 0, mask);
+        long ticks = Int64(p.PeriodStart.Ticks, 1, mask);
+        int offset = Int32((int)(p.PeriodStart.Offset.Ticks / TimeSpan.TicksPerMinute), 2, mask);
+        DateTimeOffset start = Time(ticks, offset);
+        double actual = Double(p.Actual, 3, mask);
+        int flags = Int32((p.IsImputed ? Imputed : 0) | (p.IsRestatement ? Restatement : 0), 4, mask);
+        if ((flags & ~(Imputed | Restatement)) != 0)
+        {
+            throw Invalid($"unknown flags {flags}");
+        }
+
+        double forecastForPeriod = Double(p.ForecastForPeriod, 5, mask);
+        double error = Double(p.Error, 6, mask);
+        ForecastPoint next = Point(p.Next, 7, mask);
+        ForecastPoint atHorizon = Point(next, 13, mask);
+        ErrorSummary q = p.Errors;
+        var errors = new ErrorSummary(
+            Int64(q.ScoredPeriods, 19, mask), Double(q.Rsfe, 20, mask), Double(q.Mad, 21, mask), Double(q.SmoothedMad, 22, mask),
+            Double(q.Mse, 23, mask), Double(q.Bias, 24, mask), Double(q.Mape, 25, mask), Double(q.Mase, 26, mask),
+            Double(q.TrackingSignal, 27, mask), Double(q.TriggSignal, 28, mask), Double(q.Sigma, 29, mask));
+        int methodIndex = previousStrings[0] = Int32(previousStrings[0], 30, mask);
+        int eventIndex = previousStrings[1] = Int32(previousStrings[1], 31, mask);
+        string method = StringAt(strings, methodIndex)!;
+        string? eventName = StringAt(strings, eventIndex);
+        return new ForecastUpdate<TKey>(key, period, start, actual, (flags & Imputed) != 0, forecastForPeriod, error, next, atHorizon, errors, method, (flags & Restatement) != 0)
+        {
+            Event = eventName is null ? null : KindNamed(eventName),
+        };
+    }
+
+    private ForecastPoint Point(in ForecastPoint reference, int firstBit, uint mask)
+    {
+        int horizon = Int32(reference.Horizon, firstBit, mask);
+        double value = Double(reference.Value, firstBit + 1, mask);
+        double lower = Double(reference.Lower, firstBit + 2, mask);
+        double upper = Double(reference.Upper, firstBit + 3, mask);
+        int kind = Int32((int)reference.Kind, firstBit + 4, mask);
         if (kind is < byte.MinValue or > byte.MaxValue)
         {
             throw Invalid($"interval kind {kind} is out of range");
         }
 
-        return new ForecastPoint(horizon, value, lower, upper, (IntervalKind)kind, ReadDouble());
+        return new ForecastPoint(horizon, value, lower, upper, (IntervalKind)kind, Double(reference.Coverage, firstBit + 5, mask));
     }
+
+    private int Int32(int reference, int bit, uint mask) => (mask & (1u << bit)) != 0 ? reference : ReadInt32();
+
+    private long Int64(long reference, int bit, uint mask) => (mask & (1u << bit)) != 0 ? reference : ReadInt64();
+
+    private double Double(double reference, int bit, uint mask) => (mask & (1u << bit)) != 0 ? reference : ReadDouble();
 
     private ErrorSummary ReadErrors() => new(
         ReadInt64(), ReadDouble(), ReadDouble(), ReadDouble(), ReadDouble(), ReadDouble(), ReadDouble(), ReadDouble(), ReadDouble(), ReadDouble(), ReadDouble());
 
-    private DateTimeOffset ReadTime()
+    private DateTimeOffset ReadTime() => Time(ReadInt64(), ReadInt32());
+
+    private readonly DateTimeOffset Time(long ticks, int offsetMinutes)
     {
-        long ticks = ReadInt64();
-        int offsetMinutes = ReadInt32();
         try
         {
             return new DateTimeOffset(ticks, TimeSpan.FromMinutes(offsetMinutes));

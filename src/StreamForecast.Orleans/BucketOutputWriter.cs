@@ -16,8 +16,10 @@ namespace StreamForecast.Orleans;
 /// −1 for null, and its UTF-16 code units, so every string comes back exactly, lone surrogates included); the forecast
 /// updates, drift alerts and faults, each list an int count and then its items field by field (keys through the
 /// engine's <see cref="ISnapshotKeyCodec{TKey}"/>, doubles by their 8 bits, enums as ints, a point in time as its
-/// clock ticks and offset minutes, strings as their index in the table, −1 for null); and last the 64-bit XXH3 hash of
-/// everything before it, so a damaged or truncated form is refused instead of read as other values.</para>
+/// clock ticks and offset minutes, strings as their index in the table, −1 for null; an update starts, after its key,
+/// with a 32-bit mask whose set bits mark the fields left out because they hold the same bits as in the previous
+/// update, or for the point at the horizon as in the update's own next-period point); and last the 64-bit XXH3 hash
+/// of everything before it, so a damaged or truncated form is refused instead of read as other values.</para>
 /// <para><b>Cost.</b> One pass over the items to build the string table and one to write them; the buffer and the table
 /// are kept for the next output, so a write allocates only the returned array. <b>Thread safety.</b> Not thread-safe:
 /// one per grain activation.</para>
@@ -60,9 +62,10 @@ internal sealed class BucketOutputWriter<TKey>
         }
 
         WriteInt32(output.Forecasts.Length);
-        foreach (ref readonly ForecastUpdate<TKey> u in output.Forecasts.AsSpan())
+        ForecastUpdate<TKey>[] forecasts = output.Forecasts;
+        for (int i = 0; i < forecasts.Length; i++)
         {
-            WriteUpdate(u);
+            WriteUpdate(forecasts[i], i == 0 ? default : forecasts[i - 1]);
         }
 
         WriteInt32(output.Alerts.Length);
@@ -141,21 +144,89 @@ internal sealed class BucketOutputWriter<TKey>
         return index;
     }
 
-    private void WriteUpdate(in ForecastUpdate<TKey> u)
+    /// <summary>
+    /// Writes one update: its key, a 32-bit mask, then each field whose mask bit is clear. A set bit means the field
+    /// holds the same bits as in the previous update (the point at the horizon: as this update's next-period point),
+    /// so repeated periods, times, method names and the usual horizon-1 point cost nothing.
+    /// </summary>
+    private void WriteUpdate(in ForecastUpdate<TKey> u, in ForecastUpdate<TKey> p)
     {
         _codec.Write(u.Key, _buffer);
-        WriteInt64(u.Period);
-        WriteTime(u.PeriodStart);
-        WriteDouble(u.Actual);
-        WriteByte((byte)((u.IsImputed ? BucketOutputReader.Imputed : 0) | (u.IsRestatement ? BucketOutputReader.Restatement : 0)));
-        WriteDouble(u.ForecastForPeriod);
-        WriteDouble(u.Error);
-        WritePoint(u.Next);
-        WritePoint(u.AtHorizon);
-        WriteErrors(u.Errors);
-        WriteInt32(IndexOf(u.Method));
-        WriteInt32(IndexOf(u.Event?.Name));
+        uint mask = 0;
+        UpdateFields(u, p, ref mask, write: false);
+        WriteInt32(unchecked((int)mask));
+        UpdateFields(u, p, ref mask, write: true);
     }
+
+    /// <summary>With <paramref name="write"/> false sets the mask bit of each field equal to its reference; with true writes each field whose bit is clear.</summary>
+    private void UpdateFields(in ForecastUpdate<TKey> u, in ForecastUpdate<TKey> p, ref uint mask, bool write)
+    {
+        Int64(u.Period, p.Period, 0, ref mask, write);
+        Int64(u.PeriodStart.Ticks, p.PeriodStart.Ticks, 1, ref mask, write);
+        Int32(OffsetMinutes(u.PeriodStart), OffsetMinutes(p.PeriodStart), 2, ref mask, write);
+        Double(u.Actual, p.Actual, 3, ref mask, write);
+        Int32(Flags(u), Flags(p), 4, ref mask, write);
+        Double(u.ForecastForPeriod, p.ForecastForPeriod, 5, ref mask, write);
+        Double(u.Error, p.Error, 6, ref mask, write);
+        Point(u.Next, p.Next, 7, ref mask, write);
+        Point(u.AtHorizon, u.Next, 13, ref mask, write);
+        ErrorSummary e = u.Errors, q = p.Errors;
+        Int64(e.ScoredPeriods, q.ScoredPeriods, 19, ref mask, write);
+        Double(e.Rsfe, q.Rsfe, 20, ref mask, write);
+        Double(e.Mad, q.Mad, 21, ref mask, write);
+        Double(e.SmoothedMad, q.SmoothedMad, 22, ref mask, write);
+        Double(e.Mse, q.Mse, 23, ref mask, write);
+        Double(e.Bias, q.Bias, 24, ref mask, write);
+        Double(e.Mape, q.Mape, 25, ref mask, write);
+        Double(e.Mase, q.Mase, 26, ref mask, write);
+        Double(e.TrackingSignal, q.TrackingSignal, 27, ref mask, write);
+        Double(e.TriggSignal, q.TriggSignal, 28, ref mask, write);
+        Double(e.Sigma, q.Sigma, 29, ref mask, write);
+        Int32(IndexOf(u.Method), IndexOf(p.Method), 30, ref mask, write);
+        Int32(IndexOf(u.Event?.Name), IndexOf(p.Event?.Name), 31, ref mask, write);
+    }
+
+    private static int Flags(in ForecastUpdate<TKey> u) =>
+        (u.IsImputed ? BucketOutputReader.Imputed : 0) | (u.IsRestatement ? BucketOutputReader.Restatement : 0);
+
+    private static int OffsetMinutes(DateTimeOffset value) => (int)(value.Offset.Ticks / TimeSpan.TicksPerMinute);
+
+    private void Point(in ForecastPoint u, in ForecastPoint p, int firstBit, ref uint mask, bool write)
+    {
+        Int32(u.Horizon, p.Horizon, firstBit, ref mask, write);
+        Double(u.Value, p.Value, firstBit + 1, ref mask, write);
+        Double(u.Lower, p.Lower, firstBit + 2, ref mask, write);
+        Double(u.Upper, p.Upper, firstBit + 3, ref mask, write);
+        Int32((int)u.Kind, (int)p.Kind, firstBit + 4, ref mask, write);
+        Double(u.Coverage, p.Coverage, firstBit + 5, ref mask, write);
+    }
+
+    private void Int32(int value, int reference, int bit, ref uint mask, bool write)
+    {
+        if (!write)
+        {
+            mask |= value == reference ? 1u << bit : 0;
+        }
+        else if ((mask & (1u << bit)) == 0)
+        {
+            WriteInt32(value);
+        }
+    }
+
+    private void Int64(long value, long reference, int bit, ref uint mask, bool write)
+    {
+        if (!write)
+        {
+            mask |= value == reference ? 1u << bit : 0;
+        }
+        else if ((mask & (1u << bit)) == 0)
+        {
+            WriteInt64(value);
+        }
+    }
+
+    private void Double(double value, double reference, int bit, ref uint mask, bool write) =>
+        Int64(BitConverter.DoubleToInt64Bits(value), BitConverter.DoubleToInt64Bits(reference), bit, ref mask, write);
 
     private void WriteAlert(in DriftAlert<TKey> a)
     {
@@ -176,16 +247,6 @@ internal sealed class BucketOutputWriter<TKey>
         WriteInt32((int)t.Reason);
         WriteInt32((int)t.Watched);
         WriteErrors(a.Errors);
-    }
-
-    private void WritePoint(in ForecastPoint p)
-    {
-        WriteInt32(p.Horizon);
-        WriteDouble(p.Value);
-        WriteDouble(p.Lower);
-        WriteDouble(p.Upper);
-        WriteInt32((int)p.Kind);
-        WriteDouble(p.Coverage);
     }
 
     private void WriteErrors(in ErrorSummary e)
