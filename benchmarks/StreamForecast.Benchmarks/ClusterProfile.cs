@@ -54,7 +54,7 @@ internal static class ClusterProfile
             Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"{store} batch {batch}: {perObservation:F2} µs per observation over {rounds} rounds; process CPU {cpuPerRound:F1} ms per round; {allocated:F0} B allocated per observation (every thread)"));
             if (bench.AverageStoredStateBytes() is > 0 and double stateBytes)
             {
-                Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"bucket state stored per write: {stateBytes:F0} B on average (SQLite rows kept)"));
+                Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"bucket state stored per write: {stateBytes:F0} B on average (the rows the store keeps)"));
             }
         }
         finally
