@@ -37,6 +37,10 @@ internal static class ClusterProfile
 
         try
         {
+            using var process = Process.GetCurrentProcess();
+            process.Refresh();
+            TimeSpan cpuBefore = process.TotalProcessorTime;
+            long allocatedBefore = GC.GetTotalAllocatedBytes(precise: true);
             var watch = Stopwatch.StartNew();
             for (int r = 0; r < rounds; r++)
             {
@@ -44,7 +48,14 @@ internal static class ClusterProfile
             }
 
             double perObservation = watch.Elapsed.TotalMicroseconds / ((double)rounds * 4_000);
-            Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"{store} batch {batch}: {perObservation:F2} µs per observation over {rounds} rounds"));
+            double allocated = (GC.GetTotalAllocatedBytes(precise: true) - allocatedBefore) / ((double)rounds * 4_000);
+            process.Refresh();
+            double cpuPerRound = (process.TotalProcessorTime - cpuBefore).TotalMilliseconds / rounds;
+            Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"{store} batch {batch}: {perObservation:F2} µs per observation over {rounds} rounds; process CPU {cpuPerRound:F1} ms per round; {allocated:F0} B allocated per observation (every thread)"));
+            if (bench.AverageStoredStateBytes() is > 0 and double stateBytes)
+            {
+                Console.WriteLine(string.Create(CultureInfo.InvariantCulture, $"bucket state stored per write: {stateBytes:F0} B on average (the rows the store keeps)"));
+            }
         }
         finally
         {

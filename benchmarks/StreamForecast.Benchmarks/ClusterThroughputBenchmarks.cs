@@ -123,6 +123,36 @@ public class ClusterThroughputBenchmarks
         }
     }
 
+    /// <summary>The average length of the bucket states the SQLite case keeps (each bucket's newest writes); 0 in the other cases.</summary>
+    /// <returns>Bytes per stored state (the grain storage's mark and the serialized state).</returns>
+    internal double AverageStoredStateBytes()
+    {
+        if (_postgres is not null)
+        {
+            // PostgreSQL: the bytes as written, and as kept (pg_column_size: after TOAST compression, if it paid off).
+            using var pg = new Npgsql.NpgsqlConnection(_postgres.ConnectionString(maxPoolSize: 2));
+            pg.Open();
+            using var query = pg.CreateCommand();
+            query.CommandText = "SELECT avg(octet_length(snapshot))::float8, avg(pg_column_size(snapshot))::float8 FROM streamforecast.checkpoints";
+            using var row = query.ExecuteReader();
+            row.Read();
+            Console.WriteLine(string.Create(System.Globalization.CultureInfo.InvariantCulture, $"PostgreSQL: {row.GetDouble(0):F0} B per stored state as written, {row.GetDouble(1):F0} B as kept"));
+            return row.GetDouble(0);
+        }
+
+        string path = Path.Combine(_directory, "buckets.db");
+        if (_directory.Length == 0 || !File.Exists(path))
+        {
+            return 0;
+        }
+
+        using var connection = new Microsoft.Data.Sqlite.SqliteConnection($"Data Source={path};Mode=ReadOnly;Pooling=False");
+        connection.Open();
+        using var command = connection.CreateCommand();
+        command.CommandText = "SELECT avg(snapshot_length) FROM checkpoints";
+        return command.ExecuteScalar() is double average ? average : 0;
+    }
+
     /// <summary>Stops what the setup started.</summary>
     [GlobalCleanup]
     public void Cleanup()

@@ -42,10 +42,16 @@ internal sealed class BucketState<TKey>
     [Id(6)] public long Outputs { get; set; }
 
     /// <summary>
-    /// The newest output, sent again by the next activation in case the silo died before sending it; null when it had
-    /// no live subscriber to go to (nobody could miss it).
+    /// The newest output as stored by earlier versions (serialized field by field); read once when a bucket stored that
+    /// way is activated, then left null. Now kept in <see cref="LastOutputData"/>.
     /// </summary>
     [Id(7)] public BucketOutput<TKey>? LastOutput { get; set; }
+
+    /// <summary>
+    /// The newest output in its compact form (<see cref="BucketOutputWriter{TKey}"/>), sent again by the next activation
+    /// in case the silo died before sending it; null when it had no live subscriber to go to (nobody could miss it).
+    /// </summary>
+    [Id(12)] public byte[]? LastOutputData { get; set; }
 }
 
 /// <summary>One applied call id, in the list form of earlier versions (<see cref="BucketState{TKey}.Applied"/>).</summary>

@@ -22,6 +22,8 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
     private readonly List<ForecastUpdate<TKey>> _forecasts = [];
     private readonly List<DriftAlert<TKey>> _alerts = [];
     private readonly List<SeriesFault<TKey>> _faults = [];
+    private readonly BucketOutputWriter<TKey> _outputWriter;
+    private BucketOutput<TKey>? _lastOutput;
     private CallIdWindow _calls = null!;
     private SeriesSet<TKey> _table = null!;
     private int _bucket;
@@ -39,6 +41,7 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
         _codec = codec;
         _cluster = cluster;
         _map = new BucketMap<TKey>(codec, cluster.BucketCount);
+        _outputWriter = new BucketOutputWriter<TKey>(codec);
         _logger = logger;
     }
 
@@ -79,6 +82,7 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
         StoreCallIds();
 
         _table.RestoreCounters(stored.Counters);
+        LoadLastOutput();
 
         if (_options.IdleCheckInterval > TimeSpan.Zero && _options.IdleCheckInterval != Timeout.InfiniteTimeSpan)
         {
@@ -218,9 +222,11 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
 
         // Stored only for re-sending after a silo dies, so only when someone listens: a subscriber that comes later
         // starts counting after this number (SubscribeAsync's answer) and never asks for it.
-        state.LastOutput = HasLiveSubscriber()
+        _lastOutput = HasLiveSubscriber()
             ? new BucketOutput<TKey>(_bucket, state.Outputs, sequence, [.. _forecasts], [.. _alerts], [.. _faults])
             : null;
+        state.LastOutputData = _lastOutput is null ? null : _outputWriter.Write(_lastOutput);
+        state.LastOutput = null;
         _forecasts.Clear();
         _alerts.Clear();
         _faults.Clear();
@@ -230,7 +236,7 @@ internal sealed partial class SeriesBucketGrain<TKey> : Grain, ISeriesBucketGrai
     /// <summary>Sends the newest stored output to every live subscriber (one-way; receivers drop numbers they have seen).</summary>
     private void Publish()
     {
-        if (_state.State.LastOutput is not { } output)
+        if (_lastOutput is not { } output)
         {
             return;
         }

@@ -88,6 +88,18 @@ public sealed partial class PostgreSqlCheckpointStore
                     snapshot bytea NOT NULL);
                 CREATE INDEX checkpoints_stream_sequence ON {_schema}.checkpoints (stream, sequence);
                 """), cancellationToken).ConfigureAwait(false);
+
+            // Snapshots over about 2 KB are compressed by the server. Its default method (pglz) took a fifth to a
+            // quarter of the Orleans cluster benchmark's time on PostgreSQL; lz4 (PostgreSQL 14 and later, when the
+            // server was built with it) kept nearly as much room at a fraction of the cost. A storage setting only:
+            // the rows read the same, so the schema version stays.
+            bool lz4 = await ScalarAsync(connection, transaction,
+                "SELECT EXISTS (SELECT 1 FROM pg_settings WHERE name = 'default_toast_compression' AND 'lz4' = ANY (enumvals))", cancellationToken).ConfigureAwait(false) is true;
+            if (lz4)
+            {
+                await ScalarAsync(connection, transaction, $"ALTER TABLE {_schema}.checkpoints ALTER COLUMN snapshot SET COMPRESSION lz4", cancellationToken).ConfigureAwait(false);
+            }
+
             await transaction.CommitAsync(cancellationToken).ConfigureAwait(false);
         }
     }

@@ -20,6 +20,24 @@ public sealed partial class PostgreSqlCheckpointStoreTests
     }
 
     [Fact]
+    public async Task SaveAsync_NewSchemaOnAServerWithLz4_SnapshotsAreCompressedWithLz4()
+    {
+        // The throwaway server is PostgreSQL 15 built with lz4 (pg_config --configure lists --with-lz4); pg_attribute's
+        // attcompression is 'l' for lz4, 'p' for pglz, empty for the server's default (PostgreSQL 14 documentation,
+        // "pg_attribute"; from memory). A snapshot of 64 KB of one repeated byte is stored compressed.
+        Assert.Equal(true, await ScalarAsync("SELECT 'lz4' = ANY (enumvals) FROM pg_settings WHERE name = 'default_toast_compression'"));
+        PostgreSqlCheckpointStore store = CreateStore("s");
+        byte[] snapshot = new byte[65_536];
+        Array.Fill(snapshot, (byte)7);
+
+        await store.SaveAsync(snapshot, 1);
+
+        Assert.Equal('l', await ScalarAsync($"SELECT attcompression FROM pg_attribute WHERE attrelid = '{_schema}.checkpoints'::regclass AND attname = 'snapshot'"));
+        Assert.Equal("lz4", await ScalarAsync($"SELECT pg_column_compression(snapshot) FROM {_schema}.checkpoints"));
+        Assert.Equal(snapshot, (await store.LoadLatestAsync())!.Snapshot.ToArray());
+    }
+
+    [Fact]
     public async Task LoadLatestAsync_Location_NamesServerDatabaseSchemaStreamAndRow()
     {
         PostgreSqlCheckpointStore named = CreateStore("bucket #7");
